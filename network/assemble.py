@@ -1,0 +1,296 @@
+"""Assembly of a network graph into a :class:`ThermalSystem`, static condensation of massless
+nodes, and the static (steady) field.
+
+Energy balance at the free nodes (absolute K)::
+
+    C · dT/dt + G · T = Gb · T_b + B · P(t)
+
+Massless nodes (C = 0) are eliminated exactly by static condensation (Schur complement).
+Split the free nodes into capacitive (c) and massless (m) ones; the massless rows are
+algebraic, ``0 = Gb_m T_b + B_m P − G_mc T_c − G_mm T_m``, so
+
+    T_m = −K T_c + M_b T_b + M_p P,   K = G_mm⁻¹ G_mc, M_b = G_mm⁻¹ Gb_m, M_p = G_mm⁻¹ B_m
+
+and the capacitive rows become a proper ODE with the Schur complements
+
+    C_c dT_c/dt + (G_cc − G_cm K) T_c = (Gb_c − G_cm M_b) T_b + (B_c − G_cm M_p) P.
+
+The relation is instantaneous, so the reconstruction of T_m is exact for any P(t), in
+particular piecewise-linear power.  (Guyan, "Reduction of stiffness and mass matrices",
+AIAA J. 3(2), 1965: static condensation of massless degrees of freedom.)
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import cached_property
+
+import networkx as nx
+import numpy as np
+import scipy.sparse as sp
+import scipy.sparse.linalg as spla
+
+from .system import KELVIN_OFFSET, ThermalSystem
+
+__all__ = ["NetworkError", "assemble", "Condensed", "condense", "floating_nodes",
+           "static_field"]
+
+
+class NetworkError(ValueError):
+    """Invalid thermal network; the message names the offending nodes and what is expected."""
+
+
+def _names(items, limit: int = 8) -> str:
+    items = [str(x) for x in items]
+    more = f", ... ({len(items)} in all)" if len(items) > limit else ""
+    return ", ".join(repr(x) for x in items[:limit]) + more
+
+
+def assemble(graph: nx.Graph, inputs: dict) -> ThermalSystem:
+    """Build the :class:`ThermalSystem` of a network graph.
+
+    Parameters
+    ----------
+    graph
+        Node attributes ``capacity`` (J/K), ``label``, ``boundary`` (bool) and, for
+        boundaries, ``temperature_K``; edge attribute ``branches``: list of
+        ``(g W/K, a, Tref K)`` (parallel connections between one pair add).
+    inputs
+        name -> object with ``weights`` (dict node -> weight summing to 1), ``temp_coeff``
+        (1/K) and ``t_ref_K``.
+
+    Raises
+    ------
+    NetworkError
+        No free node; a massless group with no link to a capacitive node or a boundary.
+    """
+    free = [v for v, d in graph.nodes(data=True) if not d["boundary"]]
+    bnds = [v for v, d in graph.nodes(data=True) if d["boundary"]]
+    if not free:
+        raise NetworkError("the network has no free (non-boundary) node: add_node(...) first")
+    n, nb = len(free), len(bnds)
+    index = {v: i for i, v in enumerate(free)}
+    index.update({v: n + b for b, v in enumerate(bnds)})
+
+    C = np.array([graph.nodes[v]["capacity"] for v in free], dtype=np.float64)
+    labels = tuple(str(graph.nodes[v]["label"]) for v in free)
+    T_b = np.array([graph.nodes[v]["temperature_K"] for v in bnds], dtype=np.float64)
+
+    ei, ej, eg, ea, er = [], [], [], [], []
+    for u, v, d in graph.edges(data=True):
+        iu, iv = index[u], index[v]
+        if iu > iv:
+            iu, iv = iv, iu
+        for g, a, tref in d["branches"]:
+            ei.append(iu)
+            ej.append(iv)
+            eg.append(g)
+            ea.append(a)
+            er.append(tref)
+    edge_i = np.array(ei, dtype=np.int64)
+    edge_j = np.array(ej, dtype=np.int64)
+    edge_g = np.array(eg, dtype=np.float64)
+
+    # Free-free conductances: off-diagonal -g, both diagonals +g.  Free-boundary ones: the
+    # free diagonal +g and Gb[i, b] = g.
+    ff = edge_j < n
+    fb = ~ff
+    rows = np.concatenate([edge_i[ff], edge_j[ff], edge_i[ff], edge_j[ff], edge_i[fb]])
+    cols = np.concatenate([edge_j[ff], edge_i[ff], edge_i[ff], edge_j[ff], edge_i[fb]])
+    vals = np.concatenate([-edge_g[ff], -edge_g[ff], edge_g[ff], edge_g[ff], edge_g[fb]])
+    G = sp.csr_matrix((vals, (rows, cols)), shape=(n, n))
+    Gb = sp.csr_matrix((edge_g[fb], (edge_i[fb], edge_j[fb] - n)), shape=(n, nb))
+
+    names = tuple(inputs)
+    bi, bj, bv = [], [], []
+    for j, name in enumerate(names):
+        for node, w in inputs[name].weights.items():
+            bi.append(index[node])
+            bj.append(j)
+            bv.append(w)
+    B = sp.csr_matrix((np.array(bv, dtype=np.float64), (bi, bj)), shape=(n, len(names)))
+    input_tc = np.array([inputs[k].temp_coeff for k in names], dtype=np.float64)
+    input_Tref = np.array([inputs[k].t_ref_K for k in names], dtype=np.float64)
+
+    system = ThermalSystem(
+        node_names=tuple(str(v) for v in free), labels=labels, C=C, G=G, Gb=Gb,
+        boundary_names=tuple(str(v) for v in bnds), T_boundary=T_b, B=B, input_names=names,
+        edge_i=edge_i, edge_j=edge_j, edge_g=edge_g, edge_a=np.array(ea, dtype=np.float64),
+        edge_Tref=np.array(er, dtype=np.float64), input_tc=input_tc, input_Tref=input_Tref)
+    _check_massless(system)
+    return system
+
+
+def _components(system: ThermalSystem, mask: np.ndarray) -> list[np.ndarray]:
+    """Connected groups of the free nodes selected by ``mask`` (through free-free links)."""
+    idx = np.flatnonzero(mask)
+    if idx.size == 0:
+        return []
+    sub = system.G[idx][:, idx]
+    ncomp, lab = sp.csgraph.connected_components(sub, directed=False)
+    return [idx[lab == k] for k in range(ncomp)]
+
+
+def _check_massless(system: ThermalSystem) -> None:
+    """Every group of linked massless nodes must touch a capacitive node or a boundary."""
+    massless = system.C == 0.0
+    if not massless.any():
+        return
+    G = system.G.tocsr()
+    to_boundary = np.asarray(system.Gb.sum(axis=1)).ravel() > 0
+    capacitive = ~massless
+    for group in _components(system, massless):
+        touches_cap = G[group][:, capacitive].nnz > 0
+        if not touches_cap and not to_boundary[group].any():
+            names = [system.node_names[i] for i in group]
+            raise NetworkError(
+                f"massless nodes {_names(names)} (capacity 0) are linked to no node with heat "
+                "capacity and to no boundary, so their temperature is undefined: connect them "
+                "or give one of them a capacity > 0")
+
+
+def floating_nodes(system: ThermalSystem) -> list[list[str]]:
+    """Groups of free nodes with no conduction path to any boundary (names).
+
+    Such a part is adiabatic: under power it heats without bound (linear rise), so it has
+    no steady or periodic steady state; a transient from a given state is still defined.
+    """
+    to_boundary = np.asarray(system.Gb.sum(axis=1)).ravel() > 0
+    out = []
+    for group in _components(system, np.ones(system.n, dtype=bool)):
+        if not to_boundary[group].any():
+            out.append([system.node_names[i] for i in group])
+    return out
+
+
+def static_field(system: ThermalSystem, power: np.ndarray | None = None,
+                 floating: str = "raise") -> np.ndarray:
+    """Steady temperatures, K absolute, shape (n,): solve ``G T = Gb T_b + B P``.
+
+    Solved as a rise over the first boundary temperature T0 (``G (T − T0) = Gb (T_b − T0)
+    + B P``, using G·1 = Gb·1), so equal boundary temperatures give exactly T0 at zero power.
+
+    Parameters
+    ----------
+    power
+        Constant power per input, W, shape (m,); None = zero.
+    floating
+        "raise": a part with no path to a boundary raises :class:`NetworkError` naming its
+        nodes; "nan": its temperatures are NaN.
+    """
+    n = system.n
+    groups = floating_nodes(system)
+    ok = np.ones(n, dtype=bool)
+    if groups:
+        if floating == "raise":
+            flat = [v for g in groups for v in g]
+            raise NetworkError(
+                f"nodes {_names(flat)} have no conduction path to any boundary (an adiabatic "
+                "part): they heat without bound, so there is no steady or periodic steady "
+                "state; connect them to a boundary (add_boundary + connect), or run a "
+                "transient with an initial temperature")
+        for g in groups:
+            ok[[system.index(v) for v in g]] = False
+    T0 = float(system.T_boundary[0]) if system.nb else KELVIN_OFFSET
+    rhs = system.Gb @ (system.T_boundary - T0)
+    if power is not None:
+        rhs = rhs + system.B @ np.asarray(power, dtype=np.float64)
+    out = np.full(n, np.nan)
+    idx = np.flatnonzero(ok)
+    if idx.size:
+        G = system.G.tocsc()[idx][:, idx]
+        rise = spla.spsolve(G.tocsc(), rhs[idx]) if idx.size > 1 else rhs[idx] / G.toarray()[0]
+        out[idx] = T0 + np.atleast_1d(rise)
+    return out
+
+
+@dataclass(frozen=True, eq=False)
+class Condensed:
+    """Dense capacitive-node system after static condensation (see module docstring).
+
+    Shapes: nc capacitive nodes, nm massless ones, nb boundaries, m inputs.
+
+    Parameters
+    ----------
+    system
+        The full system.
+    cap, mass
+        Rows of the capacitive (nc,) and massless (nm,) nodes in ``system``.
+    C
+        Capacities, J/K, (nc,) > 0.
+    G
+        Condensed conductance matrix, W/K, dense (nc, nc), symmetric.
+    Fb
+        Condensed boundary coupling, W/K, dense (nc, nb).
+    B
+        Condensed input map, dense (nc, m).
+    K, Mb, Mp
+        Massless reconstruction T_m = −K T_c + Mb T_b + Mp P: (nm, nc), (nm, nb), (nm, m).
+    """
+
+    system: ThermalSystem
+    cap: np.ndarray
+    mass: np.ndarray
+    C: np.ndarray
+    G: np.ndarray
+    Fb: np.ndarray
+    B: np.ndarray
+    K: np.ndarray
+    Mb: np.ndarray
+    Mp: np.ndarray
+
+    @property
+    def nc(self) -> int:
+        return self.cap.size
+
+    @cached_property
+    def row_of(self) -> np.ndarray:
+        """For each system row: its index among ``cap`` (>= 0) or ``-1 - index`` in ``mass``."""
+        out = np.empty(self.system.n, dtype=np.int64)
+        out[self.cap] = np.arange(self.cap.size)
+        out[self.mass] = -1 - np.arange(self.mass.size)
+        return out
+
+    def full_state(self, Tc: np.ndarray, power: np.ndarray) -> np.ndarray:
+        """Every free node's temperature (n,) K from the capacitive ones and the power."""
+        out = np.empty(self.system.n)
+        out[self.cap] = Tc
+        if self.mass.size:
+            out[self.mass] = -self.K @ Tc + self.Mb @ self.system.T_boundary + self.Mp @ power
+        return out
+
+
+def condense(system: ThermalSystem) -> Condensed:
+    """Eliminate the massless nodes of ``system`` exactly (static condensation)."""
+    C = system.C
+    cap = np.flatnonzero(C > 0)
+    mass = np.flatnonzero(C == 0)
+    if cap.size == 0:
+        raise NetworkError("every node is massless (capacity 0): the network has no "
+                           "dynamics; give at least one node a heat capacity, or use steady()")
+    G = system.G.tocsr()
+    Gb = system.Gb.tocsr()
+    B = system.B.tocsr()
+    Gcc = G[cap][:, cap].toarray()
+    Fb = Gb[cap].toarray()
+    Bc = B[cap].toarray()
+    nm, nb, m = mass.size, system.nb, system.m
+    if nm == 0:
+        K = np.zeros((0, cap.size))
+        Mb = np.zeros((0, nb))
+        Mp = np.zeros((0, m))
+    else:
+        Gmm = G[mass][:, mass].tocsc()
+        Gmc = G[mass][:, cap]
+        lu = spla.splu(Gmm)
+        rhs = np.hstack([Gmc.toarray(), Gb[mass].toarray(), B[mass].toarray()])
+        sol = lu.solve(rhs)
+        K = sol[:, :cap.size]
+        Mb = sol[:, cap.size:cap.size + nb]
+        Mp = sol[:, cap.size + nb:]
+        Gcm = G[cap][:, mass]
+        Gcc = Gcc - Gcm @ K
+        Fb = Fb - Gcm @ Mb
+        Bc = Bc - Gcm @ Mp
+        Gcc = 0.5 * (Gcc + Gcc.T)
+    return Condensed(system=system, cap=cap, mass=mass, C=C[cap].copy(), G=Gcc, Fb=Fb, B=Bc,
+                     K=K, Mb=Mb, Mp=Mp)
