@@ -1,0 +1,340 @@
+"""The ``pulsetherm`` command line.
+
+``pulsetherm <verb> ...`` with the verbs ``run``, ``zth``, ``sweep``, ``size``, ``check`` and
+``materials``.  Only the standard library is imported at module level: numpy, scipy,
+matplotlib and the network modules are imported inside the verb handlers, so
+``pulsetherm --help`` answers at once.
+
+Exit status: 0 success (``check``: every limit holds), 1 ``check`` found a broken limit,
+2 any error (bad scenario, bad option, unreadable file).  Errors print one short message
+naming the key or option, never a traceback, and leave no partial output file behind
+(outputs go to a temporary file in the target folder and are renamed at the end).
+"""
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+import tempfile
+from contextlib import contextmanager
+from pathlib import Path
+from typing import Iterator, Sequence, TextIO
+
+__all__ = ["main", "build_parser", "CliError", "atomic_output"]
+
+#: Printed under every output that judges limits (and put in the JSON ``cautions``).
+CAUTION = ("engineering estimates; verify by measurement; follow the device maker's ratings "
+           "and derating, local codes and licensed practice")
+
+EXIT_OK, EXIT_LIMIT, EXIT_ERROR = 0, 1, 2
+
+
+class CliError(ValueError):
+    """A bad command-line option; the message names the option."""
+
+
+# ======================================================================================
+# Output files: all or nothing
+# ======================================================================================
+@contextmanager
+def atomic_output(path: str | os.PathLike, mode: str = "w") -> Iterator[TextIO]:
+    """Open a temporary file beside ``path``; rename it onto ``path`` only on success.
+
+    An exception inside the ``with`` block removes the temporary file, so a failed command
+    never leaves a partial output.  ``mode`` is ``"w"`` (text) or ``"wb"`` (bytes).
+    """
+    target = Path(path)
+    folder = target.parent if str(target.parent) else Path(".")
+    if not folder.is_dir():
+        raise CliError(f"output {str(path)!r}: folder {str(folder)!r} does not exist")
+    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=folder)
+    try:
+        with os.fdopen(fd, mode, **({} if "b" in mode else {"encoding": "utf-8",
+                                                            "newline": ""})) as fh:
+            yield fh
+        os.replace(tmp, target)
+    except BaseException:
+        try:
+            os.unlink(tmp)
+        except OSError:
+            pass
+        raise
+
+
+# ======================================================================================
+# Parser
+# ======================================================================================
+def build_parser() -> argparse.ArgumentParser:
+    p = argparse.ArgumentParser(
+        prog="pulsetherm",
+        description="Pulsed and periodic thermal analysis of RF boards, devices and lines.",
+        epilog="Exit status: 0 ok, 1 a limit is broken (check), 2 error.")
+    sub = p.add_subparsers(dest="verb", metavar="VERB")
+    sub.required = True
+
+    r = sub.add_parser("run", help="simulate a scenario: probe temperatures, budget, warm-up")
+    r.add_argument("file", help="scenario TOML file")
+    r.add_argument("--json", action="store_true", help="print one JSON object")
+    r.add_argument("--csv", metavar="PATH", help="write the time series to a CSV file")
+    r.add_argument("--plot", metavar="PATH", help="write a plot (.png or .svg)")
+    r.add_argument("--set", action="append", default=[], metavar="PATH=VALUE",
+                   help="change one scenario value (repeatable), e.g. coolant='30 degC'")
+
+    z = sub.add_parser("zth", help="thermal impedance at a probe: Zth, pulsed Zth, "
+                                   "Foster/Cauer, structure function")
+    z.add_argument("file")
+    z.add_argument("--probe", required=True, help="probe name, e.g. pa.junction")
+    z.add_argument("--csv", metavar="PATH", help="write Zth and the pulsed-Zth family")
+    z.add_argument("--plot", metavar="PATH", help="write plots (.png or .svg)")
+    z.add_argument("--json", action="store_true", help="print one JSON object")
+    z.add_argument("--set", action="append", default=[], metavar="PATH=VALUE")
+
+    s = sub.add_parser("sweep", help="grid or Monte Carlo over scenario values")
+    s.add_argument("file")
+    s.add_argument("--vary", action="append", default=[], metavar="PATH=VALUES",
+                   help="grid axis: a list 'a,b,c' or a range 'LO..HI UNIT:N' (repeatable)")
+    s.add_argument("--mc", action="append", default=[], metavar="PATH=DIST:WIDTH",
+                   help="Monte Carlo: normal:SIGMA or uniform:HALFWIDTH (with unit)")
+    s.add_argument("--samples", type=int, default=100, help="Monte Carlo samples (100)")
+    s.add_argument("--seed", type=int, default=0, help="random seed (0)")
+    s.add_argument("--out", metavar="PATH", help="rows: .csv or .jsonl (JSON lines)")
+    s.add_argument("--resume", action="store_true",
+                   help="skip rows already in --out (keyed by the varied values)")
+    s.add_argument("--workers", type=int, default=1, help="worker processes (1)")
+    s.add_argument("--scheduler", metavar="ADDRESS",
+                   help="run on a Dask cluster (needs the [cluster] extra)")
+    s.add_argument("--json", action="store_true", help="print the summary as JSON")
+    s.add_argument("--no-progress", action="store_true", help="no progress bar on stderr")
+    s.add_argument("--set", action="append", default=[], metavar="PATH=VALUE")
+
+    z2 = sub.add_parser("size", help="largest or smallest value that keeps every limit")
+    z2.add_argument("file")
+    z2.add_argument("--adjust", required=True, metavar="PATH", help="scenario value to size")
+    z2.add_argument("--range", required=True, metavar="LO..HI",
+                    help="search range with unit, e.g. '0.1..2 K/W'")
+    z2.add_argument("--margin", default="0 K", help="margin kept below every limit ('10 K')")
+    z2.add_argument("--tol", default=None, help="stop when the bracket is this narrow "
+                                                "(default 1e-4 of the range)")
+    z2.add_argument("--json", action="store_true")
+    z2.add_argument("--set", action="append", default=[], metavar="PATH=VALUE")
+
+    c = sub.add_parser("check", help="exit 0 when every limit holds, 1 otherwise")
+    c.add_argument("file")
+    c.add_argument("--margin", default="0 K", help="margin required below every limit")
+    c.add_argument("--set", action="append", default=[], metavar="PATH=VALUE")
+
+    m = sub.add_parser("materials", help="list the material library or show one material")
+    m.add_argument("name", nargs="?", help="material to show")
+    return p
+
+
+# ======================================================================================
+# Entry point
+# ======================================================================================
+def main(argv: Sequence[str] | None = None) -> int:
+    """Run one command; returns the exit status (0 ok, 1 limit broken, 2 error)."""
+    parser = build_parser()
+    try:
+        args = parser.parse_args(list(sys.argv[1:] if argv is None else argv))
+    except SystemExit as exc:  # argparse: --help (0) or a usage error (2)
+        return int(exc.code or 0) if exc.code in (0, None) else EXIT_ERROR
+    handler = _HANDLERS[args.verb]
+    try:
+        return handler(args)
+    except KeyboardInterrupt:
+        print("pulsetherm: interrupted", file=sys.stderr)
+        return EXIT_ERROR
+    except (ValueError, OSError, KeyError) as exc:
+        # ScenarioError, the modules' own ValueError subclasses, tomllib.TOMLDecodeError
+        # (a ValueError), unreadable files: one short line, no traceback.
+        print(f"pulsetherm {args.verb}: error: {_short(exc)}", file=sys.stderr)
+        return EXIT_ERROR
+
+
+def _short(exc: BaseException) -> str:
+    if isinstance(exc, OSError) and exc.filename is not None:
+        return f"{exc.filename}: {exc.strerror or exc}"
+    text = str(exc.args[0]) if isinstance(exc, KeyError) and exc.args else str(exc)
+    return " ".join(text.split()) if len(text) < 400 else text[:400] + " ..."
+
+
+def _out(text: str = "", file: TextIO | None = None) -> None:
+    print(text, file=file or sys.stdout)
+
+
+# -- materials ---------------------------------------------------------------------------
+def _cmd_materials(args: argparse.Namespace) -> int:
+    from pulsetherm.tui.report import material_table, material_text
+    from pulsetherm.network.materials import default_library
+
+    lib = default_library()
+    if args.name is None:
+        _out(material_table(lib.materials()))
+    else:
+        _out(material_text(lib.get(args.name)))
+    return EXIT_OK
+
+
+def _load(args: argparse.Namespace):
+    from pulsetherm.network.scenario import load
+
+    scn = load(args.file)
+    for item in getattr(args, "set", []) or []:
+        path, sep, value = item.partition("=")
+        if not sep or not path.strip():
+            raise CliError(f"--set {item!r}: expected PATH=VALUE, e.g. coolant=30 degC")
+        scn = scn.with_value(path.strip(), _literal(value.strip()))
+    return scn
+
+
+def _literal(text: str):
+    """A command-line value: a TOML literal when it is one (numbers, true/false, quoted
+    strings, lists), else the plain text (``30 degC``)."""
+    import tomllib
+
+    try:
+        return tomllib.loads(f"v = {text}")["v"]
+    except tomllib.TOMLDecodeError:
+        return text
+
+
+# -- run ---------------------------------------------------------------------------------
+def _cmd_run(args: argparse.Namespace) -> int:
+    import json
+
+    from pulsetherm.network.simulate import simulate
+    from pulsetherm.tui.report import run_table
+
+    scn = _load(args)
+    res = simulate(scn)
+    if args.csv:
+        with atomic_output(args.csv) as fh:
+            res.to_csv(fh)
+    if args.plot:
+        from pulsetherm.tui.plots import plot_run
+        plot_run(res, args.plot)
+    if args.json:
+        _out(json.dumps(res.to_dict(), indent=2, sort_keys=False))
+    else:
+        _out(run_table(res))
+    return EXIT_OK
+
+
+# -- check -------------------------------------------------------------------------------
+def _cmd_check(args: argparse.Namespace) -> int:
+    from pulsetherm.network.scenario import parse_difference
+    from pulsetherm.network.simulate import simulate
+    from pulsetherm.tui.report import check_text
+
+    margin = parse_difference(args.margin, "--margin")
+    scn = _load(args)
+    res = simulate(scn)
+    broken = res.violations(margin)
+    _out(check_text(res, margin, broken))
+    return EXIT_LIMIT if broken else EXIT_OK
+
+
+# -- zth ---------------------------------------------------------------------------------
+def _cmd_zth(args: argparse.Namespace) -> int:
+    import json
+
+    from pulsetherm.network.simulate import thermal_impedance
+    from pulsetherm.tui.report import zth_text
+
+    scn = _load(args)
+    res = thermal_impedance(scn, args.probe)
+    if args.csv:
+        with atomic_output(args.csv) as fh:
+            res.to_csv(fh)
+    if args.plot:
+        from pulsetherm.tui.plots import plot_zth
+        plot_zth(res, args.plot)
+    if args.json:
+        _out(json.dumps(res.to_dict(), indent=2))
+    else:
+        _out(zth_text(res))
+    return EXIT_OK
+
+
+# -- sweep -------------------------------------------------------------------------------
+def _cmd_sweep(args: argparse.Namespace) -> int:
+    import json
+
+    from pulsetherm.network.sweep import plan_sweep, run_sweep
+    from pulsetherm.tui.report import sweep_text
+
+    if not args.vary and not args.mc:
+        raise CliError("sweep: give at least one --vary PATH=VALUES or --mc PATH=DIST:WIDTH")
+    if args.workers < 1:
+        raise CliError(f"--workers {args.workers}: expected a whole number >= 1")
+    if args.resume and not args.out:
+        raise CliError("--resume needs --out PATH (the rows to resume from)")
+    scn = _load(args)
+    plan = plan_sweep(scn, vary=args.vary, mc=args.mc, samples=args.samples, seed=args.seed)
+    progress = None if args.no_progress else _Progress(plan.size)
+    res = run_sweep(plan, out=args.out, resume=args.resume, workers=args.workers,
+                    scheduler=args.scheduler, progress=progress)
+    if progress is not None:
+        progress.close()
+    if args.json:
+        _out(json.dumps(res.to_dict(), indent=2))
+    else:
+        _out(sweep_text(res))
+    return EXIT_OK
+
+
+class _Progress:
+    """A one-line progress bar on stderr (redrawn in place; silent when not a terminal
+    except for the final line)."""
+
+    def __init__(self, total: int, stream: TextIO | None = None) -> None:
+        self.total = max(total, 1)
+        self.done = 0
+        self.stream = stream or sys.stderr
+        self.tty = getattr(self.stream, "isatty", lambda: False)()
+
+    def __call__(self, done: int) -> None:
+        self.done = done
+        if self.tty:
+            width = 30
+            fill = int(width * done / self.total)
+            self.stream.write(f"\r[{'#' * fill}{'.' * (width - fill)}] {done}/{self.total}")
+            self.stream.flush()
+
+    def close(self) -> None:
+        if self.tty:
+            self.stream.write("\n")
+        else:
+            self.stream.write(f"sweep: {self.done}/{self.total} rows\n")
+        self.stream.flush()
+
+
+# -- size --------------------------------------------------------------------------------
+def _cmd_size(args: argparse.Namespace) -> int:
+    import json
+
+    from pulsetherm.network.scenario import parse_difference
+    from pulsetherm.network.sizing import size
+    from pulsetherm.tui.report import sizing_text
+
+    margin = parse_difference(args.margin, "--margin")
+    scn = _load(args)
+    res = size(scn, args.adjust, args.range, margin=margin, tol=args.tol)
+    if args.json:
+        _out(json.dumps(res.to_dict(), indent=2))
+    else:
+        _out(sizing_text(res))
+    return EXIT_OK
+
+
+_HANDLERS = {
+    "run": _cmd_run,
+    "zth": _cmd_zth,
+    "sweep": _cmd_sweep,
+    "size": _cmd_size,
+    "check": _cmd_check,
+    "materials": _cmd_materials,
+}
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

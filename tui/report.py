@@ -1,0 +1,175 @@
+"""Plain-text tables for the command line.
+
+Every function takes result objects (or records) and returns a string; nothing prints here.
+Only the standard library is imported at module level.
+"""
+from __future__ import annotations
+
+import math
+from typing import Any, Iterable, Sequence
+
+__all__ = ["table", "material_table", "material_text", "run_table", "check_text",
+           "zth_text", "sweep_text", "sizing_text"]
+
+
+def _fmt(v: Any, digits: int = 4) -> str:
+    if v is None:
+        return "-"
+    if isinstance(v, bool):
+        return "yes" if v else "no"
+    if isinstance(v, float):
+        if not math.isfinite(v):
+            return str(v)
+        a = abs(v)
+        if v != 0 and (a >= 1e6 or a < 1e-3):
+            return f"{v:.{digits - 1}e}"
+        decimals = 1 if a >= 100 else 2 if a >= 10 else 3
+        return f"{v:.{decimals}f}"
+    return str(v)
+
+
+def table(headers: Sequence[str], rows: Iterable[Sequence[Any]],
+          align: str | None = None) -> str:
+    """Fixed-width table; ``align`` one letter per column, 'l' or 'r' (text left, numbers
+    right by default)."""
+    cells = [[_fmt(v) for v in row] for row in rows]
+    rows_raw = cells
+    n = len(headers)
+    widths = [len(h) for h in headers]
+    for row in rows_raw:
+        for i, c in enumerate(row):
+            widths[i] = max(widths[i], len(c))
+    if align is None:
+        align = "l" + "r" * (n - 1)
+    def line(row: Sequence[str]) -> str:
+        return "  ".join(c.ljust(widths[i]) if align[i] == "l" else c.rjust(widths[i])
+                         for i, c in enumerate(row)).rstrip()
+    out = [line(list(headers)), "  ".join("-" * w for w in widths)]
+    out += [line(r) for r in rows_raw]
+    return "\n".join(out)
+
+
+# -- materials ---------------------------------------------------------------------------
+def material_table(materials: Iterable[Any]) -> str:
+    """One line per material: name, k, in-plane k, rho, c, limit, description."""
+    rows = []
+    for m in materials:
+        rows.append([m.name, float(m.k), float(m.k_inplane), float(m.rho), float(m.c),
+                     None if m.t_max_K is None else float(m.t_max_K) - 273.15,
+                     ("(!) " if m.caution else "") + m.description])
+    return table(["material", "k W/m/K", "k_xy W/m/K", "rho kg/m3", "c J/kg/K",
+                  "limit degC", "description"], rows, align="lrrrrrl")
+
+
+def material_text(m: Any) -> str:
+    """Every field of one material, its source and its caution."""
+    lines = [f"{m.name}: {m.description}",
+             f"  k (through-plane)  {m.k:g} W/(m K)",
+             f"  k (in-plane)       {m.k_inplane:g} W/(m K)",
+             f"  density            {m.rho:g} kg/m3",
+             f"  specific heat      {m.c:g} J/(kg K)"]
+    if m.k_exponent:
+        lines.append(f"  k(T) exponent      {m.k_exponent:g}  (k = k300 (T/300 K)^-a)")
+    if m.t_max_K is not None:
+        lines.append(f"  service limit      {m.t_max_K - 273.15:.1f} degC")
+    lines.append(f"  source: {m.source}")
+    if m.caution:
+        lines.append(f"  CAUTION: {m.caution}")
+    return "\n".join(lines)
+
+
+# -- run / check -------------------------------------------------------------------------
+def _cautions(cautions: Sequence[str]) -> list[str]:
+    return [f"Caution: {c}" for c in cautions]
+
+
+def run_table(res: Any) -> str:
+    """Probe table (peak, mean, minimum, ripple, limit, margin), the budget, warm-up time
+    and the cautions of a :class:`~pulsetherm.network.simulate.RunResult`."""
+    d = res.to_dict()
+    out = [f"scenario: {d['scenario']}",
+           f"ambient/coolant: {d['ambient_C']:.2f} degC", ""]
+    rows = []
+    for name, p in d["probes"].items():
+        rows.append([name, p["peak_C"], p["mean_C"], p["min_C"], p["ripple_K"],
+                     p["limit_C"], p["margin_K"]])
+    out.append(table(["probe", "peak degC", "mean degC", "min degC", "ripple K",
+                      "limit degC", "margin K"], rows))
+    if d["budget"]:
+        out.append("")
+        out.append(f"share of the mean rise at {d.get('budget_probe') or 'the hottest probe'}:")
+        out.append(table(["part", "layer", "share %", "rise K"],
+                         [[b["part"], b["layer"], 100.0 * b["share"], b["rise_K"]]
+                          for b in d["budget"]], align="llrr"))
+    out.append("")
+    out.append(f"warm-up (99 % of the periodic state): {_fmt(d['warmup_s'])} s")
+    if d["cautions"]:
+        out.append("")
+        out += _cautions(d["cautions"])
+    return "\n".join(out)
+
+
+def check_text(res: Any, margin: float, broken: Sequence[str]) -> str:
+    d = res.to_dict()
+    rows = [[name, p["peak_C"], p["limit_C"], p["margin_K"],
+             "BROKEN" if name in broken else "ok"]
+            for name, p in d["probes"].items() if p["limit_C"] is not None]
+    out = [f"scenario: {d['scenario']}  (required margin {margin:g} K)"]
+    if rows:
+        out.append(table(["probe", "peak degC", "limit degC", "margin K", "status"], rows,
+                         align="lrrrl"))
+    else:
+        out.append("no probe has a limit")
+    out.append("")
+    out.append(f"{len(broken)} limit(s) broken: {', '.join(broken)}" if broken
+               else "every limit holds")
+    out += _cautions(d["cautions"])
+    return "\n".join(out)
+
+
+# -- zth ---------------------------------------------------------------------------------
+def zth_text(res: Any) -> str:
+    d = res.to_dict()
+    out = [f"thermal impedance at {d['probe']} (input {d['input']})",
+           f"steady resistance: {d['R_th_K_per_W']:.5g} K/W", "",
+           "Foster network:"]
+    out.append(table(["stage", "R K/W", "tau s"],
+                     [[i + 1, r, t] for i, (r, t) in enumerate(zip(d["foster"]["R"],
+                                                                 d["foster"]["tau"]))]))
+    out += ["", "Cauer ladder:"]
+    out.append(table(["stage", "R K/W", "C J/K"],
+                     [[i + 1, r, c] for i, (r, c) in enumerate(zip(d["cauer"]["R"],
+                                                                 d["cauer"]["C"]))]))
+    return "\n".join(out)
+
+
+# -- sweep / size ------------------------------------------------------------------------
+def sweep_text(res: Any) -> str:
+    d = res.to_dict()
+    out = [f"sweep of {d['scenario']}: {d['rows']} rows ({d['skipped']} resumed, "
+           f"{d['failed']} failed)"]
+    if d.get("out"):
+        out.append(f"rows written to {d['out']}")
+    stats = d.get("percentiles") or {}
+    if stats:
+        qs = list(next(iter(stats.values())).keys())
+        out.append("")
+        out.append(table(["probe peak degC"] + qs,
+                         [[name] + [v[q] for q in qs] for name, v in stats.items()]))
+    if d.get("cautions"):
+        out.append("")
+        out += _cautions(d["cautions"])
+    return "\n".join(out)
+
+
+def sizing_text(res: Any) -> str:
+    d = res.to_dict()
+    out = [f"{d['adjust']}: {d['kind']} value keeping every limit with {d['margin_K']:g} K "
+           f"margin = {d['value_text']}",
+           f"binding probe: {d['binding_probe']} (peak {d['binding_peak_C']:.2f} degC, "
+           f"limit {d['binding_limit_C']:.2f} degC)",
+           f"evaluations: {d['evaluations']}"]
+    if d.get("note"):
+        out.append(d["note"])
+    out += _cautions(d["cautions"])
+    return "\n".join(out)
