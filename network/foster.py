@@ -460,3 +460,169 @@ class FosterFit:
     message: str
     nfev: int = 0
     info: dict = field(default_factory=dict)
+
+
+def _fit_weights(zth: np.ndarray, weight: str) -> np.ndarray:
+    if weight == "relative":
+        floor = 1e-3 * float(np.max(np.abs(zth)))
+        return 1.0 / np.maximum(np.abs(zth), floor)
+    if weight == "absolute":
+        return np.full(zth.shape, 1.0 / float(np.max(np.abs(zth))))
+    raise FosterError(f"weight = {weight!r}: expected 'relative' or 'absolute'")
+
+
+def _merge_runs(R: np.ndarray, tau: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Merge each run of consecutive non-zero grid terms into one term (ΣR kept)."""
+    nz = R > 0.0
+    out_R, out_lt = [], []
+    i, n = 0, R.size
+    while i < n:
+        if not nz[i]:
+            i += 1
+            continue
+        j = i
+        while j + 1 < n and nz[j + 1]:
+            j += 1
+        r = R[i: j + 1]
+        out_R.append(r.sum())
+        out_lt.append(float(r @ np.log(tau[i: j + 1]) / r.sum()))
+        i = j + 1
+    return np.array(out_R), np.exp(out_lt)
+
+
+def _merge_to(R: np.ndarray, tau: np.ndarray, n_terms: int) -> tuple[np.ndarray, np.ndarray]:
+    """Merge the two adjacent terms closest in log τ until at most ``n_terms`` remain."""
+    R, lt = list(R), list(np.log(tau))
+    while len(R) > n_terms:
+        k = int(np.argmin(np.diff(lt)))
+        R[k], lt[k] = _merge_terms(R[k], lt[k], R[k + 1], lt[k + 1])
+        del R[k + 1], lt[k + 1]
+    return np.array(R), np.exp(lt)
+
+
+def fit_foster(t, zth, n_per_decade: int = 6, n_terms: int | None = None,
+               tau_range: tuple[float, float] | None = None, weight: str = "relative",
+               rtol: float = 5e-3, refit: bool = True) -> FosterFit:
+    """Fit a Foster network with non-negative terms to a measured or data-sheet Zth curve.
+
+    Method.  (1) Non-negative least squares for R_j on a fixed grid of time constants,
+    log-spaced at ``n_per_decade`` per decade over ``tau_range`` (default: t_min/10 to
+    3·t_max), minimising Σ_k w_k²·(Σ_j R_j(1 − e^{−t_k/τ_j}) − Z_k)² with relative weights
+    w_k = 1/Z_k.  (2) Each run of adjacent non-zero grid terms is merged into one term
+    (R summed, τ the R-weighted geometric mean); if ``n_terms`` is given the closest pairs
+    are merged further.  (3) Refit of all R_j and τ_j (log-parametrised, so R_j > 0 stays
+    true) by nonlinear least squares.  The better of (1) and (3) within ``rtol`` is returned,
+    preferring the smaller network.
+
+    Parameters
+    ----------
+    t
+        Sample times, s, shape (k,), strictly increasing, > 0 (t = 0 points are ignored).
+    zth
+        Thermal impedance at ``t``, K/W, shape (k,).
+    n_per_decade
+        Grid density of the NNLS stage.
+    n_terms
+        Largest number of terms wanted (None: as many as the merged NNLS solution has).
+    tau_range
+        (τ_min, τ_max) of the grid, s.
+    weight
+        ``"relative"`` (default, residual / Z) or ``"absolute"``.
+    rtol
+        Largest relative residual regarded as a successful fit.
+    refit
+        Run stage (3).
+
+    Returns
+    -------
+    FosterFit
+        Network, residuals (relative to Z at each point, floor 1e-3·max Z), success flag.
+
+    References
+    ----------
+    C. L. Lawson and R. J. Hanson, *Solving Least Squares Problems*, 1974, ch. 23 (NNLS).
+    JEDEC JESD51-14, 2010 (time-constant spectrum of a Zth curve, Foster model).
+    """
+    t = _vector("t", t)
+    z = _vector("zth", zth, t.size)
+    if (t < 0.0).any() or (np.diff(t) <= 0.0).any():
+        raise FosterError("t: expected strictly increasing sample times >= 0 s")
+    keep = t > 0.0
+    t, z = t[keep], z[keep]
+    if t.size < 2:
+        raise FosterError(f"t: expected at least 2 samples at t > 0, got {t.size}")
+    if not (z > 0.0).any():
+        raise FosterError("zth: expected some positive values (K/W)")
+    if int(n_per_decade) < 1:
+        raise FosterError(f"n_per_decade = {n_per_decade!r}: expected an integer >= 1")
+    if n_terms is not None and int(n_terms) < 1:
+        raise FosterError(f"n_terms = {n_terms!r}: expected an integer >= 1 or None")
+    if tau_range is None:
+        lo, hi = t[0] / 10.0, 3.0 * t[-1]
+    else:
+        lo, hi = _positive("tau_range[0]", tau_range[0]), _positive("tau_range[1]", tau_range[1])
+        if hi <= lo:
+            raise FosterError(f"tau_range = {tau_range!r}: expected (tau_min, tau_max), min < max")
+    w = _fit_weights(z, weight)
+    nd = np.log10(hi / lo)
+    grid = np.logspace(np.log10(lo), np.log10(hi), max(int(np.ceil(nd * n_per_decade)) + 1, 2))
+
+    # (1) NNLS on the grid, columns scaled to unit norm for conditioning
+    M = -np.expm1(-t[:, None] / grid) * w[:, None]
+    cn = np.linalg.norm(M, axis=0)
+    cn[cn == 0.0] = 1.0
+    x, _ = nnls(M / cn, z * w, maxiter=50 * grid.size)
+    R_grid = x / cn
+
+    def resid(f: Foster) -> np.ndarray:
+        return (f.zth(t) - z) * w
+
+    candidates = []
+    if (R_grid > 0).any():
+        nz = R_grid > 0.0
+        f_nnls = Foster(R_grid[nz], grid[nz])
+        candidates.append(("nnls", f_nnls))
+        # (2) merge runs, then down to n_terms
+        Rm, tm = _merge_runs(R_grid, grid)
+        if n_terms is not None and Rm.size > n_terms:
+            Rm, tm = _merge_to(Rm, tm, int(n_terms))
+        f0 = Foster(Rm, tm)
+        candidates.append(("merged", f0))
+    else:
+        raise FosterError("zth: the NNLS fit found no positive term; check the data")
+    nfev = 0
+    if refit:
+        # (3) refit log R, log τ of the merged terms
+        p0 = np.concatenate([np.log(f0.R), np.log(f0.tau)])
+        m = f0.n
+
+        def fun(p):
+            return (-np.expm1(-t[:, None] / np.exp(p[m:])) @ np.exp(p[:m]) - z) * w
+
+        def jac(p):
+            R, tau = np.exp(p[:m]), np.exp(p[m:])
+            x_ = t[:, None] / tau
+            e = np.exp(-x_)
+            return np.hstack([-np.expm1(-x_) * R, -e * x_ * R]) * w[:, None]
+
+        sol = least_squares(fun, p0, jac=jac, method="trf", x_scale="jac", max_nfev=200 * (2 * m + 1))
+        nfev = int(sol.nfev)
+        if np.all(np.isfinite(sol.x)):
+            candidates.append(("refit", Foster(np.exp(sol.x[:m]), np.exp(sol.x[m:]))))
+
+    scored = []
+    for name, f in candidates:
+        r = resid(f)
+        scored.append((name, f, float(np.sqrt(np.mean(r * r))), float(np.max(np.abs(r)))))
+    ok = [s for s in scored if s[3] <= rtol and (n_terms is None or s[1].n <= n_terms)]
+    if ok:
+        name, f, rms, mx = min(ok, key=lambda s: (s[1].n, s[3]))
+    else:
+        pool = [s for s in scored if n_terms is None or s[1].n <= n_terms] or scored
+        name, f, rms, mx = min(pool, key=lambda s: s[3])
+    success = mx <= rtol
+    msg = (f"{name}: {f.n} terms, max relative residual {mx:.3g}"
+           + ("" if success else f" exceeds rtol {rtol:g}"))
+    return FosterFit(f, rms, mx, success, msg, nfev,
+                     {"stage": name, "grid_terms": int(grid.size),
+                      "candidates": {s[0]: (s[1].n, s[3]) for s in scored}})
