@@ -1,0 +1,400 @@
+"""Keyed power: constant level, pulse trains, bursts of pulses, staggered repetition intervals.
+
+Pulse shape and timing conventions (all classes here)
+-----------------------------------------------------
+* A pulse is trapezoidal: it leaves the ``idle`` (quiescent) power at the start of its
+  repetition interval, ramps linearly to ``peak`` in ``rise`` seconds, stays there, ramps
+  back to ``idle`` in ``fall`` seconds, and stays at ``idle`` until the next pulse.
+* ``width`` is measured between the half-amplitude points of the two ramps (the usual way
+  of stating a pulse duration; common practice, no source).  The flat top therefore lasts
+  ``width - (rise + fall)/2`` and the whole pulse ``width + (rise + fall)/2``.  With this
+  convention the energy of a pulse above idle is exactly ``(peak - idle)*width`` whatever
+  the ramps, so every average below is exact:
+
+      P_avg = peak*D + idle*(1 - D),   D = width/period = width*PRF
+
+  (radar duty cycle D = tau*PRF and P_avg = P_peak*tau*PRF: M. I. Skolnik, *Introduction
+  to Radar Systems*, ch. 1.)
+* All times in s, powers in W (SI floats; unit strings are parsed elsewhere).
+
+Compilation is vectorised: one pulse is four candidate segments (rise, top, fall, idle);
+all pulses of a period are laid out at once with numpy, zero-length segments dropped.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import InitVar, dataclass
+from numbers import Integral, Real
+
+import numpy as np
+
+from .base import WaveformBase, check_fraction, check_power, check_time, merge_segments
+from .canonical import TIME_RTOL, Piecewise, WaveformError
+
+__all__ = ["Constant", "PulseTrain", "Burst", "Stagger", "pulse_segments"]
+
+
+def pulse_segments(starts: np.ndarray, ends: np.ndarray, widths: np.ndarray, *, peak: float,
+                   idle: float, rise: float, fall: float, span: float) -> Piecewise:
+    """Lay trapezoidal pulses into one periodic canonical form (vectorised).
+
+    Parameters
+    ----------
+    starts
+        (n,) s, start of each pulse's repetition interval; ``starts[0] == 0``, increasing.
+    ends
+        (n,) s, end of each interval (the next start; the last one is ``span``).
+    widths
+        (n,) s, half-amplitude width of each pulse.
+    peak, idle, rise, fall
+        Pulse top and quiescent power (W) and ramp times (s), shared by all pulses.
+    span
+        The period, s.
+
+    Returns
+    -------
+    Piecewise
+        Periodic, at most ``4 n`` segments.  Callers validate that every pulse fits its
+        interval (``widths + (rise + fall)/2 <= ends - starts``) beforehand.
+    """
+    n = starts.size
+    half = 0.5 * (rise + fall)
+    flat = widths - half
+    off = (ends - starts) - widths - half
+    lengths = np.empty((n, 4))
+    lengths[:, 0] = rise
+    lengths[:, 1] = flat
+    lengths[:, 2] = fall
+    lengths[:, 3] = off
+    # offsets of the four candidate segments inside each interval
+    offs = np.zeros((n, 4))
+    offs[:, 1] = rise
+    offs[:, 2] = rise + flat
+    offs[:, 3] = rise + flat + fall
+    seg_start = starts[:, None] + offs
+    level = np.broadcast_to(np.array([idle, peak, peak, idle]), (n, 4))
+    up = (peak - idle) / rise if rise > 0 else 0.0
+    down = (idle - peak) / fall if fall > 0 else 0.0
+    slope = np.broadcast_to(np.array([up, 0.0, down, 0.0]), (n, 4))
+    # segments shorter than the time resolution are dropped (their neighbours absorb them)
+    keep = lengths > TIME_RTOL * span
+    edges = np.append(seg_start[keep], span)
+    edges[0] = 0.0
+    return merge_segments(Piecewise(edges, level[keep], slope[keep], True))
+
+
+def _check_ramps(owner: str, rise: float, fall: float, widths: np.ndarray,
+                 field: str = "width") -> None:
+    """Ramps must fit inside the half-amplitude width: (rise + fall)/2 <= width."""
+    half = 0.5 * (rise + fall)
+    short = widths < half * (1 - 1e-12)
+    if short.any():
+        i = int(np.flatnonzero(short)[0])
+        name = field if widths.size == 1 else f"{field}[{i}]"
+        raise WaveformError(
+            f"{owner}.{name} = {float(widths[i])!r} s: expected at least (rise + fall)/2 = {half!r} s "
+            "(width is measured at half amplitude, so the ramps must fit inside it)")
+
+
+def _check_fit(owner: str, intervals: np.ndarray, widths: np.ndarray, half: float,
+               field: str) -> None:
+    """Each pulse (width + ramps/2) must fit its repetition interval."""
+    need = widths + half
+    over = intervals < need - TIME_RTOL * 10 * float(intervals.sum())
+    if over.any():
+        i = int(np.flatnonzero(over)[0])
+        name = field if intervals.size == 1 else f"{field}[{i}]"
+        wname = "width" if widths.size == 1 else f"widths[{i}]"
+        raise WaveformError(
+            f"{owner}.{name} = {float(intervals[i])!r} s: expected at least {wname} + (rise + fall)/2 "
+            f"= {float(need[i])!r} s (the pulse is longer than its repetition interval)")
+
+
+@dataclass(frozen=True)
+class Constant(WaveformBase):
+    """A constant power.
+
+    Parameters
+    ----------
+    power
+        W, finite, >= 0.
+    period
+        Optional nominal period, s.  A constant fits any period (``Piecewise.is_constant``);
+        without one it compiles with a 1 s placeholder and ``period`` reads None.
+    """
+
+    power: float
+    period: float | None = None
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "power", check_power("Constant.power", self.power))
+        if self.period is not None:
+            object.__setattr__(self, "period", check_time("Constant.period", self.period))
+
+    def _build(self) -> Piecewise:
+        return Piecewise([0.0, 1.0 if self.period is None else self.period], [self.power])
+
+    @property
+    def duty(self) -> float:
+        """1 when the power is above zero, else 0."""
+        return 1.0 if self.power > 0 else 0.0
+
+
+@dataclass(frozen=True)
+class PulseTrain(WaveformBase):
+    """A periodic train of identical pulses.
+
+    Parameters
+    ----------
+    peak
+        Power at the pulse top, W (finite, >= idle).
+    width
+        Pulse width at half amplitude, s (> 0).
+    period
+        Pulse repetition interval, s.  Give exactly one of ``period``, ``prf`` (Hz) and
+        ``duty`` (in (0, 1]; period = width/duty).  The result is stored as ``period``;
+        ``prf`` and ``duty`` are then read-only attributes (to change the PRF with
+        ``dataclasses.replace`` pass ``period=None, prf=...``).
+    idle
+        Quiescent power between pulses, W (>= 0).
+    rise, fall
+        Linear ramp times, s (>= 0); ``(rise + fall)/2 <= width`` and
+        ``width + (rise + fall)/2 <= period``.
+
+    Notes
+    -----
+    ``duty`` is the nominal duty D = width/period = width·PRF, and
+    ``mean == peak*D + idle*(1 - D)`` exactly, ramps or not (Skolnik, *Introduction to
+    Radar Systems*, ch. 1, for D = τ·PRF and P_avg = P_peak·τ·PRF).
+    """
+
+    peak: float
+    width: float
+    period: float | None = None
+    prf: InitVar[float | None] = None
+    duty: InitVar[float | None] = None
+    idle: float = 0.0
+    rise: float = 0.0
+    fall: float = 0.0
+
+    def __post_init__(self, prf, duty) -> None:
+        peak = check_power("PulseTrain.peak", self.peak)
+        idle = check_power("PulseTrain.idle", self.idle)
+        if idle > peak:
+            raise WaveformError(f"PulseTrain.idle = {self.idle!r} W: expected at most "
+                                f"peak = {peak!r} W")
+        width = check_time("PulseTrain.width", self.width)
+        rise = check_time("PulseTrain.rise", self.rise, positive=False)
+        fall = check_time("PulseTrain.fall", self.fall, positive=False)
+        given = [k for k, v in (("period", self.period), ("prf", prf), ("duty", duty))
+                 if v is not None]
+        if len(given) != 1:
+            raise WaveformError(
+                f"PulseTrain: got {given or 'none'} of period/prf/duty: expected exactly one "
+                "(period in s, prf in Hz, or duty in (0, 1] with the width)")
+        if self.period is not None:
+            period = check_time("PulseTrain.period", self.period)
+        elif prf is not None:
+            period = 1.0 / check_time("PulseTrain.prf", prf)  # positive number, here in Hz
+            if not math.isfinite(period):
+                raise WaveformError(f"PulseTrain.prf = {prf!r} Hz: expected a finite PRF > 0")
+        else:
+            period = width / check_fraction("PulseTrain.duty", duty)
+        if width > period * (1 + 1e-12):
+            raise WaveformError(f"PulseTrain.width = {width!r} s: expected at most the "
+                                f"period = {period!r} s (duty <= 1)")
+        _check_ramps("PulseTrain", rise, fall, np.array([width]))
+        _check_fit("PulseTrain", np.array([period]), np.array([width]), 0.5 * (rise + fall),
+                   "period")
+        for name, v in (("peak", peak), ("idle", idle), ("width", width), ("rise", rise),
+                        ("fall", fall), ("period", period)):
+            object.__setattr__(self, name, v)
+        # read-only derived attributes (the InitVar names)
+        object.__setattr__(self, "prf", 1.0 / period)
+        object.__setattr__(self, "duty", min(width / period, 1.0))
+
+    def _build(self) -> Piecewise:
+        return pulse_segments(np.zeros(1), np.array([self.period]), np.array([self.width]),
+                              peak=self.peak, idle=self.idle, rise=self.rise, fall=self.fall,
+                              span=self.period)
+
+    @property
+    def pulse_energy(self) -> float:
+        """Energy of one pulse above idle, J: (peak - idle)*width."""
+        return (self.peak - self.idle) * self.width
+
+
+def _whole(field: str, value, low: int = 1) -> int:
+    if isinstance(value, bool) or not isinstance(value, (Integral, np.integer)):
+        if isinstance(value, float) and value.is_integer():
+            value = int(value)
+        else:
+            raise WaveformError(f"{field} = {value!r}: expected a whole number >= {low}")
+    if value < low:
+        raise WaveformError(f"{field} = {value!r}: expected a whole number >= {low}"
+                            + (" (a burst needs at least one pulse)" if low == 1 else ""))
+    return int(value)
+
+
+@dataclass(frozen=True)
+class Burst(WaveformBase):
+    """``pulses`` pulses of ``train``, repeated every burst ``period``.
+
+    Parameters
+    ----------
+    train
+        The pulse shape and repetition interval inside the burst.
+    pulses
+        Number of pulses in a burst, N >= 1.
+    period
+        Burst repetition period, s.  Give exactly one of ``period`` and ``gap``.
+    gap
+        Idle time from the end of the N-th pulse (the end of its fall ramp) to the start of
+        the next burst, s (>= 0):  ``period = (N - 1)*T + width + (rise + fall)/2 + gap``,
+        T the train's period.  Stored as ``period``; ``gap`` is then a read-only attribute.
+
+    Notes
+    -----
+    Nominal duty D = N*width/period and ``mean == peak*D + idle*(1 - D)`` exactly.
+    """
+
+    train: PulseTrain
+    pulses: int
+    period: float | None = None
+    gap: InitVar[float | None] = None
+
+    def __post_init__(self, gap) -> None:
+        if not isinstance(self.train, PulseTrain):
+            raise WaveformError(f"Burst.train = {self.train!r}: expected a PulseTrain")
+        n = _whole("Burst.pulses", self.pulses)
+        tr = self.train
+        last_end = (n - 1) * tr.period + tr.width + 0.5 * (tr.rise + tr.fall)
+        if (self.period is None) == (gap is None):
+            raise WaveformError("Burst: expected exactly one of period (burst period, s) and "
+                                f"gap (idle time after the last pulse, s); got period = "
+                                f"{self.period!r}, gap = {gap!r}")
+        if gap is not None:
+            period = last_end + check_time("Burst.gap", gap, positive=False)
+        else:
+            period = check_time("Burst.period", self.period)
+            if period < last_end * (1 - 1e-12):
+                raise WaveformError(
+                    f"Burst.period = {self.period!r} s: expected at least {last_end!r} s, the "
+                    f"end of the last of {n} pulses ((N - 1)*T + width + (rise + fall)/2)")
+        object.__setattr__(self, "pulses", n)
+        object.__setattr__(self, "period", period)
+        object.__setattr__(self, "gap", max(period - last_end, 0.0))
+
+    def _build(self) -> Piecewise:
+        tr, n = self.train, self.pulses
+        starts = np.arange(n) * tr.period
+        ends = np.append(starts[1:], self.period)
+        return pulse_segments(starts, ends, np.full(n, tr.width), peak=tr.peak, idle=tr.idle,
+                              rise=tr.rise, fall=tr.fall, span=self.period)
+
+    @property
+    def duty(self) -> float:
+        """Nominal duty N*width/period."""
+        return min(self.pulses * self.train.width / self.period, 1.0)
+
+
+def _tuple(field: str, values) -> tuple[float, ...]:
+    """A 1-D sequence of numbers as a tuple of floats (finiteness checked by the caller)."""
+    if isinstance(values, (str, bytes)) or not hasattr(values, "__len__"):
+        raise WaveformError(f"{field} = {values!r}: expected a sequence of numbers")
+    arr = np.asarray(values)
+    if arr.ndim != 1:
+        raise WaveformError(f"{field}: expected a 1-D sequence of numbers, got shape "
+                            f"{arr.shape}")
+    if arr.size and arr.dtype.kind not in "iuf":
+        for i, v in enumerate(values):
+            if isinstance(v, bool) or not isinstance(v, (Real, np.integer, np.floating)):
+                raise WaveformError(f"{field}[{i}] = {v!r}: expected a number")
+    return tuple(arr.astype(np.float64).tolist())
+
+
+@dataclass(frozen=True)
+class Stagger(WaveformBase):
+    """A repeating cycle of different pulse repetition intervals (staggered PRF).
+
+    Parameters
+    ----------
+    peak
+        Pulse top power, W.
+    intervals
+        Repetition intervals of one cycle, s; pulse k starts at sum(intervals[:k]) and the
+        period is sum(intervals).
+    widths
+        Half-amplitude pulse width, s: one number for all pulses or one per interval.
+    idle, rise, fall
+        As for :class:`PulseTrain`.
+
+    Notes
+    -----
+    Nominal duty D = sum(widths)/period and ``mean == peak*D + idle*(1 - D)`` exactly.
+    """
+
+    peak: float
+    intervals: tuple[float, ...]
+    widths: float | tuple[float, ...]
+    idle: float = 0.0
+    rise: float = 0.0
+    fall: float = 0.0
+
+    def __post_init__(self) -> None:
+        peak = check_power("Stagger.peak", self.peak)
+        idle = check_power("Stagger.idle", self.idle)
+        if idle > peak:
+            raise WaveformError(f"Stagger.idle = {self.idle!r} W: expected at most "
+                                f"peak = {peak!r} W")
+        rise = check_time("Stagger.rise", self.rise, positive=False)
+        fall = check_time("Stagger.fall", self.fall, positive=False)
+        intervals = _tuple("Stagger.intervals", self.intervals)
+        iv = np.array(intervals)
+        if iv.size == 0:
+            raise WaveformError("Stagger.intervals = (): expected at least one repetition "
+                                "interval in s")
+        bad = ~np.isfinite(iv) | (iv <= 0)
+        if bad.any():
+            i = int(np.flatnonzero(bad)[0])
+            raise WaveformError(f"Stagger.intervals[{i}] = {float(iv[i])!r}: expected a finite "
+                                "time > 0 s")
+        if np.ndim(self.widths) == 0:
+            widths = check_time("Stagger.widths", self.widths)
+            wv = np.full(iv.size, widths)
+        else:
+            widths = _tuple("Stagger.widths", self.widths)
+            wv = np.array(widths)
+            if wv.size != iv.size:
+                raise WaveformError(f"Stagger.widths: expected one width or {iv.size} widths "
+                                    f"(one per interval), got {wv.size}")
+            bad = ~np.isfinite(wv) | (wv <= 0)
+            if bad.any():
+                i = int(np.flatnonzero(bad)[0])
+                raise WaveformError(f"Stagger.widths[{i}] = {float(wv[i])!r}: expected a finite "
+                                    "time > 0 s")
+        _check_ramps("Stagger", rise, fall, wv if np.ndim(widths) else wv[:1], "widths")
+        _check_fit("Stagger", iv, wv, 0.5 * (rise + fall), "intervals")
+        for name, v in (("peak", peak), ("idle", idle), ("rise", rise), ("fall", fall),
+                        ("intervals", intervals), ("widths", widths)):
+            object.__setattr__(self, name, v)
+
+    def _arrays(self) -> tuple[np.ndarray, np.ndarray]:
+        iv = np.array(self.intervals)
+        wv = np.full(iv.size, self.widths) if np.ndim(self.widths) == 0 else np.array(self.widths)
+        return iv, wv
+
+    def _build(self) -> Piecewise:
+        iv, wv = self._arrays()
+        ends = np.cumsum(iv)
+        span = float(ends[-1])
+        starts = np.concatenate([[0.0], ends[:-1]])
+        ends[-1] = span
+        return pulse_segments(starts, ends, wv, peak=self.peak, idle=self.idle,
+                              rise=self.rise, fall=self.fall, span=span)
+
+    @property
+    def duty(self) -> float:
+        """Nominal duty sum(widths)/period."""
+        iv, wv = self._arrays()
+        return min(float(wv.sum() / iv.sum()), 1.0)
