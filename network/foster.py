@@ -35,6 +35,8 @@ from scipy.optimize import least_squares, nnls
 
 __all__ = ["Foster", "Cauer", "FosterError", "FosterFit", "fit_foster"]
 
+#: Negative driving-point terms down to -this·Σ|R| are rounding and are set to zero.
+NEGATIVE_R_RTOL = 1e-12
 #: Two Foster time constants closer than this (relative) are one term for the Cauer conversion.
 TAU_MERGE_RTOL = 1e-9
 
@@ -84,7 +86,8 @@ class Foster:
     Parameters
     ----------
     R
-        Term resistances, K/W, shape (n,).  Must be >= 0 unless ``transfer`` is true.
+        Term resistances, K/W, shape (n,).  Must be >= 0 unless ``transfer`` is true
+        (terms in [−1e-12·Σ|R|, 0) are taken as rounding and set to 0).
     tau
         Time constants, s, shape (n,), > 0.
     transfer
@@ -106,6 +109,9 @@ class Foster:
         if (tau <= 0.0).any():
             i = int(np.flatnonzero(tau <= 0.0)[0])
             raise FosterError(f"tau[{i}] = {tau[i]!r}: expected a time constant > 0 s")
+        if not self.transfer:
+            # rounding from a modal decomposition may leave -1e-17-sized terms: those are zero
+            R[(R < 0.0) & (R >= -NEGATIVE_R_RTOL * np.abs(R).sum())] = 0.0
         if not self.transfer and (R < 0.0).any():
             i = int(np.flatnonzero(R < 0.0)[0])
             raise FosterError(f"R[{i}] = {R[i]!r}: expected >= 0 K/W for a driving-point "

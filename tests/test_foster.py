@@ -228,6 +228,13 @@ def test_foster_validation(kwargs, field):
         Foster(**kwargs)
 
 
+def test_rounding_negative_terms_are_zero():
+    """Terms of -1e-15·ΣR (rounding of a modal decomposition) are taken as zero."""
+    f = Foster([1.0, -1e-15, 2.0], [1e-3, 1e-2, 1e-1])
+    np.testing.assert_array_equal(f.R, [1.0, 0.0, 2.0])
+    assert f.to_cauer().n == 2
+
+
 def test_transfer_impedance_negative_terms():
     """A transfer impedance may have negative terms but has no Cauer ladder."""
     f = Foster([1.0, -0.2], [1e-3, 1e-1], transfer=True)
