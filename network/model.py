@@ -417,24 +417,55 @@ class ThermalNetwork:
     def _bad_node(self, name):
         raise NetworkError(f"unknown free node {name!r}")
 
-    def periodic(self, waveforms: Mapping, probes=None, method="auto"):
+    def periodic(self, waveforms: Mapping, probes=None, method="auto",
+                 warmup_fraction: float = 0.99):
         """Periodic steady state under periodic waveforms on their common period.
 
-        Returns a :class:`~pulsetherm.network.result.Response` (degC at the probes; peak,
-        minimum, exact period mean, ripple; warm-up time from ambient when the solver gives
-        it).
+        Returns a :class:`~pulsetherm.network.result.Response` (degC at the probes; exact
+        peak, minimum, period mean and ripple; warm-up time from ambient to
+        ``warmup_fraction`` of the peak rise, per probe, when the solver provides it).
         """
-        from .result import Response
+        from .result import Response, energy_of
 
         sys_ = self.system()
         pieces = self._power_pieces(waveforms)
         edges, level, slope = align(pieces)
-        static_field(sys_)  # raises for adiabatic parts, naming them
+        ambient = static_field(sys_)  # raises for adiabatic parts, naming them
         rows = self._probe_rows(probes)
         solver = self._solver(method)
         raw = solver.periodic(edges, level, slope, rows)
-        return Response.from_raw(raw, sys_, rows, edges, level, slope, periodic=True,
-                                 method=getattr(solver, "name", str(method)))
+        T = float(edges[-1])
+        e_in = float(sum(energy_of(p, T) for p in _tiled(pieces, edges)))
+        res = Response.from_raw(raw, sys_, rows, periodic=True,
+                                method=getattr(solver, "name", str(method)), energy_in=e_in,
+                                span=T, ambient_K=ambient)
+        if hasattr(solver, "warmup_crossing") and rows.size <= 16:
+            res.warmup_s = {}
+            for j, r in enumerate(rows):
+                rise = raw.theta[:, j] - ambient[r]
+                target = warmup_fraction * float(rise.max())
+                res.warmup_s[sys_.node_names[r]] = solver.warmup_crossing(
+                    edges, level, slope, int(r), target, raw.t, rise)
+        return res
+
+    def warmup_time(self, waveforms: Mapping, node: str, fraction: float = 0.99,
+                    initial=None) -> float:
+        """Time (s) from ``initial`` (None: ambient) until the rise at ``node`` first reaches
+        ``fraction`` of its periodic-steady-state peak rise (exact, whole periods jumped)."""
+        fr = _finite("fraction", fraction, "a fraction in (0, 1]", 0.0, True)
+        if fr > 1:
+            raise NetworkError(f"fraction = {fraction!r}: expected a fraction in (0, 1]")
+        res = self.periodic(waveforms, probes=[node], method="modal", warmup_fraction=fr)
+        if initial is None:
+            return float(res.warmup_s[node])
+        sys_ = self.system()
+        solver = self._solver("modal")
+        edges, level, slope = align(self._power_pieces(waveforms))
+        r = sys_.index(node)
+        amb = static_field(sys_)
+        rise = res.T(node) + KELVIN_OFFSET - amb[r]
+        return solver.warmup_crossing(edges, level, slope, r, fr * float(rise.max()), res.t,
+                                      rise, initial=self._initial_state(initial))
 
     def transient(self, waveforms: Mapping, duration: float | None = None,
                   periods: int | None = None, initial=None, probes=None, method="auto"):
@@ -443,9 +474,9 @@ class ThermalNetwork:
         periods of the (periodic) waveforms.
 
         Long runs of identical periods are jumped exactly by the modal solver (per-period
-        propagator); only a selection of periods is sampled.
+        propagator); only a selection of periods is sampled.  Means are exact over the run.
         """
-        from .result import Response
+        from .result import Response, energy_of
 
         sys_ = self.system()
         pieces = self._power_pieces(waveforms)
@@ -457,9 +488,10 @@ class ThermalNetwork:
         solver = self._solver(method)
         name = getattr(solver, "name", str(method))
         all_periodic = all(p.periodic for p in pieces)
+        edges = None
         if periods is not None:
-            n_per = int(periods)
-            if n_per != periods or n_per < 1:
+            n_per = int(periods) if float(periods) == int(periods) else -1
+            if n_per < 1:
                 raise NetworkError(f"transient: periods = {periods!r}; expected a whole number >= 1")
             if not all_periodic:
                 raise NetworkError("transient: periods= needs periodic waveforms; a single-shot "
@@ -476,50 +508,85 @@ class ThermalNetwork:
                 rest = d - reps * T
                 if rest <= 1e-12 * d:
                     rest = 0.0
-        if reps >= 1 and hasattr(solver, "transient_periods"):
-            raw = solver.transient_periods(edges, level, slope, x0, rows, reps)
-        elif reps >= 1:
-            e2, l2, s2 = align(pieces, reps * edges[-1])
-            raw = solver.transient(e2, l2, s2, x0, rows)
-        else:
-            raw = None
-        total_edges = None
+                if reps < 2:
+                    reps, rest = 0, d
+        raw = None
+        t0 = 0.0
+        if reps >= 1:
+            t0 = reps * float(edges[-1])
+            if hasattr(solver, "transient_periods"):
+                raw = solver.transient_periods(edges, level, slope, x0, rows, reps)
+            else:
+                e2, l2, s2 = align(pieces, t0)
+                raw = solver.transient(e2, l2, s2, x0, rows)
         if rest > 0:
-            # The remainder after whole periods (or the whole single-shot run).
-            t0 = reps * edges[-1] if reps >= 1 else 0.0
-            shifted = [_shift(p, t0) for p in pieces] if t0 > 0 else pieces
-            e3, l3, s3 = align(shifted, rest)
+            # the remainder after whole periods (or the whole single-shot run)
+            e3, l3, s3 = align(pieces, rest)
             start = raw.state_end if raw is not None else x0
             raw_rest = solver.transient(e3, l3, s3, start, rows)
             raw = raw_rest if raw is None else _join(raw, raw_rest, t0)
-            total_edges = (t0, e3, l3, s3)
-        return Response.from_raw(raw, sys_, rows, None, None, None, periodic=False, method=name,
-                                 pieces=pieces, duration=(reps * edges[-1] if reps else 0.0)
-                                 + rest, extra=total_edges)
+        span = t0 + rest
+        e_in = float(sum(energy_of(p, span) for p in pieces))
+        ambient = static_field(sys_, floating="nan")
+        return Response.from_raw(raw, sys_, rows, periodic=False, method=name, energy_in=e_in,
+                                 span=span, ambient_K=ambient)
+
+    # -- impedances -------------------------------------------------------------------
+    def _zth_args(self, node: str, input: str | None):
+        from .modal import ModalSolver
+
+        sys_ = self.system()
+        if not sys_.input_names:
+            raise NetworkError("the network has no heat input: add_input(...) first")
+        if input is None:
+            if len(sys_.input_names) != 1:
+                raise NetworkError(f"input = None but the network has inputs "
+                                   f"{list(sys_.input_names)}; name one")
+            input = sys_.input_names[0]
+        if input not in sys_.input_names:
+            self._bad_input(input)
+        if node not in sys_.node_names:
+            raise NetworkError(f"node {node!r}: expected a free node of the network")
+        static_field(sys_)  # adiabatic parts: no Zth, raise naming them
+        if ModalSolver not in self._solvers:
+            self._solvers[ModalSolver] = ModalSolver(sys_, linearize=True)
+        return self._solvers[ModalSolver], sys_.index(node), sys_.input_index(input), input
+
+    def zth(self, node: str, input: str | None = None, t=None):
+        """Step-response thermal impedance Zth(t) at ``node`` for a unit step of ``input``
+        (K/W), on a log time axis from 1 ns to settling unless ``t`` (s) is given."""
+        from .zth import zth_curve
+
+        solver, row, col, inp = self._zth_args(node, input)
+        return zth_curve(solver, row, col, t=t, node=node, input=inp)
+
+    def pulsed_zth(self, node: str, input: str | None = None, widths=None,
+                   duties=(0.0, 0.01, 0.02, 0.05, 0.1, 0.2, 0.5)):
+        """Pulsed thermal impedance family Z(t_p, D): exact periodic peak rise per watt of
+        pulse power for rectangular pulses of width t_p at duty D (D = 0: single pulse)."""
+        from .zth import pulsed_zth
+
+        solver, row, col, inp = self._zth_args(node, input)
+        return pulsed_zth(solver, row, col, widths=widths, duties=duties, node=node, input=inp)
+
+    def foster(self, node: str, input: str | None = None):
+        """Foster network of the (driving-point or transfer) impedance, from the modes."""
+        from .zth import foster_from_modes
+
+        solver, row, col, _ = self._zth_args(node, input)
+        return foster_from_modes(solver, row, col)
 
 
-def _shift(p: Piecewise, t0: float) -> Piecewise:
-    """A periodic waveform started at phase ``t0`` (so the remainder after whole periods
-    continues the pattern)."""
-    if not p.periodic or p.is_constant:
-        return p
-    T = p.span
-    ph = t0 % T
-    if ph <= 1e-12 * T or T - ph <= 1e-12 * T:
-        return p
-    e = p.edges
-    k = int(np.searchsorted(e, ph, side="right") - 1)
-    lvl0 = p.level[k] + p.slope[k] * (ph - e[k])
-    edges = np.concatenate([[0.0], e[k + 1:] - ph, e[1:k + 1] + (T - ph)])
-    level = np.concatenate([[lvl0], p.level[k + 1:], p.level[:k]])
-    slope = np.concatenate([[p.slope[k]], p.slope[k + 1:], p.slope[:k]])
-    # e[1:k+1] + T - ph ends at e[k] + T - ph; add the piece from e[k] to ph of the next period
-    edges = np.concatenate([edges, [T]])
-    level = np.concatenate([level, [p.level[k]]])
-    slope = np.concatenate([slope, [p.slope[k]]])
-    keep = np.concatenate([np.diff(edges) > 1e-15 * T])
-    edges = np.concatenate([edges[:-1][keep], [T]])
-    return Piecewise(edges, level[keep], slope[keep], True)
+def _tiled(pieces: list[Piecewise], edges: np.ndarray) -> list[Piecewise]:
+    """The pieces as single periods of the common period (for the energy per period)."""
+    T = float(edges[-1])
+    out = []
+    for p in pieces:
+        if p.is_constant:
+            out.append(Piecewise([0.0, T], [p.level[0]]))
+        else:
+            out.append(p)
+    return out
 
 
 def _join(a, b, t0: float):

@@ -1,0 +1,630 @@
+"""Exact linear solver: modal decomposition and closed-form segment propagation.
+
+After static condensation (:mod:`pulsetherm.network.assemble`) the capacitive nodes obey
+``C dT/dt + G T = F T_b + B P(t)`` with C diagonal > 0 and G symmetric.  The generalised
+symmetric eigenproblem ``G v = λ C v`` is solved through the scaling
+``A = C^{-1/2} G C^{-1/2} = U Λ Uᵀ`` (``scipy.linalg.eigh``), ``V = C^{-1/2} U`` so that
+``Vᵀ C V = I`` and ``Vᵀ G V = Λ``.  With ``T = T_ref + V q`` (``T_ref`` the zero-power static
+field) each modal coordinate is a first-order system
+
+    dq_i/dt = −λ_i q_i + w_iᵀ P(t),      W = Vᵀ B.
+
+On a segment where P = a + b·s (0 ≤ s ≤ h) the solution is exact:
+
+    q(s) = e^{−λs} q(0) + ψ₀(λ, s) Wa + ψ₁(λ, s) Wb,
+    ψ_k(λ, s) = ∫₀^s e^{−λ(s−u)} u^k/k! du = s^{k+1} g_k(λs),
+    g_k(x) = Σ_j (−x)^j/(j+k+1)!,   g₀ = −expm1(−x)/x,  g_{k+1} = (1/(k+1)! − g_k)/x,
+
+and its integral ``∫₀^h q = ψ₀ q(0) + ψ₁ Wa + ψ₂ Wb`` gives exact time averages.  The
+series is used for x < 1 to avoid cancellation; λ = 0 (adiabatic parts) is the x → 0 limit.
+
+Periodic steady state (period T, any number of segments): the end-of-period state is
+``q(T) = e^{−λT} q(0) + r`` with ``r = Σ_k e^{−λ(T − t_{k+1})} ρ_k`` (ρ_k the forced increment of
+segment k from a zero start), so ``q(0) = r / (1 − e^{−λT})`` — no warm-up simulation.
+
+Massless nodes follow algebraically, ``T_m = −K T_c + M_b T_b + M_p P`` (exact).
+
+References
+----------
+H. S. Carslaw and J. C. Jaeger, *Conduction of Heat in Solids*, 2nd ed., Oxford, 1959
+(modal/series solutions of linear conduction).  C. Moler and C. Van Loan, "Nineteen dubious
+ways to compute the exponential of a matrix, twenty-five years later", SIAM Review 45(1),
+2003 (ψ/φ-functions of the matrix exponential for piecewise-polynomial inputs).
+"""
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import scipy.linalg as sla
+from scipy.optimize import brentq, minimize_scalar
+
+from .assemble import condense, floating_nodes, static_field
+from .solvers import RawResponse
+from .system import ThermalSystem
+
+__all__ = ["ModalSolver", "gk"]
+
+#: Sample budget for the interior (log-spaced) points of a response.
+SAMPLE_BUDGET = 20_000
+#: Interior samples per segment when the budget allows.
+INTERIOR_POINTS = 10
+#: Largest modes × segments array kept in memory (segment-start states for refinement).
+STORE_LIMIT = 4_000_000
+
+_FACT = np.array([math.factorial(j) for j in range(24)], dtype=np.float64)
+
+
+def gk(k: int, x: np.ndarray) -> np.ndarray:
+    """g_k(x) = Σ_j (−x)^j/(j+k+1)! for x ≥ 0 (ψ_k(λ, s) = s^{k+1}·g_k(λs)).
+
+    Series (18 terms, Horner) for x < 1, recursion from g₀ = −expm1(−x)/x otherwise.
+    """
+    x = np.asarray(x, dtype=np.float64)
+    small = x < 1.0
+    out = np.empty_like(x)
+    if small.any():
+        xs = x[small]
+        acc = np.zeros_like(xs)
+        for j in range(17, -1, -1):
+            acc = acc * (-xs) + 1.0 / _FACT[j + k + 1]
+        out[small] = acc
+    big = ~small
+    if big.any():
+        xb = x[big]
+        g = -np.expm1(-xb) / xb
+        for kk in range(k):
+            g = (1.0 / _FACT[kk + 1] - g) / xb
+        out[big] = g
+    return out
+
+
+def _psi(k: int, lam: np.ndarray, s) -> np.ndarray:
+    """ψ_k(λ, s) = s^{k+1} g_k(λs), broadcasting λ (modes, 1) against s."""
+    s = np.asarray(s, dtype=np.float64)
+    return s ** (k + 1) * gk(k, lam * s)
+
+
+class ModalSolver:
+    """Exact modal solver for linear networks (registered as ``"modal"``).
+
+    Parameters
+    ----------
+    system
+        The assembled system (linear: no k(T) exponents, no temperature coefficients).
+    linearize
+        Option: accept a nonlinear system and use its reference conductances (for small-
+        signal impedances).
+
+    Attributes
+    ----------
+    lam
+        Eigenvalues λ_i = 1/τ_i, 1/s, (nc,), ascending; exactly 0 for adiabatic parts.
+    V
+        C-normalised mode shapes at the capacitive nodes, (nc, nc).
+    Phi
+        Mode shapes at every free node (massless rows reconstructed), (n, nc).
+    Dp
+        Direct (instantaneous) input-to-temperature map of massless nodes, K/W, (n, m).
+    W
+        Modal input map Vᵀ B, (nc, m).
+    """
+
+    name = "modal"
+
+    def __init__(self, system: ThermalSystem, **options) -> None:
+        if not system.is_linear and not options.get("linearize", False):
+            raise ValueError("ModalSolver: the system is nonlinear (k(T) exponents or "
+                             "temperature coefficients); use the nonlinear solver")
+        self.system = system
+        self.options = options
+        cond = condense(system)
+        self.cond = cond
+        s = 1.0 / np.sqrt(cond.C)
+        A = s[:, None] * cond.G * s[None, :]
+        lam, U = sla.eigh(A, check_finite=False)
+        lam = np.maximum(lam, 0.0)
+        n_float = len(floating_nodes(system))
+        if n_float:
+            lam[:n_float] = 0.0
+        self.lam = lam
+        self.V = s[:, None] * U
+        self.W = self.V.T @ cond.B
+        n, nc = system.n, cond.nc
+        Phi = np.empty((n, nc))
+        Phi[cond.cap] = self.V
+        Dp = np.zeros((n, system.m))
+        if cond.mass.size:
+            Phi[cond.mass] = -cond.K @ self.V
+            Dp[cond.mass] = cond.Mp
+        self.Phi = Phi
+        self.Dp = Dp
+        # Zero-power static field; floating parts referred to 0 K (their q is absolute).
+        T_ref = static_field(system, floating="nan")
+        Tc = np.nan_to_num(T_ref[cond.cap], nan=0.0)
+        T_ref = np.empty(n)
+        T_ref[cond.cap] = Tc
+        if cond.mass.size:
+            T_ref[cond.mass] = -cond.K @ Tc + cond.Mb @ system.T_boundary
+        self.T_ref = T_ref
+        self.n_float = n_float
+        self.n_eval = 0
+
+    # -- basic pieces ------------------------------------------------------------------
+    @property
+    def tau(self) -> np.ndarray:
+        """Time constants 1/λ, s (inf for adiabatic modes)."""
+        with np.errstate(divide="ignore"):
+            return np.where(self.lam > 0, 1.0 / np.where(self.lam > 0, self.lam, 1.0), np.inf)
+
+    def q_from_state(self, x: np.ndarray | None) -> np.ndarray:
+        """Modal coordinates of a full absolute state (n,) K (None: the static field)."""
+        if x is None:
+            return np.zeros(self.lam.size)
+        cap = self.cond.cap
+        return self.V.T @ (self.cond.C * (x[cap] - self.T_ref[cap]))
+
+    def state(self, q: np.ndarray, power: np.ndarray) -> np.ndarray:
+        """Full absolute state (n,) K from modal coordinates and the present power (m,)."""
+        return self.T_ref + self.Phi @ q + self.Dp @ power
+
+    def steady(self, power: np.ndarray) -> np.ndarray:
+        return static_field(self.system, np.asarray(power, dtype=np.float64))
+
+    def _forcing(self, level: np.ndarray, slope: np.ndarray):
+        """Modal forcing W·a and W·b for segments (rows of level/slope) -> (modes, k)."""
+        return self.W @ level.T, self.W @ slope.T
+
+    def _advance(self, q0: np.ndarray, h, Wa: np.ndarray, Wb: np.ndarray) -> np.ndarray:
+        """q after time h from q0 (modes, k) with forcing a + b s (broadcast over columns)."""
+        lam = self.lam[:, None]
+        return np.exp(-lam * h) * q0 + _psi(0, lam, h) * Wa + _psi(1, lam, h) * Wb
+
+    # -- blocked scan over segments ----------------------------------------------------
+    def _scan(self, q0: np.ndarray, edges: np.ndarray, level: np.ndarray, slope: np.ndarray,
+              Pp: np.ndarray, Dp: np.ndarray, store: bool):
+        """Sweep the segments from ``q0``; exact, vectorised as √N blocks of √N segments.
+
+        Returns
+        -------
+        ends : (N, p) probe rises (Pp q + Dp P, left limits) at every segment end
+        q_end : (modes,) state at the last edge
+        integral : (modes,) ∫ q dt over the run
+        starts : (modes, N) segment-start states if ``store`` else block starts (modes, nblk)
+        """
+        N = edges.size - 1
+        h = np.diff(edges)
+        nm = self.lam.size
+        Bk = max(1, int(math.ceil(math.sqrt(N))))
+        nblk = int(math.ceil(N / Bk))
+        pad = nblk * Bk - N
+        hp = np.concatenate([h, np.zeros(pad)]).reshape(nblk, Bk)
+        lp = np.concatenate([level, np.zeros((pad, level.shape[1]))]).reshape(nblk, Bk, -1)
+        sp_ = np.concatenate([slope, np.zeros((pad, slope.shape[1]))]).reshape(nblk, Bk, -1)
+        lam = self.lam[:, None]
+        # pass 1: per-block decay and forced increment
+        dec = np.ones((nm, nblk))
+        inc = np.zeros((nm, nblk))
+        for j in range(Bk):
+            hj = hp[:, j][None, :]
+            Wa, Wb = self._forcing(lp[:, j, :], sp_[:, j, :])
+            d = np.exp(-lam * hj)
+            dec *= d
+            inc = d * inc + _psi(0, lam, hj) * Wa + _psi(1, lam, hj) * Wb
+        # pass 2: block-start states, sequential over blocks
+        Qs = np.empty((nm, nblk))
+        q = q0.astype(np.float64).copy()
+        for b in range(nblk):
+            Qs[:, b] = q
+            q = dec[:, b] * q + inc[:, b]
+        q_end = q
+        # pass 3: within blocks, all blocks at once
+        ends = np.empty((nblk, Bk, Pp.shape[0]))
+        integral = np.zeros(nm)
+        starts = np.empty((nm, N)) if store else Qs
+        Q = Qs.copy()
+        for j in range(Bk):
+            hj = hp[:, j][None, :]
+            if store:
+                cols = np.arange(nblk) * Bk + j
+                ok = cols < N
+                starts[:, cols[ok]] = Q[:, ok]
+            Wa, Wb = self._forcing(lp[:, j, :], sp_[:, j, :])
+            p0 = _psi(0, lam, hj)
+            p1 = _psi(1, lam, hj)
+            integral += np.sum(p0 * Q + p1 * Wa + _psi(2, lam, hj) * Wb, axis=1)
+            Q = np.exp(-lam * hj) * Q + p0 * Wa + p1 * Wb
+            pw = lp[:, j, :] + sp_[:, j, :] * hp[:, j][:, None]
+            ends[:, j, :] = (Pp @ Q).T + pw @ Dp.T
+        ends = ends.reshape(nblk * Bk, -1)[:N]
+        return ends, q_end, integral, starts
+
+    def _segment_start(self, k: int, edges, level, slope, starts, store: bool) -> np.ndarray:
+        """State at the start of segment k (from stored starts, or from its block start)."""
+        if store:
+            return starts[:, k]
+        N = edges.size - 1
+        Bk = max(1, int(math.ceil(math.sqrt(N))))
+        b = k // Bk
+        q = starts[:, b].copy()
+        for kk in range(b * Bk, k):
+            h = edges[kk + 1] - edges[kk]
+            Wa, Wb = self._forcing(level[kk:kk + 1], slope[kk:kk + 1])
+            q = self._advance(q[:, None], h, Wa, Wb)[:, 0]
+        return q
+
+    def _eval_seg(self, q0: np.ndarray, s, lvl: np.ndarray, slp: np.ndarray,
+                  Pp: np.ndarray, Dp: np.ndarray) -> np.ndarray:
+        """Probe rises (len(s), p) at offsets s inside a segment starting from q0."""
+        s = np.atleast_1d(np.asarray(s, dtype=np.float64))[None, :]
+        lam = self.lam[:, None]
+        Wa = (self.W @ lvl)[:, None]
+        Wb = (self.W @ slp)[:, None]
+        Q = np.exp(-lam * s) * q0[:, None] + _psi(0, lam, s) * Wa + _psi(1, lam, s) * Wb
+        P = lvl[None, :] + s.T * slp[None, :]
+        self.n_eval += s.size
+        return (Pp @ Q).T + P @ Dp.T
+
+    # -- sampling and peak refinement --------------------------------------------------
+    def _fast_tau(self, Pp: np.ndarray) -> float:
+        """Fastest time constant with a noticeable share of the probe response."""
+        lam = self.lam
+        with np.errstate(divide="ignore", invalid="ignore"):
+            amp = np.abs(Pp).max(axis=0) * np.abs(self.W).max(axis=1) / np.where(lam > 0, lam, np.inf)
+        if not np.any(amp > 0):
+            return float(1.0 / lam.max()) if lam.max() > 0 else 1.0
+        keep = (amp >= 1e-6 * amp.max()) & (lam > 0)
+        return float(1.0 / lam[keep].max()) if keep.any() else 1.0
+
+    def _sample(self, q0, edges, level, slope, rows, store_ok: bool = True):
+        """Exact samples at every segment end (plus interior log-spaced points and refined
+        extremes of every probe).  Returns t, theta (absolute K), q_end, integral."""
+        Pp = self.Phi[rows]
+        Dp = self.Dp[rows]
+        N = edges.size - 1
+        store = store_ok and N * self.lam.size <= STORE_LIMIT
+        ends, q_end, integral, starts = self._scan(q0, edges, level, slope, Pp, Dp, store)
+        p0 = (Pp @ q0) + Dp @ level[0]
+        t_list = [np.array([0.0]), edges[1:]]
+        v_list = [p0[None, :], ends]
+        # interior log-spaced points down to the fastest relevant time constant
+        if store and N * INTERIOR_POINTS <= SAMPLE_BUDGET:
+            tau_f = self._fast_tau(Pp)
+            h = np.diff(edges)
+            for k in range(N):
+                lo = max(tau_f / 4.0, h[k] * 1e-6)
+                if lo < h[k] / 8:
+                    s = np.geomspace(lo, h[k], INTERIOR_POINTS + 1)[:-1]
+                else:
+                    s = np.linspace(0, h[k], INTERIOR_POINTS // 2 + 2)[1:-1]
+                t_list.append(edges[k] + s)
+                v_list.append(self._eval_seg(starts[:, k], s, level[k], slope[k], Pp, Dp))
+        # right limits at edges where a massless probe jumps with the power
+        if np.any(Dp != 0):
+            jump = np.flatnonzero(np.any((level[1:] - (level[:-1] + slope[:-1] *
+                                                         np.diff(edges)[:-1, None])) != 0, axis=1))
+            if jump.size:
+                k = jump + 1
+                qs = np.stack([self._segment_start(int(kk), edges, level, slope, starts, store)
+                               for kk in k], axis=1)
+                vals = (Pp @ qs).T + level[k] @ Dp.T
+                t_list.append(edges[k])
+                v_list.append(vals)
+        t = np.concatenate(t_list)
+        v = np.vstack(v_list)
+        order = np.argsort(t, kind="stable")
+        t, v = t[order], v[order]
+        t, v = self._refine(t, v, q0, edges, level, slope, starts, store, Pp, Dp)
+        return t, v + self.T_ref[rows][None, :], q_end, integral
+
+    def _refine(self, t, v, q0, edges, level, slope, starts, store, Pp, Dp, top: int = 2):
+        """Locate each probe's maximum and minimum exactly (bounded scalar search on the
+        closed-form response) in the segments around the best samples; add them as samples."""
+        N = edges.size - 1
+        extra_t = []
+        cache: dict[int, np.ndarray] = {}
+
+        def start(k):
+            if k not in cache:
+                cache[k] = self._segment_start(k, edges, level, slope, starts, store)
+            return cache[k]
+
+        for j in range(v.shape[1]):
+            for sign in (1.0, -1.0):
+                col = sign * v[:, j]
+                order = np.argsort(col)[::-1]
+                seen = set()
+                for i in order[:4 * top]:
+                    segs = set()
+                    for ti in (t[max(i - 1, 0)], t[i], t[min(i + 1, t.size - 1)]):
+                        k = int(np.clip(np.searchsorted(edges, ti, side="right") - 1, 0, N - 1))
+                        segs.add(k)
+                        if ti == edges[k] and k > 0:
+                            segs.add(k - 1)
+                    segs -= seen
+                    for k in segs:
+                        seen.add(k)
+                        h = edges[k + 1] - edges[k]
+                        lo_t = max(t[max(i - 1, 0)], edges[k])
+                        hi_t = min(t[min(i + 1, t.size - 1)], edges[k + 1])
+                        if hi_t <= lo_t:
+                            lo_t, hi_t = edges[k], edges[k + 1]
+                        q = start(k)
+
+                        def f(s, q=q, k=k):
+                            return -sign * self._eval_seg(q, s, level[k], slope[k], Pp[j:j + 1],
+                                                          Dp[j:j + 1])[0, 0]
+
+                        res = minimize_scalar(f, bounds=(lo_t - edges[k], hi_t - edges[k]),
+                                              method="bounded",
+                                              options={"xatol": max(h * 1e-13, 1e-300)})
+                        if -res.fun > sign * v[i, j]:
+                            extra_t.append((k, float(res.x)))
+                    if len(seen) >= 2 * top:
+                        break
+        if not extra_t:
+            return t, v
+        tt, vv = [], []
+        for k, s in extra_t:
+            tt.append(edges[k] + s)
+            vv.append(self._eval_seg(start(k), s, level[k], slope[k], Pp, Dp)[0])
+        t = np.concatenate([t, tt])
+        v = np.vstack([v, np.array(vv)])
+        order = np.argsort(t, kind="stable")
+        return t[order], v[order]
+
+    # -- periodic steady state --------------------------------------------------------
+    def _period_increment(self, edges, level, slope) -> np.ndarray:
+        """r = Σ_k e^{−λ(T − t_{k+1})} ρ_k: the end-of-period state from a zero start,
+        vectorised over modes in chunks of segments."""
+        T = edges[-1]
+        lam = self.lam[:, None]
+        r = np.zeros(self.lam.size)
+        N = edges.size - 1
+        chunk = max(1, int(2_000_000 // max(self.lam.size, 1)))
+        for a in range(0, N, chunk):
+            b = min(N, a + chunk)
+            h = (edges[a + 1:b + 1] - edges[a:b])[None, :]
+            Wa, Wb = self._forcing(level[a:b], slope[a:b])
+            rho = _psi(0, lam, h) * Wa + _psi(1, lam, h) * Wb
+            r += np.sum(np.exp(-lam * (T - edges[a + 1:b + 1])[None, :]) * rho, axis=1)
+        return r
+
+    def periodic_start(self, edges, level, slope) -> np.ndarray:
+        """Start-of-period modal state of the periodic steady state: r/(1 − e^{−λT})."""
+        if self.n_float:
+            raise ValueError("periodic steady state: the network has parts with no path to "
+                             "a boundary (adiabatic); there is none")
+        r = self._period_increment(edges, level, slope)
+        return r / (-np.expm1(-self.lam * edges[-1]))
+
+    def _mean_power(self, edges, level, slope) -> np.ndarray:
+        h = np.diff(edges)
+        return (h @ level + 0.5 * (h * h) @ slope) / edges[-1]
+
+    def periodic(self, edges, level, slope, probes) -> RawResponse:
+        edges = np.asarray(edges, dtype=np.float64)
+        level = np.atleast_2d(np.asarray(level, dtype=np.float64))
+        slope = np.atleast_2d(np.asarray(slope, dtype=np.float64))
+        rows = np.asarray(probes, dtype=np.int64)
+        q0 = self.periodic_start(edges, level, slope)
+        t, theta, q_end, _ = self._sample(q0, edges, level, slope, rows)
+        Pbar = self._mean_power(edges, level, slope)
+        # exact period mean: averaging the modal equation over a period, q̄ = W P̄ / λ
+        qbar = (self.W @ Pbar) / self.lam
+        mean_full = self.T_ref + self.Phi @ qbar + self.Dp @ Pbar
+        start = self.state(q0, level[0])
+        info = {"method": "modal", "modes": int(self.lam.size), "segments": int(edges.size - 1),
+                "mean_full": mean_full, "evaluations": self.n_eval, "q_start": q0,
+                "tau_min": float(self.tau.min()), "tau_max": float(self.tau.max())}
+        return RawResponse(t, theta, start, start.copy(), mean_full[rows], info)
+
+    # -- transients -------------------------------------------------------------------
+    def transient(self, edges, level, slope, initial, probes) -> RawResponse:
+        edges = np.asarray(edges, dtype=np.float64)
+        level = np.atleast_2d(np.asarray(level, dtype=np.float64))
+        slope = np.atleast_2d(np.asarray(slope, dtype=np.float64))
+        rows = np.asarray(probes, dtype=np.int64)
+        q0 = self.q_from_state(initial)
+        t, theta, q_end, integral = self._sample(q0, edges, level, slope, rows)
+        dur = edges[-1]
+        Pbar = self._mean_power(edges, level, slope)
+        mean_full = self.T_ref + self.Phi @ (integral / dur) + self.Dp @ Pbar
+        p_end = level[-1] + slope[-1] * (edges[-1] - edges[-2])
+        info = {"method": "modal", "modes": int(self.lam.size), "segments": int(edges.size - 1),
+                "mean_full": mean_full, "evaluations": self.n_eval}
+        return RawResponse(t, theta, self.state(q0, level[0]), self.state(q_end, p_end),
+                           mean_full[rows], info)
+
+    def transient_periods(self, edges, level, slope, initial, probes, periods: int,
+                          detail: int = 24) -> RawResponse:
+        """``periods`` identical periods from ``initial``, jumping whole periods exactly.
+
+        With E = e^{−λT} and r the period increment, the start of period n is
+        q_n = Eⁿ q_0 + (1 − Eⁿ)/(1 − E)·r.  Only a selection of periods is sampled in detail
+        (the first ones, log-spaced ones, the last, and the one where each probe's
+        departure from the periodic state is largest); means are exact over all periods.
+        """
+        edges = np.asarray(edges, dtype=np.float64)
+        level = np.atleast_2d(np.asarray(level, dtype=np.float64))
+        slope = np.atleast_2d(np.asarray(slope, dtype=np.float64))
+        rows = np.asarray(probes, dtype=np.int64)
+        Nper = int(periods)
+        T = edges[-1]
+        y = self.lam * T
+        E = np.exp(-y)
+        one_m_E = -np.expm1(-y)
+        r = self._period_increment(edges, level, slope)
+        q0 = self.q_from_state(initial)
+
+        def S(nn):
+            """(1 − Eⁿ)/(1 − E), λ = 0 limit n."""
+            nn = np.asarray(nn, dtype=np.float64)
+            with np.errstate(invalid="ignore", divide="ignore"):
+                val = -np.expm1(-np.multiply.outer(nn, y)) / np.where(one_m_E > 0, one_m_E, 1.0)
+            return np.where(one_m_E > 0, val, nn[..., None] * np.ones_like(y))
+
+        def q_at(nn):
+            return E ** nn * q0 + S(nn) * r
+
+        # which periods to sample
+        sel = set(range(min(Nper, 4))) | {Nper - 1}
+        if Nper > 4:
+            sel |= set(np.unique(np.geomspace(4, Nper - 1, detail).astype(int)).tolist())
+        # period where each probe's departure from the first-sampled pattern is extreme:
+        # departure at phase 0 of period n is Σ_i Φ_pi Eⁿ_i (q0 − q_ps)_i (0 for λ=0 modes)
+        if Nper > 4 and self.n_float == 0:
+            q_ps = r / one_m_E
+            dq = q0 - q_ps
+            nn = np.unique(np.geomspace(1, Nper - 1, 400).astype(int))
+            dev = (self.Phi[rows] * dq[None, :]) @ (E[:, None] ** nn[None, :])
+            for j in range(rows.size):
+                sel.add(int(nn[np.argmax(dev[j])]))
+                sel.add(int(nn[np.argmin(dev[j])]))
+        sel = sorted(s for s in sel if 0 <= s < Nper)
+        ts, vs = [], []
+        for n in sel:
+            qn = q_at(n)
+            t, th, _, _ = self._sample(qn, edges, level, slope, rows)
+            ts.append(t + n * T)
+            vs.append(th)
+        # exact integral over all periods: ∫_period q = J q_n + j0, J = ψ₀(λ, T)
+        _ends, _qe, j0, _st = self._scan(np.zeros_like(q0), edges, level, slope,
+                                         self.Phi[rows[:1]], self.Dp[rows[:1]], False)
+        J = _psi(0, self.lam, T)
+        sumE = S(Nper)                                  # Σ_{n<N} Eⁿ
+        sumS = self._sum_S(Nper, y, one_m_E)            # Σ_{n<N} (1 − Eⁿ)/(1 − E)
+        integral = J * (sumE * q0 + sumS * r) + Nper * j0
+        dur = Nper * T
+        Pbar = self._mean_power(edges, level, slope)
+        mean_full = self.T_ref + self.Phi @ (integral / dur) + self.Dp @ Pbar
+        q_end = q_at(Nper)
+        p_end = level[-1] + slope[-1] * (edges[-1] - edges[-2])
+        t = np.concatenate(ts)
+        th = np.vstack(vs)
+        keep = np.concatenate([[True], np.diff(t) > 0]) if t.size else np.ones(0, bool)
+        info = {"method": "modal", "modes": int(self.lam.size), "segments": int(edges.size - 1),
+                "periods": Nper, "periods_sampled": len(sel), "mean_full": mean_full,
+                "evaluations": self.n_eval}
+        return RawResponse(t[keep], th[keep], self.state(q0, level[0]),
+                           self.state(q_end, p_end), mean_full[rows], info)
+
+    @staticmethod
+    def _sum_S(N: int, y: np.ndarray, one_m_E: np.ndarray) -> np.ndarray:
+        """Σ_{n=0}^{N−1} (1 − e^{−ny})/(1 − e^{−y}) = (N − S_N)/(1 − e^{−y}), S_N = Σ e^{−ny};
+        two-term series in y when N·y < 1e-5 (avoids cancellation), N(N−1)/2 at y = 0."""
+        out = np.empty_like(y)
+        small = N * y < 1e-5
+        ys = y[small]
+        # Σ_{k=0}^{N-2} (N−1−k) e^{−ky} ≈ Σ (N−1−k)(1 − ky + k²y²/2)
+        s0 = N * (N - 1) / 2.0                          # Σ (N−1−k)
+        s1 = (N - 2) * (N - 1) * N / 6.0                # Σ (N−1−k)·k
+        s2 = (N - 1) ** 2 * (N - 2) * N / 12.0        # Σ (N−1−k)·k²
+        out[small] = s0 - ys * s1 + 0.5 * ys * ys * s2
+        big = ~small
+        yb = y[big]
+        SN = -np.expm1(-N * yb) / one_m_E[big]
+        out[big] = (N - SN) / one_m_E[big]
+        return out
+
+    # -- impedances -------------------------------------------------------------------
+    def residues(self, row: int, col: int) -> tuple[np.ndarray, float]:
+        """Step-response residues r_i (K/W) at free-node row for input column, and the
+        direct (instantaneous) part: Z(t) = D + Σ r_i (1 − e^{−λ_i t}).
+
+        With C-normalised modes the response to a unit step is
+        T − T_ref = Σ_i Φ_{row,i} w_i (1 − e^{−λ_i t})/λ_i + D,  w = Vᵀ B[:, col]
+        (Carslaw & Jaeger 1959, expansion in normal modes)."""
+        if self.n_float:
+            raise ValueError("thermal impedance: the network has parts with no path to a "
+                             "boundary (adiabatic); Zth grows without bound")
+        r = self.Phi[row] * self.W[:, col] / self.lam
+        return r, float(self.Dp[row, col])
+
+    def zth(self, row: int, col: int, t: np.ndarray) -> np.ndarray:
+        """Step response Zth(t), K/W (t in s, ≥ 0)."""
+        r, d = self.residues(row, col)
+        t = np.asarray(t, dtype=np.float64)
+        z = (-np.expm1(-np.multiply.outer(t, self.lam))) @ r
+        return z + np.where(t > 0, d, 0.0)
+
+    def warmup_crossing(self, edges, level, slope, row: int, target_rise: float,
+                        phase_t: np.ndarray, phase_v: np.ndarray, initial=None) -> float:
+        """First time (s) at which the probe's rise over the static field reaches
+        ``target_rise`` when the periodic drive starts from ``initial`` (None: ambient).
+
+        From the start state the response is the periodic one plus a decaying part,
+        θ(t) = θ_ps(t mod T) + Σ_i Φ_i e^{−λ_i t} (q0 − q_ps)_i, so whole periods are
+        jumped; the first period with a sample over the target is found by bisection (the
+        rise per phase grows monotonically with n for non-negative power from ambient: the
+        system is positive, its matrix exponential has no negative entries), then the
+        crossing time by Brent's method on the closed form.
+        ``phase_t``/``phase_v`` are the periodic samples (times in [0, T], rises in K).
+        """
+        T = edges[-1]
+        q_ps = self.periodic_start(edges, level, slope)
+        dq = self.q_from_state(initial) - q_ps
+        a = self.Phi[row] * dq                        # decaying amplitudes
+        lam = self.lam
+
+        def dev(t):
+            return np.exp(-np.multiply.outer(np.atleast_1d(t), lam)) @ a
+
+        def max_in_period(n):
+            return np.max(phase_v + dev(n * T + phase_t))
+
+        if max_in_period(0) >= target_rise:
+            n = 0
+        else:
+            # upper bracket
+            hi = 1
+            while max_in_period(hi) < target_rise:
+                hi *= 2
+                if hi > 2 ** 60:
+                    return math.inf
+            lo = hi // 2
+            while hi - lo > 1:
+                mid = (lo + hi) // 2
+                if max_in_period(mid) >= target_rise:
+                    hi = mid
+                else:
+                    lo = mid
+            n = hi
+        vals = phase_v + dev(n * T + phase_t)
+        i = int(np.flatnonzero(vals >= target_rise)[0])
+        if i == 0 and n == 0:
+            return 0.0
+        if i == 0:
+            ta, tb = (n - 1) * T + phase_t[-1], n * T + phase_t[0]
+        else:
+            ta, tb = n * T + phase_t[i - 1], n * T + phase_t[i]
+        if tb <= ta:
+            return float(tb)
+        q_hist = {}
+
+        def theta(tt):
+            # periodic part in closed form inside its segment, plus the decaying part
+            ph = tt - math.floor(tt / T) * T
+            k = int(np.clip(np.searchsorted(edges, ph, side="right") - 1, 0, edges.size - 2))
+            if k not in q_hist:
+                q = q_ps
+                q_hist[k] = self._start_of(q, k, edges, level, slope)
+            v = self._eval_seg(q_hist[k], ph - edges[k], level[k], slope[k],
+                               self.Phi[row:row + 1], self.Dp[row:row + 1])[0, 0]
+            return v + dev(tt)[0] - target_rise
+
+        fa, fb = theta(ta), theta(tb)
+        if fa >= 0:
+            return float(ta)
+        if fb < 0:
+            return float(tb)
+        return float(brentq(theta, ta, tb, xtol=1e-15 * max(tb, 1e-300), rtol=1e-15))
+
+    def _start_of(self, q: np.ndarray, k: int, edges, level, slope) -> np.ndarray:
+        """State at the start of segment k from the period-start state q (vectorised
+        through the blocked scan machinery when k is large)."""
+        if k == 0:
+            return q
+        _, q_k, _, _ = self._scan(q, edges[:k + 1], level[:k], slope[:k],
+                                  self.Phi[:1], self.Dp[:1], False)
+        return q_k
