@@ -1,0 +1,937 @@
+"""Build a thermal RC network from a stack-up (the ladder model).
+
+Each part becomes a *column*: its heated footprint on top, then its own stack, the board
+layers under it and the mounting interface, down to the sink.  Heat spreads downward:
+
+* **Frustum spreading.**  In a layer whose top cross-section is w0 × l0 the heat path
+  widens with depth z as w(z) = min(w0 + 2z·tanθ, W), l(z) = min(l0 + 2z·tanθ, L), θ the
+  spreading half-angle (45° by common practice, adjustable per layer) and W × L the layer's
+  own size.  A sub-layer [z0, z1] has the exact 1-D conductance and capacity of that
+  frustum, ``G = 1/∫dz/(k·A(z))`` and ``C = ρc·∫A(z)dz`` (Gauss-Legendre quadrature on the
+  pieces between the kinks where the path meets the layer edges).
+* **Calibrated spreading** (``spreading="calibrated"``): each layer's angle is chosen so
+  that the column's steady resistance equals the published spreading-resistance solution of
+  the stack (Yovanovich, Culham & Teertstra 1998 exact series; compound layers by the
+  transmission-line recursion of Yovanovich, Muzychka & Culham 1999), layer by layer
+  (see :mod:`pulsetherm.network.calibration` notes in :func:`calibrate_angles`).
+* **Graded sub-layers.**  Thickness is measured in the diffusion coordinate s = ∫dz/√α
+  (√s units; a signal reaches depth s after a time ≈ s²).  The first sub-layer at the
+  source spans s0 = f·√t_min, with t_min the shortest waveform feature, and sub-layers grow
+  geometrically by the ratio r with depth: boundaries sit at equal steps of
+  ln(s0 + (r − 1)·s).  Microseconds are resolved near the junction, minutes in the sink,
+  with tens to a few hundred nodes per part.  ``fidelity`` sets f and r.
+* **Nodes** sit on sub-layer faces (vertex-centred): the top face node is the junction (the
+  mean temperature of the heated footprint, isoflux), each sub-layer's capacity is split to
+  its two face nodes with the linear weights (1 − ξ, ξ), ξ = (z − z0)/(z1 − z0).
+
+Several parts on one board: each has its own column through the board; the columns meet at
+the shared sink node and are joined in each board layer by in-plane conduction
+``g = k_inplane·t·w̄/d`` (w̄ the mean width of the two heat paths in that layer, d the
+centre distance, at least w̄).  This is a coarse lateral model: it ignores overlap of the
+spreading cones and the heat spreading into board area outside the columns.
+
+References
+----------
+Carslaw & Jaeger, *Conduction of Heat in Solids*, 2nd ed., 1959 (slab series used in tests).
+Yovanovich, Culham & Teertstra, IEEE Trans. CPMT-A 21(1), 1998.
+Yovanovich, Muzychka & Culham, J. Thermophysics & Heat Transfer 13(4), 1999.
+Lee, Song, Au & Moran, ASME/JSME Thermal Eng. Joint Conf. 1995, vol. 4, 199-206.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from functools import cached_property
+from typing import Any, Mapping, Sequence
+
+import numpy as np
+
+from .materials import Material
+from .model import ThermalNetwork
+from .stackup import (AreaResistance, Assembly, Film, FixedBase, Layer, LumpedSink, Part,
+                      StackupError, resolve_material)
+
+__all__ = ["build", "BuiltModel", "NodeInfo", "LayerInfo", "ColumnInfo", "Grading",
+           "grading", "FIDELITY", "frustum_sublayer", "sublayer_edges", "DEFAULT_ANGLE",
+           "DEFAULT_T_MIN"]
+
+#: Default spreading half-angle, degrees (common practice, no source).
+DEFAULT_ANGLE = 45.0
+#: Default shortest waveform feature resolved near the source, s.
+DEFAULT_T_MIN = 1e-6
+#: Largest number of sub-layers in one layer.
+MAX_SUBLAYERS = 80
+
+_GL_X, _GL_W = np.polynomial.legendre.leggauss(10)
+
+
+# --------------------------------------------------------------------------------------
+# discretisation
+# --------------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class Grading:
+    """Sub-layer grading: first sub-layer ``first``·√(α·t_min), growth ratio ``growth``."""
+
+    first: float
+    growth: float
+
+    def __post_init__(self) -> None:
+        if not (math.isfinite(self.first) and self.first > 0):
+            raise StackupError(f"Grading.first = {self.first!r}: expected a number > 0")
+        if not (math.isfinite(self.growth) and 1.0 < self.growth <= 4.0):
+            raise StackupError(f"Grading.growth = {self.growth!r}: expected a ratio in "
+                               "(1, 4]")
+
+
+#: Named fidelity settings.  "normal" resolves a 1 µs step response of a slab within
+#: 1 % (tests/test_builder.py); each step finer roughly halves the sub-layer size.
+FIDELITY = {
+    "coarse": Grading(first=0.6, growth=1.6),
+    "normal": Grading(first=0.2, growth=1.2),
+    "fine": Grading(first=0.1, growth=1.1),
+}
+
+
+def grading(fidelity: str | float | Grading = "normal") -> Grading:
+    """The :class:`Grading` for a fidelity name, a refinement number or a Grading.
+
+    A number x refines the "normal" setting x times: first = 0.2/x, growth = 1 + 0.2/x
+    (x = 1 is "normal", x = 2 about halves every sub-layer and is "fine").
+    """
+    if isinstance(fidelity, Grading):
+        return fidelity
+    if isinstance(fidelity, str):
+        try:
+            return FIDELITY[fidelity]
+        except KeyError:
+            raise StackupError(f"fidelity = {fidelity!r}: expected one of "
+                               f"{', '.join(FIDELITY)}, a number > 0 or a Grading") from None
+    if isinstance(fidelity, (int, float)) and not isinstance(fidelity, bool) \
+            and math.isfinite(fidelity) and 0.1 <= fidelity <= 50:
+        base = FIDELITY["normal"]
+        return Grading(base.first / fidelity, 1.0 + (base.growth - 1.0) / fidelity)
+    raise StackupError(f"fidelity = {fidelity!r}: expected one of {', '.join(FIDELITY)} "
+                       "or a refinement number in [0.1, 50]")
+
+
+def sublayer_edges(s_lengths: Sequence[float], s0: float, growth: float,
+                   max_per_layer: int = MAX_SUBLAYERS) -> list[np.ndarray]:
+    """Sub-layer boundaries of consecutive layers, graded geometrically from the top.
+
+    Parameters
+    ----------
+    s_lengths
+        Length of each layer in the diffusion coordinate s = ∫dz/√α, √s, shape (L,);
+        0 for an interface without thickness.
+    s0
+        First cell size at the top, √s.
+    growth
+        Ratio r > 1 of successive cells.
+
+    Returns
+    -------
+    For each layer, the relative positions ξ in [0, 1] of its sub-layer faces (n + 1 values,
+    0 and 1 included); a zero-length layer gives ``[0, 1]``.
+
+    Notes
+    -----
+    Geometric cells s0·r^k have faces at s_k = s0·(r^k − 1)/(r − 1), i.e. at equal steps
+    of u(s) = ln(s0 + (r − 1)s) of size ln r.  Each layer gets n = ⌈Δu/ln r⌉ cells placed
+    at equal steps of u inside it, so the grading continues smoothly across layers.
+    """
+    out = []
+    s = 0.0
+    lr = math.log(growth)
+    for length in s_lengths:
+        if length <= 0:
+            out.append(np.array([0.0, 1.0]))
+            continue
+        ua = math.log(s0 + (growth - 1.0) * s)
+        ub = math.log(s0 + (growth - 1.0) * (s + length))
+        n = min(max(1, math.ceil((ub - ua) / lr - 1e-9)), max_per_layer)
+        u = np.linspace(ua, ub, n + 1)
+        pos = (np.exp(u) - s0) / (growth - 1.0)
+        xi = (pos - s) / length
+        xi[0], xi[-1] = 0.0, 1.0
+        out.append(xi)
+        s += length
+    return out
+
+
+def _linear_roots(a0: float, slope: float, cap: float, lo: float, hi: float) -> list[float]:
+    if slope <= 0 or a0 >= cap:
+        return []
+    z = (cap - a0) / slope
+    return [z] if lo < z < hi else []
+
+
+def frustum_sublayer(z0: float, z1: float, w0: float, l0: float, tan_theta: float,
+                     cap: tuple[float, float] | None, k: float, rho_c: float,
+                     via: tuple[float, float] | None = None) -> tuple[float, float, float]:
+    """Conductance and capacities of one sub-layer of a spreading frustum.
+
+    The heat path at depth z (from the layer top) is w(z) × l(z),
+    w = min(w0 + 2z·tanθ, W), l = min(l0 + 2z·tanθ, L); conduction per unit length is
+    q(z) = k·A(z) (+ (k_v − k)·min(A, A_v) in a via field of area A_v and conductivity k_v).
+
+    Returns
+    -------
+    g
+        1/∫_{z0}^{z1} dz/q(z), W/K.
+    c_top, c_bottom
+        ρc·∫A(z)(1 − ξ)dz and ρc·∫A(z)ξ dz, ξ = (z − z0)/(z1 − z0), J/K.
+    """
+    W, L = cap if cap is not None else (math.inf, math.inf)
+    w0, l0 = min(w0, W), min(l0, L)
+    sl = 2.0 * tan_theta
+    br = {z0, z1}
+    br.update(_linear_roots(w0, sl, W, z0, z1))
+    br.update(_linear_roots(l0, sl, L, z0, z1))
+    if via is not None and sl > 0:
+        # A(z) = A_v on the uncapped pyramid: (w0 + sl z)(l0 + sl z) = A_v.
+        kv, av = via
+        b = sl * (w0 + l0)
+        c = w0 * l0 - av
+        disc = b * b - 4 * sl * sl * c
+        if disc >= 0:
+            for r in ((-b + math.sqrt(disc)) / (2 * sl * sl),):
+                if z0 < r < z1:
+                    br.add(r)
+    edges = np.array(sorted(br))
+    a, b_ = edges[:-1, None], edges[1:, None]
+    z = 0.5 * (a + b_) + 0.5 * (b_ - a) * _GL_X[None, :]
+    wq = 0.5 * (b_ - a) * _GL_W[None, :]
+    w = np.minimum(w0 + sl * z, W)
+    l = np.minimum(l0 + sl * z, L)
+    A = w * l
+    q = k * A
+    if via is not None:
+        kv, av = via
+        q = q + (kv - k) * np.minimum(A, av)
+    g = 1.0 / float(np.sum(wq / q))
+    xi = (z - z0) / (z1 - z0)
+    c_bot = rho_c * float(np.sum(wq * A * xi))
+    c_top = rho_c * float(np.sum(wq * A)) - c_bot
+    return g, c_top, c_bot
+
+
+def path_size(z: float, w0: float, l0: float, tan_theta: float,
+              cap: tuple[float, float] | None) -> tuple[float, float]:
+    """Width and length of the heat path at depth z in a frustum layer, m."""
+    W, L = cap if cap is not None else (math.inf, math.inf)
+    return (min(min(w0, W) + 2 * z * tan_theta, W), min(min(l0, L) + 2 * z * tan_theta, L))
+
+
+# --------------------------------------------------------------------------------------
+# resolved column description
+# --------------------------------------------------------------------------------------
+@dataclass
+class _Seg:
+    """One element of a column, with its material resolved."""
+
+    group: str                      # "part" | "board" | "mount"
+    name: str
+    element: Layer | AreaResistance
+    material: Material | None = None
+    cap: tuple[float, float] | None = None
+    k_eff: float = 0.0              # through-plane conductivity times (1 - voids)
+    rho_c: float = 0.0
+    k_via: float | None = None      # effective conductivity in the via area
+    via_area: float | None = None
+    angle: float = DEFAULT_ANGLE
+
+    @property
+    def thickness(self) -> float:
+        return self.element.thickness if isinstance(self.element, Layer) else 0.0
+
+    @property
+    def alpha(self) -> float:
+        return self.k_eff / self.rho_c if self.rho_c > 0 else math.inf
+
+
+@dataclass(frozen=True)
+class NodeInfo:
+    """Where a node sits: part, layer, sub-layer face index (0 = top face of the layer)."""
+
+    part: str
+    layer: str
+    sublayer: int
+    depth: float          # m below the footprint
+    area: float           # heat-path area at this face, m²
+
+
+@dataclass(frozen=True)
+class LayerInfo:
+    """One layer of a column after discretisation."""
+
+    part: str
+    name: str
+    group: str                 # "device" | "part" | "board" | "mount" | "sink"
+    material: str
+    thickness: float           # m (0 for interfaces)
+    nodes: tuple[str, ...]     # face nodes, top first (shared with the neighbours)
+    resistance: float          # K/W along the path through this layer
+    capacity: float            # J/K stored in this layer
+    angle: float | None        # spreading half-angle used, degrees
+    area_top: float            # m²
+    area_bottom: float         # m²
+    limit_C: float | None      # material limit, degC
+
+    @property
+    def time_constant(self) -> float:
+        """R·C of the layer, s."""
+        return self.resistance * self.capacity
+
+
+@dataclass(frozen=True)
+class ColumnInfo:
+    """A part's heat path from its junction to the sink."""
+
+    part: str
+    junction: str
+    top: str                   # first node of the stack (junction, or case for data sheets)
+    bottom: str                # last node (sink node / base boundary for a merged bottom)
+    layers: tuple[LayerInfo, ...]
+
+
+# --------------------------------------------------------------------------------------
+# result
+# --------------------------------------------------------------------------------------
+@dataclass(eq=False)
+class BuiltModel:
+    """A stack-up turned into a :class:`ThermalNetwork`, with its bookkeeping.
+
+    Attributes
+    ----------
+    network
+        The RC network (temperatures in degC at its API).
+    assembly
+        The description it was built from.
+    node_map
+        Node name -> :class:`NodeInfo` (part, layer, sub-layer face).
+    probes
+        Junction node names (one per part), then the nodes watched for material limits.
+    limits
+        Probe -> temperature limit, degC: device junction limits, laminate maximum service
+        temperature, solder melting point (hottest face of the layer in each column).
+    inputs
+        Part name -> input name of its heat (the input is named like the part).
+    columns
+        Part name -> :class:`ColumnInfo`.
+    sink_node
+        The shared sink node or boundary.
+    ambient
+        The boundary the rises are referred to.
+    options
+        Build options (spreading, angle, fidelity, t_min).
+    """
+
+    network: ThermalNetwork
+    assembly: Assembly
+    node_map: dict[str, NodeInfo]
+    probes: tuple[str, ...]
+    limits: dict[str, float]
+    inputs: dict[str, str]
+    columns: dict[str, ColumnInfo]
+    sink_node: str
+    ambient: str
+    options: dict[str, Any] = field(default_factory=dict)
+
+    @property
+    def junctions(self) -> dict[str, str]:
+        """Part name -> junction node."""
+        return {p: c.junction for p, c in self.columns.items()}
+
+    @property
+    def node_count(self) -> int:
+        """Number of free nodes of the network."""
+        return len(self.network.nodes)
+
+    def steady_resistance(self, part: str | None = None) -> float:
+        """Junction rise per watt of the part's own input (others off), K/W."""
+        part = part if part is not None else next(iter(self.columns))
+        res = self.network.steady({self.inputs[part]: 1.0})
+        return res.T(self.columns[part].junction) - res.T(self.ambient)
+
+    def report(self, powers: Mapping[str, float] | None = None):
+        """Where the heat is held up: see :func:`pulsetherm.network.report.stack_report`."""
+        from .report import stack_report
+        return stack_report(self, powers)
+
+
+# --------------------------------------------------------------------------------------
+# build
+# --------------------------------------------------------------------------------------
+def _resolve(group: str, e: Layer | AreaResistance, library, angle: float,
+             default_cap: tuple[float, float] | None) -> _Seg:
+    if isinstance(e, AreaResistance):
+        return _Seg(group, e.name, e)
+    mat = resolve_material(e.material, library)
+    keep = 1.0 - e.void_fraction
+    cap = e.size if e.size is not None else default_cap
+    seg = _Seg(group, e.name, e, mat, cap, k_eff=mat.k * keep, rho_c=mat.rho_c * keep,
+               angle=e.spreading_angle if e.spreading_angle is not None else angle)
+    if e.vias is not None:
+        seg.k_via = _via_k(e, mat)
+        if e.via_area is not None:
+            seg.via_area = e.via_area[0] * e.via_area[1]
+    return seg
+
+
+def _via_k(layer: Layer, mat: Material) -> float:
+    """Effective through-plane conductivity of the via field in ``layer``."""
+    v = layer.vias
+    for attr in ("k_z_eff", "k_eff", "k_z"):
+        f = getattr(v, attr, None)
+        if f is None:
+            continue
+        try:
+            val = f(mat.k) if callable(f) else f
+        except TypeError:
+            val = f(k_laminate=mat.k)
+        return float(val)
+    if isinstance(v, (int, float)) and not isinstance(v, bool) and v > 0:
+        return float(v)
+    raise StackupError(f"Layer({layer.name}).vias = {v!r}: expected a via field with an "
+                       "effective through-plane conductivity (k_z_eff) or a number in W/(m·K)")
+
+
+def _column_segments(part: Part, asm: Assembly, library, angle: float) -> list[_Seg]:
+    segs = [_resolve("part", e, library, angle, None) for e in part.stack]
+    board_cap = asm.board.size if asm.board is not None else None
+    if asm.board is not None:
+        for e in asm.board.layers:
+            s = _resolve("board", e, library, angle, board_cap)
+            s.name = f"board-{s.name}"
+            segs.append(s)
+    for e in asm.mount.interface:
+        s = _resolve("mount", e, library, angle, board_cap)
+        s.name = f"mount-{s.name}"
+        segs.append(s)
+    return segs
+
+
+class _Net:
+    """Netlist collected while building (capacities accumulate), emitted once."""
+
+    def __init__(self) -> None:
+        self.boundaries: dict[str, float] = {}
+        self.caps: dict[str, float] = {}
+        self.labels: dict[str, str] = {}
+        self.edges: list[tuple[str, str, float, float]] = []
+        self.cauers: list[tuple[Any, str, str, str, str]] = []
+        self.inputs: dict[str, dict[str, float]] = {}
+
+    def node(self, name: str, cap: float = 0.0, label: str = "") -> str:
+        if name in self.caps or name in self.boundaries:
+            raise StackupError(f"node {name!r} defined twice (layer names clash in a column)")
+        self.caps[name] = cap
+        self.labels[name] = label
+        return name
+
+    def add_cap(self, name: str, cap: float) -> None:
+        if name in self.caps:
+            self.caps[name] += cap
+
+    def connect(self, a: str, b: str, g: float, a_exp: float = 0.0) -> None:
+        self.edges.append((a, b, g, a_exp))
+
+    def is_boundary(self, name: str) -> bool:
+        return name in self.boundaries
+
+    def emit(self) -> ThermalNetwork:
+        net = ThermalNetwork()
+        for b, T in self.boundaries.items():
+            net.add_boundary(b, T)
+        for n, c in self.caps.items():
+            net.add_node(n, c, label=self.labels[n])
+        for a, b, g, ae in self.edges:
+            net.connect(a, b, conductance=g, k_exponent=ae)
+        for ladder, top, bottom, prefix, label in self.cauers:
+            net.add_cauer(ladder, top, bottom, prefix=prefix, label=label)
+        for name, nodes in self.inputs.items():
+            net.add_input(name, nodes=nodes)
+        return net
+
+
+def build(assembly: Assembly, *, t_min: float = DEFAULT_T_MIN,
+          fidelity: str | float | Grading = "normal", spreading: str = "angle",
+          angle: float = DEFAULT_ANGLE, library=None, nonlinear: bool = False,
+          reference: str = "series") -> BuiltModel:
+    """Turn a stack-up into a thermal RC network.
+
+    Parameters
+    ----------
+    assembly
+        Parts, board and mounting.
+    t_min
+        Shortest waveform feature to resolve near the sources, s (first sub-layer
+        ``first``·√(α·t_min)).
+    fidelity
+        "coarse", "normal", "fine", a refinement number (2 = twice as fine as normal) or a
+        :class:`Grading`.
+    spreading
+        "angle": frustum with each layer's angle (default ``angle``); "calibrated": angles
+        fitted so the steady resistance of each column equals the published spreading
+        solution (:func:`calibrate_angles`); "none": 1-D columns of the footprint's size.
+    angle
+        Default spreading half-angle, degrees (45° by common practice, no source).
+    library
+        Material library for layer material names (default library if ``None``).
+    nonlinear
+        Give each conductance its material's k(T) exponent (used by the nonlinear solver).
+    reference
+        Calibration reference: "series" (exact series, Yovanovich et al. 1998, with the
+        compound-layer recursion of Yovanovich et al. 1999) or "lee" (Lee et al. 1995).
+
+    Returns
+    -------
+    BuiltModel
+        Network, node map, probes, limits and inputs (one input per part, named like it).
+    """
+    if not isinstance(assembly, Assembly):
+        raise StackupError(f"assembly = {assembly!r}: expected an Assembly")
+    if isinstance(t_min, bool) or not isinstance(t_min, (int, float)) \
+            or not (math.isfinite(t_min) and 0 < t_min < 1e4):
+        raise StackupError(f"t_min = {t_min!r}: expected the shortest waveform feature in "
+                           "s, > 0 and < 1e4")
+    if spreading not in ("angle", "calibrated", "none"):
+        raise StackupError(f"spreading = {spreading!r}: expected 'angle', 'calibrated' or "
+                           "'none'")
+    if isinstance(angle, bool) or not isinstance(angle, (int, float)) \
+            or not 0 <= angle < 90:
+        raise StackupError(f"angle = {angle!r}: expected a half-angle in degrees, [0, 90)")
+    if reference not in ("series", "lee"):
+        raise StackupError(f"reference = {reference!r}: expected 'series' or 'lee'")
+    grade = grading(fidelity)
+    nl = _Net()
+    sink = assembly.mount.sink
+    node_map: dict[str, NodeInfo] = {}
+
+    # -- sink -------------------------------------------------------------------------
+    if isinstance(sink, FixedBase):
+        nl.boundaries["base"] = sink.temperature
+        sink_node, ambient, merge = "base", "base", True
+    elif isinstance(sink, LumpedSink):
+        nl.boundaries["ambient"] = sink.ambient
+        nl.node("sink", sink.capacity, label="sink")
+        nl.connect("sink", "ambient", 1.0 / sink.resistance)
+        sink_node, ambient, merge = "sink", "ambient", True
+    else:
+        nl.boundaries["ambient"] = sink.ambient
+        ambient = "ambient"
+        if sink.area is not None:
+            nl.node("sink", sink.capacity, label="sink")
+            nl.connect("sink", "ambient", sink.h * sink.area)
+            sink_node, merge = "sink", True
+        else:
+            sink_node, merge = "ambient", False
+
+    columns: dict[str, ColumnInfo] = {}
+    inputs: dict[str, str] = {}
+    probes: list[str] = []
+    limits: dict[str, float] = {}
+    board_faces: dict[str, dict[str, list[tuple[str, float, float]]]] = {}
+    for part in assembly.parts:
+        segs = _column_segments(part, assembly, library, angle)
+        if spreading == "none":
+            for s in segs:
+                s.angle = 0.0
+        elif spreading == "calibrated":
+            calibrate_angles(segs, part.footprint, sink, reference=reference)
+        col = _build_column(nl, part, segs, grade, t_min, sink, sink_node, merge,
+                            nonlinear, node_map, board_faces)
+        columns[part.name] = col
+        inputs[part.name] = part.name
+        probes.append(col.junction)
+        if part.junction_limit is not None:
+            limits[col.junction] = part.junction_limit
+    for part in assembly.parts:
+        for lay in columns[part.name].layers:
+            if lay.limit_C is None or not lay.nodes:
+                continue
+            probe = lay.nodes[0]
+            if nl.is_boundary(probe) or probe == sink_node:
+                continue
+            if probe not in limits:
+                probes.append(probe)
+                limits[probe] = lay.limit_C
+            else:
+                limits[probe] = min(limits[probe], lay.limit_C)
+    if assembly.board is not None and len(assembly.parts) > 1:
+        _couple_columns(nl, assembly, board_faces, library)
+    net = nl.emit()
+    opts = dict(t_min=t_min, fidelity=fidelity, grading=grade, spreading=spreading,
+                angle=angle, nonlinear=nonlinear, reference=reference)
+    return BuiltModel(net, assembly, node_map, tuple(probes), limits, inputs, columns,
+                      sink_node, ambient, opts)
+
+
+def _via_field(seg: _Seg, w: float, l: float) -> tuple[float, float] | None:
+    if seg.k_via is None:
+        return None
+    if seg.via_area is not None:
+        av = seg.via_area
+    else:
+        W, L = seg.cap if seg.cap is not None else (math.inf, math.inf)
+        av = min(w, W) * min(l, L)
+    return (seg.k_via * (1.0 - seg.element.void_fraction), av)
+
+
+def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min: float,
+                  sink, sink_node: str, merge: bool, nonlinear: bool,
+                  node_map: dict, board_faces: dict) -> ColumnInfo:
+    p = part.name
+    junction = part.junction
+    top = f"{p}.case" if part.datasheet else junction
+    w, l = part.footprint
+    s_len = [s.thickness / math.sqrt(s.alpha) if s.thickness > 0 else 0.0 for s in segs]
+    xis = sublayer_edges(s_len, grade.first * math.sqrt(t_min), grade.growth)
+    layers: list[LayerInfo] = []
+
+    if not segs:
+        if merge:
+            top = sink_node
+        else:
+            nl.node(top, 0.0, label=f"{p}/case")
+            nl.connect(top, sink_node, sink.h * w * l)
+            node_map[top] = NodeInfo(p, "case", 0, 0.0, w * l)
+            layers.append(LayerInfo(p, "film", "sink", "film", 0.0, (top, sink_node),
+                                    1.0 / (sink.h * w * l), 0.0, None, w * l, w * l, None))
+    else:
+        nl.node(top, 0.0, label=f"{p}/{segs[0].name}")
+        node_map[top] = NodeInfo(p, segs[0].name, 0, 0.0, w * l)
+
+    current = top
+    depth = 0.0
+    for si, (seg, xi) in enumerate(zip(segs, xis)):
+        last_seg = si == len(segs) - 1
+        label = f"{p}/{seg.name}"
+        faces = [current]
+        area_top = w * l
+        if isinstance(seg.element, AreaResistance):
+            name = sink_node if (last_seg and merge) else nl.node(f"{p}.{seg.name}", 0.0,
+                                                                 label=label)
+            if name != sink_node:
+                node_map[name] = NodeInfo(p, seg.name, 1, depth, w * l)
+            r = seg.element.r_area / (w * l)
+            nl.connect(current, name, 1.0 / r)
+            faces.append(name)
+            layers.append(LayerInfo(p, seg.name, seg.group, "area resistance", 0.0,
+                                    tuple(faces), r, 0.0, None, area_top, area_top, None))
+            current = name
+            continue
+        t = seg.thickness
+        tan = math.tan(math.radians(seg.angle))
+        via = _via_field(seg, w, l)
+        mat = seg.material
+        a_exp = mat.k_exponent if nonlinear else 0.0
+        R_layer, C_layer = 0.0, 0.0
+        z = xi * t
+        for kk in range(len(xi) - 1):
+            g, c_top, c_bot = frustum_sublayer(z[kk], z[kk + 1], w, l, tan, seg.cap,
+                                               seg.k_eff, seg.rho_c, via)
+            R_layer += 1.0 / g
+            C_layer += c_top + c_bot
+            ww, ll = path_size(z[kk + 1], w, l, tan, seg.cap)
+            if kk == len(xi) - 2 and last_seg and merge:
+                name = sink_node
+            else:
+                name = nl.node(f"{p}.{seg.name}.{kk + 1}", 0.0, label=label)
+                node_map[name] = NodeInfo(p, seg.name, kk + 1, depth + z[kk + 1], ww * ll)
+            nl.add_cap(name, c_bot)
+            nl.add_cap(current, c_top)
+            nl.connect(current, name, g, a_exp)
+            faces.append(name)
+            current = name
+        w_new, l_new = path_size(t, w, l, tan, seg.cap)
+        layers.append(LayerInfo(p, seg.name, seg.group, mat.name, t, tuple(faces), R_layer,
+                                C_layer, seg.angle, area_top, w_new * l_new, mat.t_max_C))
+        if seg.group == "board":
+            # thickness each face stands for (half of each neighbouring sub-layer)
+            share = np.zeros(len(xi))
+            d = np.diff(xi) * t
+            share[:-1] += 0.5 * d
+            share[1:] += 0.5 * d
+            board_faces.setdefault(seg.name, {})[p] = [
+                (f, float(share[i]), 0.5 * (w + w_new)) for i, f in enumerate(faces)]
+        w, l = w_new, l_new
+        depth += t
+    if segs and not merge:
+        nl.connect(current, sink_node, sink.h * w * l)
+        layers.append(LayerInfo(p, "film", "sink", "film", 0.0, (current, sink_node),
+                                1.0 / (sink.h * w * l), 0.0, None, w * l, w * l, None))
+    elif sink_node == "sink":
+        r = sink.resistance if isinstance(sink, LumpedSink) else 1.0 / (sink.h * sink.area)
+        layers.append(LayerInfo(p, "sink", "sink", "sink", 0.0, ("sink", "ambient"), r,
+                                sink.capacity, None, w * l, w * l, None))
+
+    if part.datasheet:
+        ladder = part.foster.to_cauer() if part.foster is not None else _SingleR(part.rth)
+        nl.cauers.append((ladder, junction, top, f"{p}.jc", f"{p}/device"))
+        n = len(ladder.R)
+        names = [junction] + [f"{p}.jc.{k}" for k in range(1, n)]
+        for k, nm in enumerate(names):
+            node_map[nm] = NodeInfo(p, "device", k, 0.0, part.footprint[0] * part.footprint[1])
+        a0 = part.footprint[0] * part.footprint[1]
+        layers.insert(0, LayerInfo(p, "device", "device", "junction-to-case", 0.0,
+                                   tuple(names) + (top,), float(np.sum(ladder.R)),
+                                   float(np.sum(ladder.C)), None, a0, a0, None))
+    nl.inputs[p] = {junction: 1.0}
+    return ColumnInfo(p, junction, top, current, tuple(layers))
+
+
+@dataclass(frozen=True)
+class _SingleR:
+    """A junction-to-case resistance alone: one massless stage."""
+
+    rth: float
+
+    @property
+    def R(self) -> np.ndarray:
+        return np.array([self.rth])
+
+    @property
+    def C(self) -> np.ndarray:
+        return np.array([0.0])
+
+
+def _couple_columns(nl: _Net, asm: Assembly, board_faces: dict, library) -> None:
+    """In-plane conduction of the board layers between part columns.
+
+    g = k_inplane·t·w̄/d between each pair of columns in each board layer: a strip of the
+    mean heat-path width w̄ over the centre distance d (at least w̄), spread over the
+    layer's face nodes in proportion to the thickness each face stands for (a coarse
+    lateral model; common practice, no source).
+    """
+    parts = asm.parts
+    for e in asm.board.layers:
+        if not isinstance(e, Layer):
+            continue
+        name = f"board-{e.name}"
+        mat = resolve_material(e.material, library)
+        k_in = mat.k_inplane * (1.0 - e.void_fraction)
+        faces = board_faces.get(name, {})
+        for i in range(len(parts)):
+            for j in range(i + 1, len(parts)):
+                fa, fb = faces.get(parts[i].name), faces.get(parts[j].name)
+                if not fa or not fb:
+                    continue
+                (xa, ya), (xb, yb) = parts[i].position, parts[j].position
+                wbar = 0.5 * (np.mean([f[2] for f in fa]) + np.mean([f[2] for f in fb]))
+                d = max(math.hypot(xb - xa, yb - ya), wbar)
+                ta = np.array([f[1] for f in fa])
+                tb = np.array([f[1] for f in fb])
+                g = k_in * float(ta.sum()) * wbar / d
+                # the layer-mean temperature of each column: faces weighted by thickness
+                wa, wb = ta / ta.sum(), tb / tb.sum()
+                for (na, _, _), xa_ in zip(fa, wa):
+                    for (nb, _, _), xb_ in zip(fb, wb):
+                        if xa_ * xb_ > 0 and not (nl.is_boundary(na) and nl.is_boundary(nb)) \
+                                and na != nb:
+                            nl.connect(na, nb, g * xa_ * xb_)
+
+
+# --------------------------------------------------------------------------------------
+# calibrated spreading
+# --------------------------------------------------------------------------------------
+_J1_ROOTS_EXACT = 60
+
+
+def _j1_roots(n: int) -> np.ndarray:
+    """First n positive roots of J1: exact for the first 60 (scipy), McMahon's expansion
+    beyond, λ ≈ β − 3/(8β) − 36/(8β)³·(7·4 − 31)/3·... with β = (m + 1/4)π
+    (Abramowitz & Stegun 9.5.12, μ = 4), accurate to ~1e-12 there."""
+    from scipy.special import jn_zeros
+    head = jn_zeros(1, min(n, _J1_ROOTS_EXACT))
+    if n <= _J1_ROOTS_EXACT:
+        return head
+    m = np.arange(_J1_ROOTS_EXACT + 1, n + 1, dtype=float)
+    beta = (m + 0.25) * math.pi
+    mu = 4.0
+    b8 = 8.0 * beta
+    tail = (beta - (mu - 1) / b8 - 4 * (mu - 1) * (7 * mu - 31) / (3 * b8 ** 3)
+            - 32 * (mu - 1) * (83 * mu ** 2 - 982 * mu + 3779) / (15 * b8 ** 5))
+    return np.concatenate([head, tail])
+
+
+def disk_spreading(a: float, b: float, k: Sequence[float], t: Sequence[float],
+                   h: float) -> float:
+    """Mean-source-temperature resistance R_sp + R_1D of an isoflux circle on a compound
+    disk, K/W (fast form used inside the calibration loop).
+
+    R_sp = Σ 4·J1²(δ_n a)·φ(δ_n) / [π k_1 a² b² δ_n³ J0²(λ_n)], δ_n = λ_n/b, λ_n the roots
+    of J1, φ from :func:`pulsetherm.network.spreading.layer_phi` (Yovanovich, Culham &
+    Teertstra 1998; compound layers: Yovanovich, Muzychka & Culham 1999).  Truncated at
+    N = max(400, 16·b/a) terms with the asymptotic tail Σ_{n>N} ≈ b²/(π⁴ k_1 a³ N²) (terms
+    → 2b²/(π k_1 a³ λ_n³) once φ = 1 and the Bessel functions are asymptotic) added.
+    """
+    from scipy.special import j0, j1
+    from .spreading import layer_phi
+    ks = np.asarray(k, dtype=float)
+    ts = np.asarray(t, dtype=float)
+    A = math.pi * b * b
+    r1d = float(np.sum(ts / ks)) / A + (0.0 if math.isinf(h) else 1.0 / (h * A))
+    if a >= b * (1 - 1e-12):
+        return r1d
+    n = int(min(200_000, max(400, 16.0 * b / a)))
+    lam = _j1_roots(n)
+    d = lam / b
+    phi = layer_phi(d, ks, ts, h)
+    j1a = j1(d * a)
+    terms = 4.0 * j1a ** 2 * phi / (math.pi * ks[0] * a * a * b * b * d ** 3 * j0(lam) ** 2)
+    tail = b * b / (math.pi ** 4 * ks[0] * a ** 3 * n * n)
+    return float(np.sum(terms) + tail + r1d)
+
+
+def _sink_h(sink, plate_area: float) -> float:
+    """The sink as a film coefficient under a plate of ``plate_area`` (m²)."""
+    if isinstance(sink, FixedBase):
+        return math.inf
+    if isinstance(sink, LumpedSink):
+        return 1.0 / (sink.resistance * plate_area)
+    if sink.area is not None:
+        return sink.h * sink.area / plate_area
+    return sink.h
+
+
+def _sink_r(sink, area: float) -> float:
+    """Resistance the ladder puts under a heat path of ``area`` (m²), K/W."""
+    if isinstance(sink, FixedBase):
+        return 0.0
+    if isinstance(sink, LumpedSink):
+        return sink.resistance
+    if sink.area is not None:
+        return 1.0 / (sink.h * sink.area)
+    return 1.0 / (sink.h * area)
+
+
+def calibrate_angles(segs: list[_Seg], footprint: tuple[float, float], sink,
+                     reference: str = "series") -> list[float]:
+    """Fit each layer's spreading angle to the published spreading solution (in place).
+
+    Method (telescoping).  Let R_ref(j, A) be the reference resistance (mean source rise per
+    watt) of a source of area A on top of element j and everything below it.  Layer j with
+    incoming heat path A_j gets the angle θ_j that solves
+
+        R_frustum,j(θ_j) + R_ref(j + 1, A_{j+1}(θ_j)) = R_ref(j, A_j),
+
+    A_{j+1}(θ) the frustum's bottom area; below the last element R_ref is the sink as the
+    ladder builds it.  Summed over the column the terms telescope, so the ladder's steady
+    resistance equals R_ref(1, footprint) (up to area-resistance interfaces, which keep
+    their exact r/A).
+
+    R_ref of a run of consecutive elements of one lateral size (the plate) is the
+    compound-disk series (:func:`disk_spreading`, equal-area circles a = √(A/π),
+    b = √(A_p/π)) over an effective film h = 1/(A_p·R_ref(next run, plate area)) that
+    stands for the rest of the stack (a wider layer below sees the run's plate as its
+    source): the superposition practice of package spreading estimates.  An area resistance
+    r enters the series as a layer of the material below of thickness r·k_below.  With
+    ``reference="lee"`` single-layer runs use Lee et al. (1995) instead.  A layer with no
+    size takes the size of the nearest sized layer below (above if none).
+
+    Returns the angles, degrees (also stored on the segments).
+    """
+    from .spreading import lee_1995
+    nseg = len(segs)
+    if nseg == 0:
+        return []
+    # plate of every element
+    caps = [s.cap for s in segs]
+    plates: list[tuple[float, float] | None] = []
+    for j in range(nseg):
+        p = next((c for c in caps[j:] if c is not None), None)
+        if p is None:
+            p = next((c for c in reversed(caps[:j]) if c is not None), None)
+        plates.append(p)
+    if plates[0] is None:                      # nothing sized: keep the default angles
+        return [s.angle for s in segs]
+    for j in range(nseg):                      # interfaces join the run above them
+        if isinstance(segs[j].element, AreaResistance) and j > 0:
+            plates[j] = plates[j - 1]
+    runs: list[tuple[int, int]] = []
+    j = 0
+    while j < nseg:
+        e = j
+        while e + 1 < nseg and np.allclose(plates[e + 1], plates[j], rtol=1e-9):
+            e += 1
+        runs.append((j, e))
+        j = e + 1
+    run_of = {j: r for r, (s, e) in enumerate(runs) for j in range(s, e + 1)}
+
+    def layer_kt(j0: int, j1: int) -> tuple[list[float], list[float]]:
+        ks, ts = [], []
+        for i in range(j0, j1 + 1):
+            s = segs[i]
+            if isinstance(s.element, AreaResistance):
+                kb = next((x.k_eff for x in segs[i + 1:] if x.material is not None),
+                          next((x.k_eff for x in reversed(segs[:i]) if x.material
+                                is not None), 1.0))
+                ks.append(kb)
+                ts.append(s.element.r_area * kb)
+            else:
+                ks.append(s.k_eff)
+                ts.append(s.thickness)
+        return ks, ts
+
+    below_cache: dict[int, float] = {}
+
+    def run_below(r: int) -> float:
+        """R_ref of everything below run r, for a source the size of run r's plate."""
+        if r in below_cache:
+            return below_cache[r]
+        s, e = runs[r]
+        P = plates[s]
+        if r + 1 == len(runs):
+            val = _sink_r(sink, P[0] * P[1])
+        else:
+            ns = runs[r + 1][0]
+            Pn = plates[ns]
+            src = (min(P[0], Pn[0]), min(P[1], Pn[1]))
+            val = r_ref(ns, src)
+        below_cache[r] = val
+        return val
+
+    def r_ref(j: int, src: tuple[float, float]) -> float:
+        if j >= nseg:
+            return _sink_r(sink, src[0] * src[1])
+        r = run_of[j]
+        s, e = runs[r]
+        P = plates[j]
+        Ap = P[0] * P[1]
+        As = min(src[0], P[0]) * min(src[1], P[1])
+        rb = run_below(r)
+        h = math.inf if rb == 0.0 else 1.0 / (Ap * rb)
+        ks, ts = layer_kt(j, e)
+        if reference == "lee" and len(ks) == 1:
+            return lee_1995(As, Ap, ks[0], ts[0], h).total
+        return disk_spreading(math.sqrt(As / math.pi), math.sqrt(Ap / math.pi), ks, ts, h)
+
+    from scipy.optimize import brentq
+    w, l = footprint
+    angles = []
+    for j, seg in enumerate(segs):
+        if isinstance(seg.element, AreaResistance):
+            angles.append(seg.angle)
+            continue
+        target = r_ref(j, (w, l))
+        t = seg.thickness
+
+        def f(theta_deg: float) -> float:
+            tan = math.tan(math.radians(theta_deg))
+            g, _, _ = frustum_sublayer(0.0, t, w, l, tan, seg.cap, seg.k_eff, 1.0)
+            wn, ln = path_size(t, w, l, tan, seg.cap)
+            return 1.0 / g + r_ref(j + 1, (wn, ln)) - target
+
+        lo, hi = 0.0, 89.0
+        flo, fhi = f(lo), f(hi)
+        if flo <= 0.0:
+            theta = lo
+        elif fhi >= 0.0:
+            theta = hi
+        else:
+            theta = brentq(f, lo, hi, xtol=1e-6, rtol=1e-10)
+        seg.angle = theta
+        angles.append(theta)
+        w, l = path_size(t, w, l, math.tan(math.radians(theta)), seg.cap)
+    return angles
