@@ -23,7 +23,7 @@ all pulses of a period are laid out at once with numpy, zero-length segments dro
 from __future__ import annotations
 
 import math
-from dataclasses import InitVar, dataclass
+from dataclasses import dataclass, field
 from numbers import Integral, Real
 
 import numpy as np
@@ -80,7 +80,25 @@ def pulse_segments(starts: np.ndarray, ends: np.ndarray, widths: np.ndarray, *, 
     keep = lengths > TIME_RTOL * span
     edges = np.append(seg_start[keep], span)
     edges[0] = 0.0
-    return merge_segments(Piecewise(edges, level[keep], slope[keep], True))
+    level = level[keep]
+    slope = slope[keep].copy()
+    kind = np.broadcast_to(np.arange(4), (n, 4))[keep]
+    ramp = (kind == 0) | (kind == 2)
+    if ramp.any():
+        # Ramp slopes from the actual edge spacing (absolute times carry rounding), then
+        # nudged toward zero until the ramp ends inside [idle, peak]: the form never
+        # overshoots the peak nor dips below idle.
+        w = np.diff(edges)[ramp]
+        target = np.where(kind[ramp] == 0, peak, idle)
+        s = (target - level[ramp]) / w
+        for _ in range(4):
+            end = level[ramp] + s * w
+            out = (end > peak) | (end < idle)
+            if not out.any():
+                break
+            s[out] = np.nextafter(s[out], 0.0)
+        slope[ramp] = s
+    return merge_segments(Piecewise(edges, level, slope, True))
 
 
 def _check_ramps(owner: str, rise: float, fall: float, widths: np.ndarray,
@@ -140,7 +158,7 @@ class Constant(WaveformBase):
         return 1.0 if self.power > 0 else 0.0
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, init=False)
 class PulseTrain(WaveformBase):
     """A periodic train of identical pulses.
 
@@ -153,8 +171,9 @@ class PulseTrain(WaveformBase):
     period
         Pulse repetition interval, s.  Give exactly one of ``period``, ``prf`` (Hz) and
         ``duty`` (in (0, 1]; period = width/duty).  The result is stored as ``period``;
-        ``prf`` and ``duty`` are then read-only attributes (to change the PRF with
-        ``dataclasses.replace`` pass ``period=None, prf=...``).
+        ``prf`` and ``duty`` are then read-only attributes.  ``dataclasses.replace`` keeps
+        the period (``replace(train, width=2e-6)`` changes the duty); to change the PRF
+        pass ``period=1/prf``.
     idle
         Quiescent power between pulses, W (>= 0).
     rise, fall
@@ -171,13 +190,22 @@ class PulseTrain(WaveformBase):
     peak: float
     width: float
     period: float | None = None
-    prf: InitVar[float | None] = None
-    duty: InitVar[float | None] = None
     idle: float = 0.0
     rise: float = 0.0
     fall: float = 0.0
+    # derived, read-only (not constructor fields, so dataclasses.replace leaves them out)
+    prf: float = field(init=False, repr=False, compare=False)
+    duty: float = field(init=False, repr=False, compare=False)
 
-    def __post_init__(self, prf, duty) -> None:
+    def __init__(self, peak: float, width: float, period: float | None = None, *,
+                 prf: float | None = None, duty: float | None = None, idle: float = 0.0,
+                 rise: float = 0.0, fall: float = 0.0) -> None:
+        for name, v in (("peak", peak), ("width", width), ("period", period), ("idle", idle),
+                        ("rise", rise), ("fall", fall)):
+            object.__setattr__(self, name, v)
+        self._validate(prf, duty)
+
+    def _validate(self, prf, duty) -> None:
         peak = check_power("PulseTrain.peak", self.peak)
         idle = check_power("PulseTrain.idle", self.idle)
         if idle > peak:
@@ -209,7 +237,6 @@ class PulseTrain(WaveformBase):
         for name, v in (("peak", peak), ("idle", idle), ("width", width), ("rise", rise),
                         ("fall", fall), ("period", period)):
             object.__setattr__(self, name, v)
-        # read-only derived attributes (the InitVar names)
         object.__setattr__(self, "prf", 1.0 / period)
         object.__setattr__(self, "duty", min(width / period, 1.0))
 
@@ -236,7 +263,7 @@ def _whole(field: str, value, low: int = 1) -> int:
     return int(value)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, init=False)
 class Burst(WaveformBase):
     """``pulses`` pulses of ``train``, repeated every burst ``period``.
 
@@ -251,7 +278,8 @@ class Burst(WaveformBase):
     gap
         Idle time from the end of the N-th pulse (the end of its fall ramp) to the start of
         the next burst, s (>= 0):  ``period = (N - 1)*T + width + (rise + fall)/2 + gap``,
-        T the train's period.  Stored as ``period``; ``gap`` is then a read-only attribute.
+        T the train's period.  Stored as ``period``; ``gap`` is then a read-only attribute
+        (``dataclasses.replace`` keeps the burst period).
 
     Notes
     -----
@@ -261,9 +289,17 @@ class Burst(WaveformBase):
     train: PulseTrain
     pulses: int
     period: float | None = None
-    gap: InitVar[float | None] = None
+    # derived, read-only (not a constructor field, so dataclasses.replace leaves it out)
+    gap: float = field(init=False, repr=False, compare=False)
 
-    def __post_init__(self, gap) -> None:
+    def __init__(self, train: PulseTrain, pulses: int, period: float | None = None, *,
+                 gap: float | None = None) -> None:
+        object.__setattr__(self, "train", train)
+        object.__setattr__(self, "pulses", pulses)
+        object.__setattr__(self, "period", period)
+        self._validate(gap)
+
+    def _validate(self, gap) -> None:
         if not isinstance(self.train, PulseTrain):
             raise WaveformError(f"Burst.train = {self.train!r}: expected a PulseTrain")
         n = _whole("Burst.pulses", self.pulses)
