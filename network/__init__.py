@@ -1,0 +1,14 @@
+"""pulsetherm.network: the thermal RC network model, its exact solvers, thermal impedance,
+Foster/Cauer networks, stack-up builder, RF line heating, scenarios, sweeps and sizing."""
+from .foster import Cauer, Foster, FosterError, FosterFit, fit_foster
+from .model import NetworkError, ThermalNetwork
+from .result import Response
+from .structure import StructureFunction, structure_function
+from .system import ThermalSystem
+from .zth import PulsedZth, ZthCurve
+
+__all__ = [
+    "Cauer", "Foster", "FosterError", "FosterFit", "NetworkError", "PulsedZth", "Response",
+    "StructureFunction", "ThermalNetwork", "ThermalSystem", "ZthCurve", "fit_foster",
+    "structure_function",
+]
