@@ -293,3 +293,988 @@ def _dump_table_body(data: dict[str, Any], path: list[str], out: list[str]) -> N
     rest = {k: v for k, v in data.items() if isinstance(v, dict) or _is_table_array(v)}
     if rest:
         _dump_table(rest, path, out, header=None)
+
+
+# ======================================================================================
+# Quantities
+# ======================================================================================
+@dataclass(frozen=True)
+class Quantity:
+    """A value read from a scenario: the text as written and its SI value.
+
+    ``value`` is SI (m, s, W, K/W, J/K, Hz, ...); temperatures are absolute kelvin
+    (``degC`` gives degrees Celsius).
+    """
+
+    text: str
+    value: float
+    kind: str
+
+    @property
+    def degC(self) -> float:
+        return self.value - KELVIN_OFFSET
+
+    def __float__(self) -> float:
+        return self.value
+
+
+#: Scenario quantity kinds: (kind name of :func:`pulsetherm.network.units.parse_quantity`,
+#: an example shown in error messages).
+QUANTITY_KINDS: dict[str, tuple[str, str]] = {
+    "length": ("length", "0.508 mm"),
+    "time": ("time", "100 us"),
+    "power": ("power", "42 W"),
+    "temperature": ("temperature", "45 degC"),
+    "difference": ("temperature_difference", "10 K"),
+    "resistance": ("thermal_resistance", "0.35 K/W"),
+    "capacity": ("heat_capacity", "12 J/K"),
+    "frequency": ("frequency", "10 GHz"),
+    "impedance": ("impedance", "50 ohm"),
+    "h": ("heat_transfer_coefficient", "1500 W/(m2 K)"),
+    "area": ("area", "40 cm2"),
+    "area_resistance": ("area_resistance", "0.1 K cm2/W"),
+    "attenuation": ("attenuation", "0.3 dB/cm"),
+    "angle": ("angle", "45 deg"),
+}
+
+
+def parse_quantity(text: Any, kind: str, path: str) -> Quantity:
+    """Parse a unit string of the scenario ``kind``; :class:`ScenarioError` otherwise.
+
+    Uses :func:`pulsetherm.network.units.parse_quantity` (one unit table for the project).
+    A bare number is refused: every quantity in a scenario carries its unit.
+    """
+    units_kind, example = QUANTITY_KINDS[kind]
+    expected = f"a {kind.replace('_', ' ')} with its unit, e.g. {example!r}"
+    if isinstance(text, bool) or not isinstance(text, str):
+        if isinstance(text, (int, float)):
+            raise ScenarioError(path, text, f"{expected} (a bare number has no unit)")
+        raise ScenarioError(path, text, expected)
+    try:
+        value = float(_units_parse()(text, kind=units_kind, field=path))
+    except ValueError as exc:
+        raise ScenarioError(path, text, f"{expected} ({_reason(exc, path)})") from None
+    if not math.isfinite(value):
+        raise ScenarioError(path, text, f"{expected} (a finite value)")
+    return Quantity(text, value, kind)
+
+
+def _units_parse():
+    try:
+        from .units import parse_quantity as units_parse
+    except ImportError:  # the project's unit table is not installed: use the small one here
+        return _fallback_parse
+    return units_parse
+
+
+_FALLBACK_UNITS: dict[str, dict[str, float]] = {
+    "length": {"m": 1.0, "mm": 1e-3, "um": 1e-6, "µm": 1e-6, "cm": 1e-2, "mil": 25.4e-6,
+               "in": 25.4e-3, "nm": 1e-9},
+    "time": {"s": 1.0, "ms": 1e-3, "us": 1e-6, "µs": 1e-6, "ns": 1e-9, "min": 60.0, "h": 3600.0},
+    "power": {"W": 1.0, "mW": 1e-3, "kW": 1e3},
+    "temperature_difference": {"K": 1.0, "degC": 1.0, "mK": 1e-3},
+    "thermal_resistance": {"K/W": 1.0, "degC/W": 1.0, "mK/W": 1e-3},
+    "heat_capacity": {"J/K": 1.0, "mJ/K": 1e-3, "kJ/K": 1e3},
+    "frequency": {"Hz": 1.0, "kHz": 1e3, "MHz": 1e6, "GHz": 1e9},
+    "impedance": {"ohm": 1.0, "Ohm": 1.0, "Ω": 1.0},
+    "heat_transfer_coefficient": {"W/(m2 K)": 1.0, "W/m2/K": 1.0, "W/(m^2 K)": 1.0,
+                                  "W/(m2*K)": 1.0},
+    "area": {"m2": 1.0, "cm2": 1e-4, "mm2": 1e-6, "m^2": 1.0, "cm^2": 1e-4, "mm^2": 1e-6},
+    "area_resistance": {"K m2/W": 1.0, "K cm2/W": 1e-4, "K mm2/W": 1e-6, "K*m2/W": 1.0,
+                        "K*cm2/W": 1e-4, "K*mm2/W": 1e-6},
+    "angle": {"deg": 1.0, "degree": 1.0, "degrees": 1.0},
+}
+
+
+def _fallback_parse(text: str, kind: str, field: str) -> float:
+    """Number and unit from a small table (used only without pulsetherm.network.units)."""
+    m = re.match(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?|[-+]?inf|nan)\s*(.*?)\s*$", text)
+    if not m:
+        raise ValueError(f"{field} = {text!r}: expected a number followed by a unit")
+    x, unit = float(m.group(1)), m.group(2)
+    if kind == "temperature":
+        if unit in ("degC", "°C", "C"):
+            return x + KELVIN_OFFSET
+        if unit == "K":
+            return x
+        if unit in ("degF", "°F"):
+            return (x - 32.0) / 1.8 + KELVIN_OFFSET
+        raise ValueError(f"{field} = {text!r}: unknown temperature unit {unit!r} "
+                         "(degC, K, degF)")
+    table = _FALLBACK_UNITS[kind]
+    if unit not in table:
+        raise ValueError(f"{field} = {text!r}: unknown unit {unit!r} for a "
+                         f"{kind.replace('_', ' ')} (known: {', '.join(table)})")
+    return x * table[unit]
+
+
+def _reason(exc: BaseException, path: str) -> str:
+    """The part of a lower-level message that is not already said by the path."""
+    msg = " ".join(str(exc).split())
+    if msg.startswith(path):
+        msg = msg[len(path):].lstrip(" :=")
+    return msg
+
+
+def parse_difference(text: str, option: str) -> float:
+    """A temperature difference from the command line (``--margin 10 K``), K."""
+    return parse_quantity(text, "difference", option).value
+
+
+# ======================================================================================
+# Schema helpers
+# ======================================================================================
+def _f(tag: str, *, required: bool = False, key: str | None = None, kind: str | None = None,
+       cls: Any = None, check: str = "positive", choices: tuple[str, ...] = (),
+       doc: str = "") -> Any:
+    """A schema field: default None (= not given), metadata describing how to read it.
+
+    Tags: ``str``, ``bool``, ``int``, ``number``, ``choice``, ``q`` (quantity of ``kind``),
+    ``qpair`` (two quantities, or one for a square), ``qlist`` (list of quantities),
+    ``section`` (a table read as ``cls``), ``list`` (array of tables), ``map`` (table of
+    named tables), ``wave`` (a waveform name or an inline waveform table), ``strpair``,
+    ``raw`` (a table kept as it is).
+    """
+    return field(default=None, metadata={"tag": tag, "required": required, "key": key,
+                                         "kind": kind, "cls": cls, "check": check,
+                                         "choices": choices, "doc": doc})
+
+
+def _join(path: str, key: str | int) -> str:
+    if isinstance(key, int):
+        return f"{path}[{key}]"
+    k = key if _BARE.match(key) else f'"{key}"'
+    return f"{path}.{k}" if path else k
+
+
+def _check_value(q: Quantity, check: str, path: str) -> Quantity:
+    v = q.value
+    if check == "positive" and not v > 0:
+        raise ScenarioError(path, q.text, f"a {q.kind} > 0")
+    if check == "nonneg" and not v >= 0:
+        raise ScenarioError(path, q.text, f"a {q.kind} >= 0")
+    if check == "kelvin" and not v > 0:
+        raise ScenarioError(path, q.text, "a temperature above absolute zero")
+    return q
+
+
+def _convert(meta: dict, value: Any, path: str) -> Any:
+    tag = meta["tag"]
+    if tag == "str":
+        if not isinstance(value, str) or not value.strip():
+            raise ScenarioError(path, value, "a non-empty string")
+        return value
+    if tag == "choice":
+        if not isinstance(value, str) or value not in meta["choices"]:
+            close = difflib.get_close_matches(str(value), meta["choices"], n=1)
+            hint = f" (did you mean {close[0]!r}?)" if close else ""
+            raise ScenarioError(path, value, "one of " + ", ".join(repr(c) for c in meta["choices"])
+                                + hint)
+        return value
+    if tag == "bool":
+        if not isinstance(value, bool):
+            raise ScenarioError(path, value, "true or false")
+        return value
+    if tag == "int":
+        if isinstance(value, bool) or not isinstance(value, int) or value < 1:
+            raise ScenarioError(path, value, "a whole number >= 1")
+        return value
+    if tag == "number":
+        if isinstance(value, bool) or not isinstance(value, (int, float)) \
+                or not math.isfinite(value):
+            raise ScenarioError(path, value, "a finite number")
+        if meta["check"] == "fraction" and not 0 <= value < 1:
+            raise ScenarioError(path, value, "a fraction in [0, 1)")
+        if meta["check"] == "positive" and not value > 0:
+            raise ScenarioError(path, value, "a number > 0")
+        return value
+    if tag == "q":
+        return _check_value(parse_quantity(value, meta["kind"], path), meta["check"], path)
+    if tag == "qpair":
+        if isinstance(value, str):
+            q = _check_value(parse_quantity(value, meta["kind"], path), meta["check"], path)
+            return (q, q)
+        if not isinstance(value, list) or len(value) != 2:
+            raise ScenarioError(path, value, f"two {meta['kind']}s [width, length] (or one "
+                                "string for a square)")
+        return tuple(_check_value(parse_quantity(v, meta["kind"], _join(path, i)),
+                                  meta["check"], _join(path, i)) for i, v in enumerate(value))
+    if tag == "qlist":
+        if not isinstance(value, list) or not value:
+            raise ScenarioError(path, value, f"a non-empty list of {meta['kind']}s")
+        return tuple(_check_value(parse_quantity(v, meta["kind"], _join(path, i)),
+                                  meta["check"], _join(path, i)) for i, v in enumerate(value))
+    if tag == "strpair":
+        if not (isinstance(value, list) and len(value) == 2
+                and all(isinstance(v, str) and v.strip() for v in value)):
+            raise ScenarioError(path, value, 'two node names, e.g. ["pa.junction", "sink"]')
+        if value[0] == value[1]:
+            raise ScenarioError(path, value, "two different node names")
+        return tuple(value)
+    if tag == "section":
+        return _load_section(meta["cls"], value, path)
+    if tag == "list":
+        if isinstance(value, dict):
+            value = [value]
+        if not isinstance(value, list):
+            raise ScenarioError(path, value, f"an array of tables ([[{path}]])")
+        return tuple(_load_section(meta["cls"], v, _join(path, i)) for i, v in enumerate(value))
+    if tag == "map":
+        if not isinstance(value, dict):
+            raise ScenarioError(path, value, "a table of named tables")
+        out = {}
+        for k, v in value.items():
+            _check_name(k, _join(path, k))
+            out[k] = _load_section(meta["cls"], v, _join(path, k))
+        return out
+    if tag == "wave":
+        if isinstance(value, str):
+            if not value.strip():
+                raise ScenarioError(path, value, "a waveform name or an inline waveform table")
+            return value
+        if isinstance(value, dict):
+            return _load_section(WaveformSpec, value, path)
+        raise ScenarioError(path, value, "the name of a waveform in [waveforms] or an inline "
+                            "waveform table, e.g. { kind = \"constant\", power = \"2 W\" }")
+    if tag == "raw":
+        if not isinstance(value, dict):
+            raise ScenarioError(path, value, "a table")
+        return value
+    raise AssertionError(tag)  # pragma: no cover - schema programming error
+
+
+def _unconvert(meta: dict, value: Any) -> Any:
+    tag = meta["tag"]
+    if tag == "q":
+        return value.text
+    if tag == "qpair":
+        return value[0].text if value[0] is value[1] else [v.text for v in value]
+    if tag == "qlist":
+        return [v.text for v in value]
+    if tag == "strpair":
+        return list(value)
+    if tag == "section":
+        return _dump_section(value)
+    if tag == "list":
+        return [_dump_section(v) for v in value]
+    if tag == "map":
+        return {k: _dump_section(v) for k, v in value.items()}
+    if tag == "wave":
+        return value if isinstance(value, str) else _dump_section(value)
+    if tag == "raw":
+        return dict(value)
+    return value
+
+
+def _check_name(name: Any, path: str) -> str:
+    if not isinstance(name, str) or not re.fullmatch(r"[A-Za-z0-9_\-]+", name):
+        raise ScenarioError(path, name, "a name of letters, digits, '_' or '-' (no dots or "
+                            "spaces: names become node names such as 'pa.junction')")
+    return name
+
+
+def _schema(cls) -> dict[str, dataclasses.Field]:
+    return {f.metadata.get("key") or f.name: f for f in dataclasses.fields(cls)
+            if "tag" in f.metadata}
+
+
+def _load_section(cls, data: Any, path: str):
+    if not isinstance(data, dict):
+        raise ScenarioError(path, data, f"a table of {cls._what} keys "
+                            f"({', '.join(_schema(cls))})")
+    schema = _schema(cls)
+    for key in data:
+        if key not in schema:
+            close = difflib.get_close_matches(str(key), list(schema), n=1, cutoff=0.6)
+            hint = f"did you mean {close[0]!r}? " if close else ""
+            raise ScenarioError(_join(path, str(key)), None,
+                                f"unknown key in {cls._what}; {hint}known keys: "
+                                f"{', '.join(schema)}")
+    kwargs = {}
+    for key, f in schema.items():
+        if key not in data:
+            if f.metadata["required"]:
+                raise ScenarioError(_join(path, key), None,
+                                    f"missing; expected {_describe(f.metadata)}")
+            continue
+        kwargs[f.name] = _convert(f.metadata, data[key], _join(path, key))
+    obj = cls(**kwargs)
+    obj.check(path)
+    return obj
+
+
+def _describe(meta: dict) -> str:
+    tag = meta["tag"]
+    if tag == "q":
+        return f"a {meta['kind']} with its unit, e.g. {QUANTITY_KINDS[meta['kind']][1]!r}"
+    if tag == "qpair":
+        ex = QUANTITY_KINDS[meta["kind"]][1]
+        return f"[width, length], e.g. [{ex!r}, {ex!r}]"
+    if tag == "qlist":
+        return f"a list of {meta['kind']}s"
+    if tag == "choice":
+        return "one of " + ", ".join(repr(c) for c in meta["choices"])
+    if tag in ("section", "map"):
+        return f"a table ({meta['cls']._what})"
+    if tag == "list":
+        return f"an array of tables ({meta['cls']._what})"
+    if tag == "wave":
+        return "a waveform name from [waveforms] or an inline waveform table"
+    return {"str": "a string", "bool": "true or false", "int": "a whole number",
+            "number": "a number", "strpair": "two node names"}.get(tag, tag)
+
+
+def _dump_section(obj) -> dict[str, Any]:
+    out: dict[str, Any] = {}
+    for key, f in _schema(type(obj)).items():
+        v = getattr(obj, f.name)
+        if v is None:
+            continue
+        out[key] = _unconvert(f.metadata, v)
+    return out
+
+
+class _Section:
+    """Base of the schema dataclasses: cross-field checks and the dict form."""
+
+    _what = "section"
+
+    def check(self, path: str) -> None:
+        """Cross-field rules; raise :class:`ScenarioError` naming the key."""
+
+    def to_dict(self) -> dict[str, Any]:
+        return _dump_section(self)
+
+    def _one_of(self, path: str, names: tuple[str, ...], exactly: bool = True) -> None:
+        given = [n for n in names if getattr(self, n.lower()) is not None]
+        if len(given) > 1 or (exactly and not given):
+            raise ScenarioError(path, None, f"expected {'exactly' if exactly else 'at most'} "
+                                f"one of {', '.join(names)}; got "
+                                f"{', '.join(given) if given else 'none'}")
+
+
+# ======================================================================================
+# Schema
+# ======================================================================================
+#: Keys each waveform kind accepts (besides ``kind`` and ``delay``).
+WAVEFORM_KEYS: dict[str, tuple[str, ...]] = {
+    "constant": ("power", "period"),
+    "pulses": ("peak", "width", "period", "prf", "duty", "idle", "rise", "fall"),
+    "burst": ("peak", "width", "pri", "prf", "pulses", "period", "gap", "idle", "rise",
+              "fall"),
+    "stagger": ("peak", "intervals", "widths", "idle", "rise", "fall"),
+    "profile": ("stretches", "periodic", "after"),
+}
+
+
+@dataclass(frozen=True)
+class StretchSpec(_Section):
+    """One stretch of a profile: a duration with a constant power or a named waveform."""
+
+    _what = "profile stretch"
+    duration: Quantity = _f("q", kind="time", required=True)
+    power: Any = _f("wave", required=True, doc="a waveform name, an inline waveform table, "
+                    "or a constant power string such as '2 W'")
+    label: str | None = _f("str")
+
+
+@dataclass(frozen=True)
+class WaveformSpec(_Section):
+    """A heat waveform: ``kind`` and the keys of that kind (see :data:`WAVEFORM_KEYS`)."""
+
+    _what = "waveform"
+    kind: str = _f("choice", required=True, choices=tuple(WAVEFORM_KEYS))
+    power: Quantity = _f("q", kind="power", check="nonneg")
+    peak: Quantity = _f("q", kind="power", check="nonneg")
+    idle: Quantity = _f("q", kind="power", check="nonneg")
+    after: Quantity = _f("q", kind="power", check="nonneg")
+    width: Quantity = _f("q", kind="time")
+    period: Quantity = _f("q", kind="time")
+    pri: Quantity = _f("q", kind="time")
+    prf: Quantity = _f("q", kind="frequency")
+    duty: float = _f("number", check="positive")
+    gap: Quantity = _f("q", kind="time", check="nonneg")
+    rise: Quantity = _f("q", kind="time", check="nonneg")
+    fall: Quantity = _f("q", kind="time", check="nonneg")
+    delay: Quantity = _f("q", kind="time", check="nonneg")
+    pulses: int = _f("int")
+    intervals: tuple = _f("qlist", kind="time")
+    widths: tuple = _f("qlist", kind="time")
+    stretches: tuple = _f("list", cls=StretchSpec)
+    periodic: bool = _f("bool")
+
+    def check(self, path: str) -> None:
+        allowed = set(WAVEFORM_KEYS[self.kind]) | {"kind", "delay"}
+        for key, f in _schema(type(self)).items():
+            if getattr(self, f.name) is not None and key not in allowed:
+                raise ScenarioError(_join(path, key), _unconvert(f.metadata, getattr(self, f.name)),
+                                    f"not a key of a {self.kind!r} waveform; expected "
+                                    f"{', '.join(sorted(allowed))}")
+        need = {"constant": ("power",), "pulses": ("peak", "width"),
+                "burst": ("peak", "width", "pulses"), "stagger": ("peak", "intervals", "widths"),
+                "profile": ("stretches",)}[self.kind]
+        for key in need:
+            if getattr(self, key) is None:
+                raise ScenarioError(_join(path, key), None,
+                                    f"missing; a {self.kind!r} waveform needs "
+                                    f"{', '.join(need)}")
+        if self.duty is not None and not self.duty <= 1:
+            raise ScenarioError(_join(path, "duty"), self.duty, "a duty cycle in (0, 1]")
+
+
+#: Waveform keys the scenario calls differently from the waveform classes.
+_WAVE_FIELD = {"Burst.period": "period", "Burst.gap": "gap", "Burst.pulses": "pulses",
+               "PulseTrain.period": "pri", "PulseTrain.prf": "prf"}
+
+
+@dataclass(frozen=True)
+class ViaSpec(_Section):
+    """A field of thermal vias in a board laminate (under every part)."""
+
+    _what = "via field"
+    drill: Quantity = _f("q", kind="length", required=True)
+    plating: Quantity = _f("q", kind="length", required=True)
+    pitch: Quantity = _f("q", kind="length", required=True)
+    fill: str | None = _f("str", doc="fill material (default: empty barrels)")
+    pattern: str | None = _f("choice", choices=("square", "hex"))
+    area: tuple | None = _f("qpair", kind="length", doc="size of the via field under each "
+                            "part (default: the heat path where it enters the board)")
+
+    def check(self, path: str) -> None:
+        if not self.plating.value < self.drill.value / 2:
+            raise ScenarioError(_join(path, "plating"), self.plating.text,
+                                f"a plating thinner than half the drill ({self.drill.text})")
+        if not self.pitch.value > self.drill.value:
+            raise ScenarioError(_join(path, "pitch"), self.pitch.text,
+                                f"a pitch larger than the drill ({self.drill.text})")
+
+
+@dataclass(frozen=True)
+class LayerSpec(_Section):
+    """One layer (material and thickness) or a thin interface (``area_resistance``)."""
+
+    _what = "layer"
+    name: str | None = _f("str")
+    material: str | None = _f("str")
+    thickness: Quantity | None = _f("q", kind="length")
+    size: tuple | None = _f("qpair", kind="length")
+    area_resistance: Quantity | None = _f("q", kind="area_resistance")
+    spreading_angle: Quantity | None = _f("q", kind="angle", check="nonneg")
+    void_fraction: float | None = _f("number", check="fraction")
+    vias: ViaSpec | None = _f("section", cls=ViaSpec)
+
+    def check(self, path: str) -> None:
+        if self.name is not None:
+            _check_name(self.name, _join(path, "name"))
+        if self.area_resistance is not None:
+            for key in ("material", "thickness", "size", "spreading_angle", "void_fraction",
+                        "vias"):
+                if getattr(self, key) is not None:
+                    raise ScenarioError(_join(path, key), None,
+                                        "not allowed with area_resistance (a thin interface "
+                                        "has no material or thickness)")
+            return
+        for key in ("material", "thickness"):
+            if getattr(self, key) is None:
+                raise ScenarioError(_join(path, key), None,
+                                    "missing; a layer needs material and thickness (or "
+                                    "area_resistance for a thin interface)")
+
+
+@dataclass(frozen=True)
+class BoardSpec(_Section):
+    _what = "board"
+    size: tuple = _f("qpair", kind="length", required=True)
+    layers: tuple = _f("list", cls=LayerSpec, required=True)
+
+    def check(self, path: str) -> None:
+        if not self.layers:
+            raise ScenarioError(_join(path, "layers"), [], "at least one layer")
+        _unique([(lay.name or lay.material or "interface", _join(_join(path, "layers"), i))
+                 for i, lay in enumerate(self.layers)], "layer name")
+
+
+SINK_KEYS = {"fixed": (), "lumped": ("resistance", "capacity"),
+             "film": ("h", "area", "capacity")}
+
+
+@dataclass(frozen=True)
+class SinkSpec(_Section):
+    """Heat sink: ``fixed`` (ideal cold plate / fixed-temperature base at the coolant
+    temperature), ``lumped`` (resistance and capacity to ambient) or ``film`` (film
+    coefficient, optionally over a sink body of given wetted area)."""
+
+    _what = "sink"
+    kind: str = _f("choice", required=True, choices=tuple(SINK_KEYS))
+    resistance: Quantity | None = _f("q", kind="resistance")
+    capacity: Quantity | None = _f("q", kind="capacity", check="nonneg")
+    h: Quantity | None = _f("q", kind="h")
+    area: Quantity | None = _f("q", kind="area")
+
+    def check(self, path: str) -> None:
+        allowed = SINK_KEYS[self.kind]
+        for key in ("resistance", "capacity", "h", "area"):
+            if getattr(self, key) is not None and key not in allowed:
+                raise ScenarioError(_join(path, key), getattr(self, key).text,
+                                    f"not a key of a {self.kind!r} sink (expected "
+                                    f"{', '.join(allowed) or 'no other key'})")
+        need = {"lumped": "resistance", "film": "h"}.get(self.kind)
+        if need and getattr(self, need) is None:
+            raise ScenarioError(_join(path, need), None, f"missing; a {self.kind!r} sink needs {need}")
+
+
+@dataclass(frozen=True)
+class MountSpec(_Section):
+    _what = "mount"
+    interface: tuple | None = _f("list", cls=LayerSpec)
+    sink: SinkSpec = _f("section", cls=SinkSpec, required=True)
+
+
+@dataclass(frozen=True)
+class FosterSpec(_Section):
+    """Data-sheet Foster network, junction to case: R (K/W) and tau (s) per term."""
+
+    _what = "Foster network"
+    R: tuple = _f("qlist", kind="resistance", required=True)
+    tau: tuple = _f("qlist", kind="time", required=True)
+
+    def check(self, path: str) -> None:
+        if len(self.R) != len(self.tau):
+            raise ScenarioError(_join(path, "tau"), [q.text for q in self.tau],
+                                f"as many time constants as resistances ({len(self.R)})")
+
+
+@dataclass(frozen=True)
+class DeviceSpec(_Section):
+    """A heated device: a die stack (``stack``) or a data-sheet device (``rth`` or
+    ``foster``, junction to case, optionally on a ``stack`` of package/attach layers)."""
+
+    _what = "device"
+    name: str = _f("str", required=True)
+    power: Any = _f("wave", required=True)
+    footprint: tuple = _f("qpair", kind="length", required=True)
+    position: tuple | None = _f("qpair", kind="length", check="any")
+    limit: Quantity | None = _f("q", kind="temperature", check="kelvin")
+    rth: Quantity | None = _f("q", kind="resistance")
+    foster: FosterSpec | None = _f("section", cls=FosterSpec)
+    stack: tuple | None = _f("list", cls=LayerSpec)
+
+    def check(self, path: str) -> None:
+        _check_name(self.name, _join(path, "name"))
+        self._one_of(path, ("rth", "foster"), exactly=False)
+        if self.rth is None and self.foster is None and not self.stack:
+            raise ScenarioError(_join(path, "stack"), None,
+                                "missing; a device needs a die stack, or rth/foster for a "
+                                "data-sheet device")
+        if self.stack:
+            _unique([(lay.name or lay.material or "interface", _join(_join(path, "stack"), i))
+                     for i, lay in enumerate(self.stack)], "layer name")
+
+
+@dataclass(frozen=True)
+class LineSpec(_Section):
+    """A microstrip line carrying RF power; its conductor and dielectric losses heat it."""
+
+    _what = "line"
+    name: str = _f("str", required=True)
+    power: Any = _f("wave", required=True, doc="RF power carried (waveform)")
+    length: Quantity = _f("q", kind="length", required=True)
+    frequency: Quantity = _f("q", kind="frequency", required=True)
+    width: Quantity | None = _f("q", kind="length")
+    impedance: Quantity | None = _f("q", kind="impedance")
+    dielectric: str | None = _f("str", doc="laminate material (default: the board laminate)")
+    permittivity: float = _f("number", check="positive", required=True)
+    loss_tangent: float | None = _f("number", check="nonneg")
+    conductor: Quantity | None = _f("q", kind="length", doc="conductor thickness "
+                                    "(default: the board's top copper layer)")
+    roughness: Quantity | None = _f("q", kind="length", check="nonneg")
+    limit: Quantity | None = _f("q", kind="temperature", check="kelvin")
+    segments: int | None = _f("int")
+
+    def check(self, path: str) -> None:
+        _check_name(self.name, _join(path, "name"))
+        self._one_of(path, ("width", "impedance"))
+
+
+@dataclass(frozen=True)
+class HeaterSpec(_Section):
+    """A point heat source at a named node (a chip termination, a bias resistor)."""
+
+    _what = "heater"
+    name: str = _f("str", required=True)
+    power: Any = _f("wave", required=True)
+    node: str | None = _f("str", doc="a node of the network")
+    line: str | None = _f("str", doc="a line of the scenario (with position)")
+    position: Quantity | None = _f("q", kind="length", check="nonneg",
+                                   doc="centre along the line from its start")
+    length: Quantity | None = _f("q", kind="length", check="nonneg",
+                                 doc="footprint length along the line")
+    resistance: Quantity | None = _f("q", kind="resistance",
+                                     doc="from the part's own node to the line copper")
+    capacity: Quantity | None = _f("q", kind="capacity", check="nonneg")
+    limit: Quantity | None = _f("q", kind="temperature", check="kelvin")
+
+    def check(self, path: str) -> None:
+        _check_name(self.name, _join(path, "name"))
+        self._one_of(path, ("node", "line"))
+        if self.line is not None and self.position is None:
+            raise ScenarioError(_join(path, "position"), None,
+                                "missing; a heater on a line needs its position along it")
+        if self.node is not None:
+            for key in ("position", "length", "resistance", "capacity"):
+                if getattr(self, key) is not None:
+                    raise ScenarioError(_join(path, key), getattr(self, key).text,
+                                        "only for a heater on a line (give line = ...)")
+        if self.capacity is not None and self.capacity.value > 0 and self.resistance is None:
+            raise ScenarioError(_join(path, "capacity"), self.capacity.text,
+                                "a capacity needs a resistance to the line copper")
+
+
+@dataclass(frozen=True)
+class ProbeSpec(_Section):
+    _what = "probe"
+    name: str = _f("str", required=True)
+    node: str | None = _f("str", doc="node name (default: the probe name)")
+    limit: Quantity | None = _f("q", kind="temperature", check="kelvin")
+
+
+@dataclass(frozen=True)
+class ElementSpec(_Section):
+    """An extra lumped element: ``mass`` (a heat capacity joined to ``node`` through
+    ``resistance``) or ``resistance`` (between two named nodes, e.g. a copper strap)."""
+
+    _what = "element"
+    kind: str = _f("choice", required=True, choices=("mass", "resistance"))
+    name: str = _f("str", required=True)
+    node: str | None = _f("str")
+    between: tuple | None = _f("strpair")
+    capacity: Quantity | None = _f("q", kind="capacity")
+    resistance: Quantity | None = _f("q", kind="resistance")
+
+    def check(self, path: str) -> None:
+        _check_name(self.name, _join(path, "name"))
+        need = {"mass": ("node", "capacity", "resistance"),
+                "resistance": ("between", "resistance")}[self.kind]
+        for key in ("node", "between", "capacity"):
+            if getattr(self, key) is not None and key not in need:
+                raise ScenarioError(_join(path, key), None,
+                                    f"not a key of a {self.kind!r} element (expected "
+                                    f"{', '.join(need)})")
+        for key in need:
+            if getattr(self, key) is None:
+                raise ScenarioError(_join(path, key), None,
+                                    f"missing; a {self.kind!r} element needs {', '.join(need)}")
+
+
+@dataclass(frozen=True)
+class ModelSpec(_Section):
+    """How to model: ``fidelity`` ladder (columns of graded sub-layers) or axisymmetric;
+    ``grading`` coarse/normal/fine; ``spreading`` angle/calibrated/none; ``nonlinear``
+    k(T) of the materials; ``method`` solver name; ``periods`` shown in the warm-up plot."""
+
+    _what = "model"
+    fidelity: str | None = _f("choice", choices=("ladder", "axisymmetric"))
+    grading: str | None = _f("choice", choices=("coarse", "normal", "fine"))
+    spreading: str | None = _f("choice", choices=("angle", "calibrated", "none"))
+    nonlinear: bool | None = _f("bool")
+    method: str | None = _f("choice", choices=("auto", "modal", "sparse", "nonlinear"))
+    periods: int | None = _f("int")
+
+
+def _unique(items: list[tuple[str, str]], what: str) -> None:
+    seen: dict[str, str] = {}
+    for name, path in items:
+        if name in seen:
+            raise ScenarioError(path, name, f"a unique {what} ({name!r} is also {seen[name]})")
+        seen[name] = path
+
+
+@dataclass(frozen=True)
+class Scenario(_Section):
+    """A whole scenario (see the module docstring).  Load with :func:`load` / :func:`loads`,
+    change one value with :meth:`with_value`, write with :func:`save`."""
+
+    _what = "scenario"
+    name: str = _f("str", required=True)
+    description: str | None = _f("str")
+    ambient: Quantity | None = _f("q", kind="temperature", check="kelvin")
+    coolant: Quantity | None = _f("q", kind="temperature", check="kelvin")
+    model: ModelSpec | None = _f("section", cls=ModelSpec)
+    board: BoardSpec | None = _f("section", cls=BoardSpec)
+    mount: MountSpec = _f("section", cls=MountSpec, required=True)
+    devices: tuple | None = _f("list", cls=DeviceSpec)
+    lines: tuple | None = _f("list", cls=LineSpec)
+    heaters: tuple | None = _f("list", cls=HeaterSpec)
+    waveforms: dict | None = _f("map", cls=WaveformSpec)
+    probes: tuple | None = _f("list", cls=ProbeSpec)
+    elements: tuple | None = _f("list", cls=ElementSpec)
+    materials: dict | None = _f("raw", doc="extra materials or overrides, SI numbers "
+                                "(k, rho, c, ...) as in the material library")
+    source: str | None = field(default=None, compare=False, repr=False)
+
+    # -- checks across sections ---------------------------------------------------------
+    def check(self, path: str) -> None:
+        self._one_of(path or "ambient", ("ambient", "coolant"), exactly=False)
+        sources = [*(self.devices or ()), *(self.lines or ()), *(self.heaters or ())]
+        if not sources:
+            raise ScenarioError("devices", None, "missing; a scenario needs at least one heat "
+                                "source ([[devices]], [[lines]] or [[heaters]])")
+        _unique([(d.name, f"devices[{i}].name") for i, d in enumerate(self.devices or ())]
+                + [(d.name, f"lines[{i}].name") for i, d in enumerate(self.lines or ())]
+                + [(d.name, f"heaters[{i}].name") for i, d in enumerate(self.heaters or ())]
+                + [(d.name, f"elements[{i}].name") for i, d in enumerate(self.elements or ())],
+                "name")
+        _unique([(p.name, f"probes[{i}].name") for i, p in enumerate(self.probes or ())],
+                "probe name")
+        for sec, items in (("devices", self.devices), ("lines", self.lines),
+                           ("heaters", self.heaters)):
+            for i, item in enumerate(items or ()):
+                self._check_wave_ref(item.power, f"{sec}[{i}].power")
+        for name, w in (self.waveforms or {}).items():
+            for i, s in enumerate(w.stretches or ()):
+                self._check_wave_ref(s.power, f"waveforms.{name}.stretches[{i}].power",
+                                     allow_power=True)
+        lines = [ln.name for ln in self.lines or ()]
+        for i, h in enumerate(self.heaters or ()):
+            if h.line is not None and h.line not in lines:
+                close = difflib.get_close_matches(h.line, lines, n=1)
+                hint = f"did you mean {close[0]!r}? " if close else ""
+                raise ScenarioError(f"heaters[{i}].line", h.line,
+                                    f"a line of the scenario; {hint}lines: "
+                                    f"{', '.join(lines) or 'none'}")
+        if self.lines and self.board is None:
+            raise ScenarioError("board", None, "missing; a line needs a board (its laminate "
+                                "and ground plane)")
+
+    def _check_wave_ref(self, ref: Any, path: str, allow_power: bool = False) -> None:
+        if not isinstance(ref, str):
+            return
+        names = list(self.waveforms or {})
+        if ref in names:
+            return
+        if allow_power or re.match(r"^\s*[-+0-9.]", ref):
+            try:
+                parse_quantity(ref, "power", path)
+                return
+            except ScenarioError:
+                if not allow_power:
+                    raise
+        close = difflib.get_close_matches(ref, names, n=1)
+        hint = f"did you mean {close[0]!r}? " if close else ""
+        raise ScenarioError(path, ref, f"a waveform defined in [waveforms] or a constant "
+                            f"power such as '2 W'; {hint}defined: {', '.join(names) or 'none'}")
+
+    # -- convenience --------------------------------------------------------------------
+    @property
+    def ambient_K(self) -> float:
+        """Coolant (or ambient) temperature, K; 25 degC when neither is given."""
+        q = self.coolant or self.ambient
+        return q.value if q is not None else 25.0 + KELVIN_OFFSET
+
+    @property
+    def ambient_C(self) -> float:
+        return self.ambient_K - KELVIN_OFFSET
+
+    def to_dict(self) -> dict[str, Any]:
+        """Plain dict of the scenario as written (unit strings kept)."""
+        return _dump_section(self)
+
+    @classmethod
+    def from_dict(cls, data: dict[str, Any], source: str | None = None,
+                  text: str | None = None) -> "Scenario":
+        """Read a scenario from a dict (as :func:`tomllib.loads` gives)."""
+        try:
+            scn = _load_section(cls, data, "")
+        except ScenarioError as exc:
+            raise exc.located(text, source) from None
+        object.__setattr__(scn, "source", source)
+        return scn
+
+    def with_value(self, path: str, value: Any) -> "Scenario":
+        """A copy with the value at ``path`` replaced (``mount.sink.resistance``,
+        ``devices[0].limit``, ``devices[pa].limit``, ``waveforms.radar.width``); the new
+        scenario is validated like a loaded one."""
+        data = self.to_dict()
+        set_path(data, path, value)
+        return Scenario.from_dict(data, source=self.source)
+
+    def get_value(self, path: str) -> Any:
+        """The value at ``path`` as written (a unit string, a number, ...)."""
+        return get_path(self.to_dict(), path)
+
+
+# ======================================================================================
+# Paths into the dict form
+# ======================================================================================
+def _walk(data: dict, path: str, create: bool):
+    parts = _path_parts(path)
+    if not parts:
+        raise ScenarioError(path, None, "a key path such as mount.sink.resistance")
+    node: Any = data
+    trail = ""
+    for i, part in enumerate(parts[:-1]):
+        node, trail = _step(node, part, trail, path, create)
+    return node, parts[-1], trail
+
+
+def _step(node: Any, part: str, trail: str, path: str, create: bool):
+    if part.startswith("["):
+        key = part[1:-1]
+        if not isinstance(node, list):
+            raise ScenarioError(path, None, f"{trail or 'the scenario'} is not an array")
+        if key.isdigit():
+            idx = int(key)
+            if idx >= len(node):
+                raise ScenarioError(path, None, f"{trail} has {len(node)} element(s); index "
+                                    f"{idx} is out of range")
+            return node[idx], f"{trail}[{idx}]"
+        names = [x.get("name") for x in node if isinstance(x, dict)]
+        if key not in names:
+            raise ScenarioError(path, None, f"no element of {trail} is named {key!r} "
+                                f"(names: {', '.join(map(str, names))})")
+        return node[names.index(key)], f"{trail}[{key}]"
+    if not isinstance(node, dict):
+        raise ScenarioError(path, None, f"{trail} is not a table")
+    if part not in node:
+        if not create:
+            raise ScenarioError(path, None, f"{_join(trail, part)} is not set in the scenario")
+        node[part] = {}
+    return node[part], _join(trail, part)
+
+
+def get_path(data: dict, path: str) -> Any:
+    node, last, trail = _walk(data, path, create=False)
+    return _step(node, last, trail, path, create=False)[0]
+
+
+def set_path(data: dict, path: str, value: Any) -> None:
+    """Set ``value`` at ``path`` in the dict form, creating missing tables."""
+    node, last, trail = _walk(data, path, create=True)
+    if last.startswith("["):
+        key = last[1:-1]
+        if not (isinstance(node, list) and key.isdigit() and int(key) < len(node)):
+            raise ScenarioError(path, None, f"{trail} has no element {last}")
+        node[int(key)] = value
+        return
+    if not isinstance(node, dict):
+        raise ScenarioError(path, None, f"{trail} is not a table")
+    node[last] = value
+
+
+# ======================================================================================
+# Load and save
+# ======================================================================================
+def loads(text: str, source: str | None = None) -> Scenario:
+    """Read a scenario from TOML text; :class:`ScenarioError` with the line on failure."""
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        m = re.search(r"\(at line (\d+), column (\d+)\)", str(exc))
+        line = int(m.group(1)) if m else None
+        msg = re.sub(r"\s*\(at line \d+, column \d+\)", "", str(exc))
+        raise ScenarioError("", None, f"TOML syntax: {msg}", line, source) from None
+    return Scenario.from_dict(data, source=source, text=text)
+
+
+def load(path: str | Path) -> Scenario:
+    """Read a scenario file."""
+    p = Path(path)
+    text = p.read_text(encoding="utf-8")
+    return loads(text, source=str(p))
+
+
+def dumps(scenario: Scenario) -> str:
+    """TOML text of ``scenario`` with every value as written (unit strings kept)."""
+    return dumps_toml(scenario.to_dict())
+
+
+def save(scenario: Scenario, path: str | Path) -> None:
+    """Write ``scenario`` as TOML (to a temporary file first, then renamed)."""
+    import os
+    import tempfile
+
+    p = Path(path)
+    fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".part", dir=p.parent or ".")
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8") as fh:
+            fh.write(dumps(scenario))
+        os.replace(tmp, p)
+    except BaseException:
+        try:
+            os.unlink(tmp)
+        except OSError:
+            pass
+        raise
+
+
+# ======================================================================================
+# Numbers in the user's unit (sweeps, sizing, Monte Carlo)
+# ======================================================================================
+_NUM = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+
+
+def split_unit(text: str) -> tuple[float, str]:
+    """``"0.35 K/W"`` -> ``(0.35, "K/W")``; ValueError if the text does not start with a
+    number."""
+    m = _NUM.match(text)
+    if not m:
+        raise ValueError(f"{text!r}: expected a number followed by a unit")
+    return float(m.group(1)), m.group(2)
+
+
+@dataclass(frozen=True)
+class UnitScale:
+    """The affine map between a unit and SI: ``si = offset + factor * x`` (affine for
+    degC / degF, linear otherwise)."""
+
+    unit: str
+    kind: str
+    offset: float
+    factor: float
+
+    @classmethod
+    def of(cls, unit: str, kind: str, path: str) -> "UnitScale":
+        zero = parse_quantity(f"0 {unit}".strip(), kind, path).value
+        one = parse_quantity(f"1 {unit}".strip(), kind, path).value
+        if not one != zero:
+            raise ScenarioError(path, unit, f"a unit of {kind}")
+        return cls(unit, kind, zero, one - zero)
+
+    def to_si(self, x: float) -> float:
+        return self.offset + self.factor * x
+
+    def from_si(self, v: float) -> float:
+        return (v - self.offset) / self.factor
+
+    def text(self, x: float) -> str:
+        """The number ``x`` (in this unit) as a scenario string, 10 significant digits."""
+        s = f"{x:.10g}"
+        return f"{s} {self.unit}" if self.unit else s
+
+
+def field_kind(scenario: "Scenario", path: str) -> str | None:
+    """Quantity kind of the field at ``path`` (None for a non-quantity field)."""
+    parts = [p for p in _path_parts(path) if not p.startswith("[")]
+    cls: Any = type(scenario)
+    meta = None
+    for i, part in enumerate(parts):
+        schema = _schema(cls)
+        if part not in schema:
+            if meta is not None and meta["tag"] == "map":
+                cls = meta["cls"]
+                meta = None
+                continue
+            close = difflib.get_close_matches(part, list(schema), n=1)
+            hint = f"did you mean {close[0]!r}? " if close else ""
+            raise ScenarioError(path, None, f"not a key of the scenario ({part!r}); {hint}"
+                                f"known keys here: {', '.join(schema)}")
+        meta = schema[part].metadata
+        if meta["tag"] in ("section", "list", "map"):
+            cls = meta["cls"]
+    if meta is None:
+        return None
+    if meta["tag"] in ("q", "qpair", "qlist"):
+        return meta["kind"]
+    if meta["tag"] == "wave":
+        return "power"
+    return None

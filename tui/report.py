@@ -97,7 +97,8 @@ def run_table(res: Any) -> str:
                       "limit degC", "margin K"], rows))
     if d["budget"]:
         out.append("")
-        out.append(f"share of the mean rise at {d.get('budget_probe') or 'the hottest probe'}:")
+        where = getattr(res, "budget_probe", None) or "each junction"
+        out.append(f"share of the mean rise at {where} (mean power, steady):")
         out.append(table(["part", "layer", "share %", "rise K"],
                          [[b["part"], b["layer"], 100.0 * b["share"], b["rise_K"]]
                           for b in d["budget"]], align="llrr"))

@@ -1,0 +1,894 @@
+"""Build and simulate a scenario: the Python equivalent of ``pulsetherm run``.
+
+:func:`build` turns a :class:`~pulsetherm.network.scenario.Scenario` into a
+:class:`ScenarioModel` (the thermal network with its heat inputs, waveforms, probes and
+limits); :func:`simulate` solves the periodic steady state and returns a :class:`RunResult`
+(probe peak / mean / minimum / ripple against their limits, each layer's share of the mean
+rise, the warm-up time).  :func:`thermal_impedance` gives the Zth curve, the pulsed-Zth
+family, Foster and Cauer coefficients and the structure function at one probe.
+
+Errors from the lower layers (stack-up, waveforms, materials, network) are re-raised as
+:class:`~pulsetherm.network.scenario.ScenarioError` naming the scenario key they came from.
+"""
+from __future__ import annotations
+
+import csv
+import difflib
+import io
+import math
+from dataclasses import dataclass, field
+from typing import Any, Iterable, Mapping
+
+import numpy as np
+
+from .scenario import (KELVIN_OFFSET, LayerSpec, Quantity, Scenario, ScenarioError,
+                       WaveformSpec, _WAVE_FIELD, _join, parse_quantity)
+
+__all__ = ["build", "simulate", "ScenarioModel", "RunResult", "ProbeStats",
+           "thermal_impedance", "ImpedanceResult", "CAUTION", "make_waveform"]
+
+#: Caution attached to every output that judges limits.
+CAUTION = ("engineering estimates; verify by measurement; follow the device maker's ratings "
+           "and derating, local codes and licensed practice")
+
+
+# ======================================================================================
+# Waveforms
+# ======================================================================================
+def _wave_error(exc: ValueError, path: str, spec: WaveformSpec | None) -> ScenarioError:
+    """Map a waveform class's message (``PulseTrain.width = ...``) to the scenario key."""
+    import re
+
+    msg = " ".join(str(exc).split())
+    m = re.match(r"^(\w+)\.(\w+)", msg)
+    key = None
+    if m:
+        key = _WAVE_FIELD.get(f"{m.group(1)}.{m.group(2)}", m.group(2))
+        if spec is not None and getattr(spec, key, None) is None:
+            key = None
+    p = _join(path, key) if key else path
+    value = None
+    if key and spec is not None:
+        v = getattr(spec, key)
+        value = v.text if isinstance(v, Quantity) else v
+    return ScenarioError(p, value, msg)
+
+
+def make_waveform(spec: WaveformSpec | str, scenario: Scenario, path: str,
+                  _seen: tuple[str, ...] = ()):
+    """The waveform object (:mod:`pulsetherm.waveforms`) of a spec or a named reference."""
+    from pulsetherm.waveforms.pulses import Burst, Constant, PulseTrain, Stagger
+
+    if isinstance(spec, str):
+        named = scenario.waveforms or {}
+        if spec in named:
+            if spec in _seen:
+                raise ScenarioError(path, spec, "a waveform that does not refer to itself")
+            return make_waveform(named[spec], scenario, f"waveforms.{spec}", _seen + (spec,))
+        q = parse_quantity(spec, "power", path)
+        if q.value < 0:
+            raise ScenarioError(path, spec, "a power >= 0")
+        return Constant(q.value)
+
+    def v(key):
+        x = getattr(spec, key)
+        return None if x is None else (x.value if isinstance(x, Quantity) else x)
+
+    try:
+        k = spec.kind
+        if k == "constant":
+            w = Constant(v("power"), period=v("period"))
+        elif k in ("pulses", "burst"):
+            opts = dict(idle=v("idle") or 0.0, rise=v("rise") or 0.0, fall=v("fall") or 0.0)
+            if k == "pulses":
+                w = PulseTrain(v("peak"), v("width"), period=v("period"), prf=v("prf"),
+                               duty=v("duty"), **opts)
+            else:
+                train = PulseTrain(v("peak"), v("width"), period=v("pri"), prf=v("prf"), **opts)
+                w = Burst(train, v("pulses"), period=v("period"), gap=v("gap"))
+        elif k == "stagger":
+            widths = tuple(q.value for q in spec.widths)
+            w = Stagger(v("peak"), tuple(q.value for q in spec.intervals),
+                        widths[0] if len(widths) == 1 else widths, idle=v("idle") or 0.0,
+                        rise=v("rise") or 0.0, fall=v("fall") or 0.0)
+        elif k == "profile":
+            from pulsetherm.waveforms.profile import Profile, Stretch
+
+            stretches = []
+            for i, s in enumerate(spec.stretches):
+                sp = _join(_join(path, "stretches"), i)
+                p = make_waveform(s.power, scenario, _join(sp, "power"), _seen)
+                stretches.append(Stretch(s.duration.value, p, s.label or ""))
+            periodic = True if spec.periodic is None else spec.periodic
+            w = Profile(tuple(stretches), periodic=periodic, after=v("after") or 0.0)
+        else:  # pragma: no cover - the schema restricts kind
+            raise AssertionError(k)
+        if spec.delay is not None and spec.delay.value > 0:
+            w = w.delayed(spec.delay.value)
+        w.compile()
+    except ScenarioError:
+        raise
+    except ValueError as exc:
+        raise _wave_error(exc, path, spec) from None
+    return w
+
+
+def _shortest_feature(waves: Iterable[Any]) -> float:
+    """Shortest segment of the compiled waveforms, s (resolves the first sub-layers)."""
+    best = math.inf
+    for w in waves:
+        pw = w.compile()
+        widths = np.diff(pw.edges)
+        if widths.size:
+            best = min(best, float(widths.min()))
+    return best if math.isfinite(best) else 1e-6
+
+
+# ======================================================================================
+# Scenario -> stack-up
+# ======================================================================================
+def _library(scn: Scenario):
+    from .materials import default_library
+
+    lib = default_library()
+    if scn.materials:
+        try:
+            lib.update(scn.materials)
+        except ValueError as exc:
+            raise ScenarioError("materials", None, " ".join(str(exc).split())) from None
+    return lib
+
+
+def _material(lib, name: str, path: str):
+    try:
+        return lib.get(name)
+    except ValueError as exc:
+        msg = " ".join(str(exc).split())
+        hint = msg.split(";", 1)[1].strip() if ";" in msg else msg
+        raise ScenarioError(path, name, f"a material of the library ({hint}); list them "
+                            "with 'pulsetherm materials'") from None
+
+
+def _layer(spec: LayerSpec, lib, path: str, used: dict):
+    from .stackup import AreaResistance, Layer
+
+    try:
+        if spec.area_resistance is not None:
+            return AreaResistance(spec.area_resistance.value, name=spec.name or "interface")
+        mat = _material(lib, spec.material, _join(path, "material"))
+        used[mat.name] = mat
+        vias = via_area = None
+        if spec.vias is not None:
+            vias = _vias(spec.vias, lib, _join(path, "vias"), used)
+            if spec.vias.area is not None:
+                via_area = tuple(q.value for q in spec.vias.area)
+        size = None if spec.size is None else tuple(q.value for q in spec.size)
+        angle = None if spec.spreading_angle is None else spec.spreading_angle.value
+        return Layer(mat, spec.thickness.value, size, spec.name, angle,
+                     spec.void_fraction or 0.0, vias, via_area)
+    except ScenarioError:
+        raise
+    except ValueError as exc:
+        raise _field_error(exc, path, spec) from None
+
+
+def _field_error(exc: ValueError, path: str, spec: Any) -> ScenarioError:
+    """Map ``Layer.thickness = ...`` style messages onto ``path.thickness``."""
+    import re
+
+    msg = " ".join(str(exc).split())
+    m = re.search(r"\b[A-Z]\w*(?:\([^)]*\))?\.(\w+)", msg)
+    key = m.group(1) if m else None
+    if key is not None and spec is not None and key in getattr(type(spec), "__dataclass_fields__", {}):
+        v = getattr(spec, key)
+        value = v.text if isinstance(v, Quantity) else None
+        return ScenarioError(_join(path, key), value, msg)
+    return ScenarioError(path, None, msg)
+
+
+def _vias(spec, lib, path: str, used: dict):
+    """The via field of a laminate layer (:mod:`pulsetherm.network.vias`)."""
+    from . import vias as via_mod
+
+    fill = None
+    if spec.fill is not None:
+        fill = _material(lib, spec.fill, _join(path, "fill"))
+        used[fill.name] = fill
+    try:
+        return via_mod.ViaArray(drill=spec.drill.value, plating=spec.plating.value,
+                                pitch=spec.pitch.value, fill=fill,
+                                pattern=spec.pattern or "square")
+    except ValueError as exc:
+        raise _field_error(exc, path, spec) from None
+
+
+def _sink(scn: Scenario):
+    from .stackup import Film, FixedBase, LumpedSink
+
+    s = scn.mount.sink
+    t = scn.ambient_C
+    if s.kind == "fixed":
+        return FixedBase(t)
+    if s.kind == "lumped":
+        return LumpedSink(s.resistance.value, s.capacity.value if s.capacity else 0.0, t)
+    return Film(s.h.value, t, s.area.value if s.area else None,
+                s.capacity.value if s.capacity else 0.0)
+
+
+def to_assembly(scn: Scenario, lib=None, used: dict | None = None):
+    """The :class:`~pulsetherm.network.stackup.Assembly` of the scenario's devices."""
+    from .foster import Foster
+    from .stackup import Assembly, Board, Mount, Part
+
+    lib = lib if lib is not None else _library(scn)
+    used = {} if used is None else used
+    parts = []
+    for i, d in enumerate(scn.devices or ()):
+        path = f"devices[{i}]"
+        stack = [_layer(l, lib, f"{path}.stack[{j}]", used) for j, l in enumerate(d.stack or ())]
+        foster = None
+        if d.foster is not None:
+            try:
+                foster = Foster(np.array([q.value for q in d.foster.R]),
+                                np.array([q.value for q in d.foster.tau]))
+            except ValueError as exc:
+                raise ScenarioError(f"{path}.foster", None, " ".join(str(exc).split())) from None
+        try:
+            parts.append(Part(d.name, tuple(q.value for q in d.footprint), stack,
+                              (0.0, 0.0) if d.position is None
+                              else tuple(q.value for q in d.position),
+                              None if d.limit is None else d.limit.degC,
+                              None if d.rth is None else d.rth.value, foster))
+        except ValueError as exc:
+            raise _field_error(exc, path, d) from None
+    board = None
+    if scn.board is not None:
+        layers = [_layer(l, lib, f"board.layers[{j}]", used)
+                  for j, l in enumerate(scn.board.layers)]
+        try:
+            board = Board(layers, tuple(q.value for q in scn.board.size))
+        except ValueError as exc:
+            raise _field_error(exc, "board", scn.board) from None
+    iface = [_layer(l, lib, f"mount.interface[{j}]", used)
+             for j, l in enumerate(scn.mount.interface or ())]
+    try:
+        mount = Mount(iface, _sink(scn))
+    except ValueError as exc:
+        raise _field_error(exc, "mount.sink", scn.mount.sink) from None
+    if not parts:
+        return None
+    try:
+        return Assembly(parts, board, mount, name=scn.name)
+    except ValueError as exc:
+        raise ScenarioError("devices", None, " ".join(str(exc).split())) from None
+
+
+# ======================================================================================
+# The built model
+# ======================================================================================
+@dataclass(eq=False)
+class ScenarioModel:
+    """A scenario turned into a network, ready to solve.
+
+    Attributes
+    ----------
+    scenario
+        The scenario it was built from.
+    network
+        :class:`~pulsetherm.network.model.ThermalNetwork` (degC at its API).
+    built
+        The stack-up build (:class:`~pulsetherm.network.builder.BuiltModel`) or None when
+        the scenario has no device.
+    waveforms
+        Input name -> waveform object.
+    probes
+        Probe name -> node name (device junctions ``<device>.junction``, line hot spots
+        ``<line>.hottest``, material-limit nodes, the scenario's own probes).
+    limits
+        Probe name -> limit, degC.
+    ambient
+        The boundary node the rises are referred to.
+    materials
+        Materials used, name -> :class:`~pulsetherm.network.materials.Material`.
+    """
+
+    scenario: Scenario
+    network: Any
+    built: Any
+    waveforms: dict[str, Any]
+    probes: dict[str, str]
+    limits: dict[str, float]
+    ambient: str
+    materials: dict[str, Any] = field(default_factory=dict)
+    lines: dict[str, Any] = field(default_factory=dict)
+    groups: dict[str, list[str]] = field(default_factory=dict)
+
+    @property
+    def method(self) -> str:
+        m = self.scenario.model
+        if m is not None and m.method:
+            return m.method
+        if m is not None and m.nonlinear:
+            return "nonlinear"
+        return "auto"
+
+    def cautions(self) -> list[str]:
+        """The general caution (whenever limits are judged) and material cautions."""
+        out = [CAUTION]
+        for mat in self.materials.values():
+            if mat.caution and mat.caution not in out:
+                out.append(mat.caution)
+        return out
+
+
+def build(scn: Scenario) -> ScenarioModel:
+    """Turn a scenario into a :class:`ScenarioModel` (network, inputs, probes, limits)."""
+    from .builder import build as build_stack
+    from .model import ThermalNetwork
+
+    lib = _library(scn)
+    used: dict[str, Any] = {}
+    waves: dict[str, Any] = {}
+    for sec, items in (("devices", scn.devices), ("lines", scn.lines),
+                       ("heaters", scn.heaters)):
+        for i, item in enumerate(items or ()):
+            waves[item.name] = make_waveform(item.power, scn, f"{sec}[{i}].power")
+    for name, spec in (scn.waveforms or {}).items():  # unused ones are checked too
+        make_waveform(spec, scn, f"waveforms.{name}")
+    asm = to_assembly(scn, lib, used)
+    m = scn.model
+    fidelity = (m.fidelity if m is not None else None) or "ladder"
+    built = None
+    if asm is not None:
+        t_min = min(_shortest_feature(waves[d.name] for d in scn.devices), 1e3)
+        opts = dict(t_min=t_min, fidelity=(m.grading if m and m.grading else "normal"),
+                    spreading=(m.spreading if m and m.spreading else "angle"),
+                    nonlinear=bool(m and m.nonlinear), library=lib)
+        try:
+            if fidelity == "axisymmetric":
+                from . import axisym
+
+                built = axisym.build(asm, **opts)
+            else:
+                built = build_stack(asm, **opts)
+        except ScenarioError:
+            raise
+        except ValueError as exc:
+            raise ScenarioError("devices", None, " ".join(str(exc).split())) from None
+        net = built.network
+        ambient = built.ambient
+        probes, limits = _stack_probes(built)
+        if built.inputs != {d.name: d.name for d in scn.devices}:
+            waves = {built.inputs.get(k, k): w for k, w in waves.items()}
+    else:
+        net = ThermalNetwork()
+        ambient = "base" if scn.mount.sink.kind == "fixed" else "ambient"
+        net.add_boundary(ambient, scn.ambient_C)
+        probes, limits = {}, {}
+    model = ScenarioModel(scn, net, built, waves, probes, limits, ambient, used)
+    _add_lines(model, lib)
+    _add_elements(model)
+    _add_heaters(model)
+    _add_probes(model)
+    floating = net.floating_parts()
+    if floating:
+        raise ScenarioError(_owner(scn, floating[0]), None,
+                            f"nodes {', '.join(floating[0][:5])} have no path to the sink; "
+                            "connect them (elements of kind 'resistance')")
+    return model
+
+
+def _stack_probes(built) -> tuple[dict[str, str], dict[str, float]]:
+    """Junction probes ``<part>.junction`` and, for each layer with a material limit
+    (laminate service temperature, solder melting point), ``<part>.<layer>`` at the layer's
+    top face (its hottest face under heat flowing down)."""
+    net = built.network
+    bounds = set(net.boundaries)
+    probes: dict[str, str] = {}
+    limits: dict[str, float] = {}
+    for part, col in built.columns.items():
+        probes[col.junction] = col.junction
+        lim = built.limits.get(col.junction)
+        if lim is not None:
+            limits[col.junction] = float(lim)
+    for part, col in built.columns.items():
+        for lay in col.layers:
+            if lay.limit_C is None or not lay.nodes:
+                continue
+            node = lay.nodes[0]
+            if node in bounds or node == built.sink_node:
+                continue
+            name = f"{part}.{lay.name}"
+            probes[name] = node
+            limits[name] = float(lay.limit_C)
+    return probes, limits
+
+
+def _known_nodes(model: ScenarioModel) -> list[str]:
+    return list(model.network.nodes) + list(model.network.boundaries)
+
+
+def _node(model: ScenarioModel, name: str, path: str) -> str:
+    nodes = _known_nodes(model)
+    if name in nodes:
+        return name
+    if name in model.probes:
+        return model.probes[name]
+    close = difflib.get_close_matches(name, nodes + list(model.probes), n=3, cutoff=0.5)
+    hint = f"did you mean {' or '.join(repr(c) for c in close)}?" if close else \
+        f"e.g. {', '.join(nodes[:4])}"
+    raise ScenarioError(path, name, f"a node of the network; {hint}")
+
+
+def _owner(scn: Scenario, nodes: list[str]) -> str:
+    """Scenario key of the element or heater that made a floating group of nodes."""
+    for i, e in enumerate(scn.elements or ()):
+        if e.name in nodes or (e.between and set(e.between) & set(nodes)):
+            return f"elements[{i}]"
+    for i, h in enumerate(scn.heaters or ()):
+        if h.node in nodes:
+            return f"heaters[{i}].node"
+    return "elements"
+
+
+def _is_metal(mat) -> bool:
+    """Board copper and other metals (k > 50 W/(m·K)) against laminates and fills."""
+    return mat.k > 50.0
+
+
+def _line_ground(model: ScenarioModel, lib, below: list) -> str:
+    """The ground-plane node under the lines.
+
+    The layers below the line's laminate (ground copper, further laminates) and the mount
+    interface are lumped in one 1-D conduction over the board area, R = Σ t/(k·A) (plus
+    area resistances r/A), with their heat capacity Σ ρ·c·t·A on the ground node.  This is
+    a coarse model of the board under a line (no spreading): it is right when the board is
+    thin against its width, as line boards are.
+    """
+    scn = model.scenario
+    net = model.network
+    W, L = (q.value for q in scn.board.size)
+    area = W * L
+    if model.built is not None:
+        sink = model.built.sink_node
+    else:
+        s = scn.mount.sink
+        if s.kind == "fixed":
+            sink = model.ambient
+        else:
+            net.add_node("sink", capacity=s.capacity.value if s.capacity else 0.0, label="sink")
+            if s.kind == "lumped":
+                net.connect("sink", model.ambient, resistance=s.resistance.value)
+            else:
+                wet = s.area.value if s.area is not None else area
+                net.connect("sink", model.ambient, conductance=s.h.value * wet)
+            sink = "sink"
+    R, C = 0.0, 0.0
+    for path, lay in below:
+        if lay.area_resistance is not None:
+            R += lay.area_resistance.value / area
+            continue
+        mat = _material(lib, lay.material, _join(path, "material"))
+        model.materials[mat.name] = mat
+        R += lay.thickness.value / (mat.k * area)
+        C += mat.rho * mat.c * lay.thickness.value * area
+    if R <= 0.0:
+        return sink
+    net.add_node("board.ground", capacity=C, label="board/ground")
+    net.connect("board.ground", sink, resistance=R)
+    return "board.ground"
+
+
+def _add_lines(model: ScenarioModel, lib) -> None:
+    """Write each line (:class:`~pulsetherm.network.lines.RFLine`) into the network.
+
+    The line's laminate is its ``dielectric`` or the first non-metal board layer; the trace
+    copper is ``conductor`` thick or the board's top layer when that is a metal.  Heaters
+    with ``line = ...`` become the line's point heaters.
+    """
+    scn = model.scenario
+    if not scn.lines:
+        return
+    from .lines import PointHeater, RFLine
+    from .microstrip import Microstrip
+
+    layers = list(scn.board.layers)
+    lam_index = None
+    for j, lay in enumerate(layers):
+        if lay.material is None:
+            continue
+        mat = _material(lib, lay.material, f"board.layers[{j}].material")
+        if not _is_metal(mat):
+            lam_index = j
+            break
+    if lam_index is None:
+        raise ScenarioError("board.layers", None, "a laminate layer (a line needs a dielectric "
+                            "between its strip and the ground plane)")
+    lam_spec = layers[lam_index]
+    top = layers[0]
+    top_mat = _material(lib, top.material, "board.layers[0].material") if top.material else None
+    below = [(f"board.layers[{j}]", lay) for j, lay in enumerate(layers) if j > lam_index]
+    below += [(f"mount.interface[{j}]", lay) for j, lay in enumerate(scn.mount.interface or ())]
+    ground = _line_ground(model, lib, below)
+    net = model.network
+    for i, spec in enumerate(scn.lines):
+        path = f"lines[{i}]"
+        if spec.dielectric is not None:
+            lam = _material(lib, spec.dielectric, _join(path, "dielectric"))
+        else:
+            lam = _material(lib, lam_spec.material, f"board.layers[{lam_index}].material")
+        model.materials[lam.name] = lam
+        if spec.conductor is not None:
+            t_cu = spec.conductor.value
+        elif lam_index > 0 and top_mat is not None and _is_metal(top_mat):
+            t_cu = top.thickness.value
+        else:
+            raise ScenarioError(_join(path, "conductor"), None, "missing; the board has no top "
+                                "copper layer, give the strip's copper thickness")
+        copper = top_mat if top_mat is not None and _is_metal(top_mat) else None
+        heaters = [(j, h) for j, h in enumerate(scn.heaters or ()) if h.line == spec.name]
+        try:
+            ms = Microstrip(lam_spec.thickness.value, spec.permittivity,
+                            width=spec.width.value if spec.width else None,
+                            z0_target=spec.impedance.value if spec.impedance else None,
+                            tan_delta=spec.loss_tangent or 0.0, thickness=t_cu,
+                            frequency=spec.frequency.value,
+                            roughness=spec.roughness.value if spec.roughness else 0.0)
+            pts = [PointHeater(h.name, h.position.value,
+                               h.length.value if h.length else 0.0,
+                               h.resistance.value if h.resistance else None,
+                               h.capacity.value if h.capacity else 0.0) for _, h in heaters]
+            rl = RFLine(ms, spec.length.value, lam, copper=copper, heaters=tuple(pts),
+                        limit=spec.limit.degC if spec.limit else None)
+            bl = rl.build(net, ground, prefix=spec.name)
+        except ScenarioError:
+            raise
+        except ValueError as exc:
+            raise _line_error(exc, path, spec, heaters) from None
+        rf = model.waveforms.pop(spec.name)
+        if bl.rf_input is not None:
+            model.waveforms[bl.rf_input] = bl.heat_waveform(rf)
+        for j, h in heaters:
+            model.waveforms[bl.heater_inputs[h.name]] = model.waveforms.pop(h.name)
+            if h.name in bl.heater_nodes:
+                node = bl.heater_nodes[h.name]
+            else:
+                shares = rl._footprint_shares(pts[[x.name for x in pts].index(h.name)])
+                node = bl.top_nodes[max(shares, key=shares.get)]
+            model.probes[h.name] = node
+            if h.limit is not None:
+                model.limits[h.name] = h.limit.degC
+        model.lines[spec.name] = bl
+        probe = f"{spec.name}.hottest"
+        model.groups[probe] = list(bl.top_nodes) + list(bl.heater_nodes.values())
+        model.probes[probe] = bl.top_nodes[0]
+        if rl.limit_c is not None:
+            model.limits[probe] = float(rl.limit_c)
+
+
+def _line_error(exc: ValueError, path: str, spec, heaters) -> ScenarioError:
+    msg = " ".join(str(exc).split())
+    for j, h in heaters:
+        if f"heater {h.name!r}" in msg:
+            key = "position" if "footprint" in msg or "position" in msg else None
+            return ScenarioError(f"heaters[{j}]" + (f".{key}" if key else ""),
+                                 h.position.text if key else None, msg)
+    for word, key in (("width", "width"), ("z0_target", "impedance"), ("eps_r", "permittivity"),
+                      ("tan_delta", "loss_tangent"), ("frequency", "frequency"),
+                      ("length", "length"), ("thickness", "conductor"),
+                      ("roughness", "roughness")):
+        if msg.startswith(word) or f" {word} =" in msg:
+            v = getattr(spec, key, None)
+            return ScenarioError(_join(path, key), getattr(v, "text", v), msg)
+    return ScenarioError(path, None, msg)
+
+
+def _add_elements(model: ScenarioModel) -> None:
+    net = model.network
+    pending = []
+    for i, e in enumerate(model.scenario.elements or ()):
+        path = f"elements[{i}]"
+        if e.kind == "mass":
+            net.add_node(e.name, capacity=e.capacity.value, label=f"{e.name}/mass")
+            pending.append((path, e))
+        else:
+            pending.append((path, e))
+    for path, e in pending:
+        if e.kind == "mass":
+            node = _node(model, e.node, _join(path, "node"))
+            net.connect(e.name, node, resistance=e.resistance.value)
+        else:
+            a = _node(model, e.between[0], _join(path, "between") + "[0]")
+            b = _node(model, e.between[1], _join(path, "between") + "[1]")
+            net.connect(a, b, resistance=e.resistance.value)
+
+
+def _add_heaters(model: ScenarioModel) -> None:
+    for i, h in enumerate(model.scenario.heaters or ()):
+        path = f"heaters[{i}]"
+        if h.line is not None:
+            continue
+        node = _node(model, h.node, _join(path, "node"))
+        if node in model.network.boundaries:
+            raise ScenarioError(_join(path, "node"), h.node, "a free node (heat put into a "
+                                "fixed-temperature boundary goes nowhere)")
+        model.network.add_input(h.name, {node: 1.0})
+        model.probes.setdefault(h.name, node)
+        if h.limit is not None:
+            model.limits[h.name] = h.limit.degC
+
+
+def _add_probes(model: ScenarioModel) -> None:
+    for i, p in enumerate(model.scenario.probes or ()):
+        path = f"probes[{i}]"
+        node = _node(model, p.node or p.name, _join(path, "node" if p.node else "name"))
+        if node in model.network.boundaries:
+            raise ScenarioError(_join(path, "node"), p.node or p.name,
+                                "a free node (a boundary's temperature is fixed)")
+        model.probes[p.name] = node
+        if p.limit is not None:
+            model.limits[p.name] = p.limit.degC
+
+
+# ======================================================================================
+# Run
+# ======================================================================================
+@dataclass(frozen=True)
+class ProbeStats:
+    """Periodic-steady-state figures at one probe, degC / K."""
+
+    peak_C: float
+    mean_C: float
+    min_C: float
+    ripple_K: float
+    limit_C: float | None
+    margin_K: float | None
+
+    def to_dict(self) -> dict[str, float | None]:
+        return {"peak_C": self.peak_C, "mean_C": self.mean_C, "min_C": self.min_C,
+                "ripple_K": self.ripple_K, "limit_C": self.limit_C, "margin_K": self.margin_K}
+
+
+@dataclass(eq=False)
+class RunResult:
+    """Result of :func:`simulate`.
+
+    Attributes
+    ----------
+    scenario
+        Scenario name.
+    ambient_C
+        Coolant or ambient temperature, degC.
+    probes
+        Probe name -> :class:`ProbeStats`.
+    warmup_s
+        Time from a cold start to 99 % of the periodic state at the hottest probe, s.
+    budget
+        Rows ``{"part", "layer", "share", "rise_K"}``: each layer's part of the mean rise
+        of its part's junction (shares of one part sum to 1).
+    cautions
+        Texts to show with any judgement of limits.
+    response
+        The periodic :class:`~pulsetherm.network.result.Response` (one period).
+    model
+        The :class:`ScenarioModel` solved.
+    """
+
+    scenario: str
+    ambient_C: float
+    probes: dict[str, ProbeStats]
+    warmup_s: float
+    budget: list[dict[str, Any]]
+    cautions: list[str]
+    response: Any = None
+    model: ScenarioModel | None = None
+    budget_probe: str | None = None
+
+    def violations(self, margin: float = 0.0) -> list[str]:
+        """Probes whose margin to their limit is below ``margin`` K."""
+        return [n for n, p in self.probes.items()
+                if p.margin_K is not None and p.margin_K < margin]
+
+    @property
+    def ok(self) -> bool:
+        return not self.violations()
+
+    def to_dict(self) -> dict[str, Any]:
+        """The stable JSON form of ``pulsetherm run --json``."""
+        return {"scenario": self.scenario, "ambient_C": self.ambient_C,
+                "probes": {n: p.to_dict() for n, p in self.probes.items()},
+                "warmup_s": self.warmup_s, "budget": list(self.budget),
+                "cautions": list(self.cautions)}
+
+    def summary(self) -> str:
+        from_lines = [f"{self.scenario}: ambient {self.ambient_C:.1f} degC, warm-up "
+                      f"{self.warmup_s:.3g} s"]
+        for n, p in self.probes.items():
+            lim = "" if p.limit_C is None else f", limit {p.limit_C:.1f} degC, margin " \
+                                               f"{p.margin_K:.1f} K"
+            from_lines.append(f"  {n}: peak {p.peak_C:.2f}, mean {p.mean_C:.2f}, min "
+                              f"{p.min_C:.2f} degC{lim}")
+        return "\n".join(from_lines)
+
+    # -- time series -------------------------------------------------------------------
+    def warmup_series(self, periods: int | None = None):
+        """Transient from ambient (cold start) over the warm-up, a Response."""
+        m = self.model
+        T = _period(m)
+        if periods is None:
+            spec = m.scenario.model
+            periods = spec.periods if spec is not None and spec.periods else None
+        if periods is None:
+            periods = int(min(max(math.ceil(1.2 * self.warmup_s / T), 1), 20000))
+        return m.network.transient(m.waveforms, periods=periods,
+                                   probes=list(dict.fromkeys(m.probes.values())),
+                                   method=m.method)
+
+    def to_csv(self, fh) -> None:
+        """One period of the periodic steady state: time (s) and each probe (degC)."""
+        r = self.response
+        names = list(self.probes)
+        w = csv.writer(fh)
+        w.writerow(["t_s"] + [f"{n}_C" for n in names])
+        cols = [r.T(self.model.probes[n]) for n in names]
+        for k, t in enumerate(r.t):
+            w.writerow([repr(float(t))] + [repr(float(c[k])) for c in cols])
+
+
+def _period(model: ScenarioModel) -> float:
+    from pulsetherm.waveforms.canonical import align, as_piecewise
+
+    edges, _, _ = align([as_piecewise(w) for w in model.waveforms.values()])
+    return float(edges[-1])
+
+
+def simulate(scn: Scenario | ScenarioModel) -> RunResult:
+    """Periodic steady state of a scenario: probe figures, budget, warm-up, cautions."""
+    model = scn if isinstance(scn, ScenarioModel) else build(scn)
+    s = model.scenario
+    net = model.network
+    extra = [n for group in model.groups.values() for n in group]
+    nodes = list(dict.fromkeys(list(model.probes.values()) + extra))
+    try:
+        resp = net.periodic(model.waveforms, probes=nodes, method=model.method)
+    except ValueError as exc:
+        raise ScenarioError("model", None, " ".join(str(exc).split())) from None
+    for name, group in model.groups.items():  # a line's hot spot: its hottest node
+        model.probes[name] = max(group, key=lambda n: float(resp.peak(n)))
+    probes: dict[str, ProbeStats] = {}
+    for name, node in model.probes.items():
+        pk, mn, lo = float(resp.peak(node)), float(resp.mean(node)), float(resp.min(node))
+        lim = model.limits.get(name)
+        probes[name] = ProbeStats(pk, mn, lo, pk - lo, lim, None if lim is None else lim - pk)
+    amb = s.ambient_C
+    hottest = max(model.probes, key=lambda n: probes[n].peak_C) if probes else None
+    warm = _warmup(model, resp, hottest)
+    budget, bprobe = _budget(model)
+    return RunResult(s.name, amb, probes, warm, budget, model.cautions(), resp, model, bprobe)
+
+
+def _warmup(model: ScenarioModel, resp, probe: str | None) -> float:
+    if probe is None:
+        return 0.0
+    w = getattr(resp, "warmup_s", None)
+    if w is not None and not callable(w):
+        try:
+            return float(w[model.probes[probe]]) if isinstance(w, Mapping) else float(w)
+        except (TypeError, KeyError):
+            pass
+    return float(model.network.warmup_time(model.waveforms, model.probes[probe]))
+
+
+def _budget(model: ScenarioModel) -> tuple[list[dict[str, Any]], str | None]:
+    """Each layer's share of the mean rise of its part's junction.
+
+    Mean powers drive a steady solve (the mean of the periodic state equals the steady
+    state under mean power for a linear network); the rise across a layer is the
+    temperature of its top face minus that of its bottom face.
+    """
+    built = model.built
+    if built is None:
+        return [], None
+    mean = {name: float(_mean_power(w)) for name, w in model.waveforms.items()}
+    st = model.network.steady(mean)
+    rows = []
+    amb = st.T(model.ambient)
+    hottest, top = None, -math.inf
+    for part, col in built.columns.items():
+        rise = st.T(col.junction) - amb
+        if rise > top:
+            hottest, top = col.junction, rise
+        for lay in col.layers:
+            if not lay.nodes:
+                continue
+            r = st.T(lay.nodes[0]) - st.T(lay.nodes[-1])
+            rows.append({"part": part, "layer": lay.name, "share": r / rise if rise > 0
+                         else 0.0, "rise_K": r})
+        # the rise from the bottom of the column to the ambient (sink and film)
+        tail = st.T(col.layers[-1].nodes[-1]) - amb if col.layers else rise
+        if abs(tail) > 1e-12 * max(abs(rise), 1.0):
+            rows.append({"part": part, "layer": "sink", "share": tail / rise if rise > 0
+                         else 0.0, "rise_K": tail})
+    return rows, hottest
+
+
+def _mean_power(w) -> float:
+    from pulsetherm.waveforms.canonical import as_piecewise
+
+    return as_piecewise(w).mean
+
+
+# ======================================================================================
+# Thermal impedance
+# ======================================================================================
+@dataclass(eq=False)
+class ImpedanceResult:
+    """Zth at one probe (its own part's input): curve, pulsed family, Foster, Cauer,
+    structure function."""
+
+    probe: str
+    input: str
+    t: np.ndarray
+    zth: np.ndarray
+    pulsed: Any
+    foster: Any
+    cauer: Any
+    structure: Any
+
+    @property
+    def R_th(self) -> float:
+        return float(np.sum(self.foster.R))
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"probe": self.probe, "input": self.input, "R_th_K_per_W": self.R_th,
+                "foster": {"R": [float(x) for x in self.foster.R],
+                           "tau": [float(x) for x in self.foster.tau]},
+                "cauer": {"R": [float(x) for x in self.cauer.R],
+                          "C": [float(x) for x in self.cauer.C]},
+                "zth": {"t_s": [float(x) for x in self.t],
+                        "K_per_W": [float(x) for x in self.zth]}}
+
+    def to_csv(self, fh) -> None:
+        """Zth against time, then the pulsed-Zth family (one column per duty)."""
+        w = csv.writer(fh)
+        w.writerow(["t_s", "zth_K_per_W"])
+        for t, z in zip(self.t, self.zth):
+            w.writerow([repr(float(t)), repr(float(z))])
+        p = self.pulsed
+        if p is not None:
+            w.writerow([])
+            duties = [float(d) for d in np.atleast_1d(p.duties)]
+            w.writerow(["width_s"] + [f"duty_{d:g}" for d in duties])
+            Z = np.asarray(p.zth)
+            if Z.shape[0] != len(duties):
+                Z = Z.T
+            for k, tp in enumerate(np.atleast_1d(p.widths)):
+                w.writerow([repr(float(tp))] + [repr(float(Z[j, k])) for j in range(len(duties))])
+
+
+def thermal_impedance(scn: Scenario | ScenarioModel, probe: str) -> ImpedanceResult:
+    """Zth, pulsed Zth, Foster/Cauer and the structure function at ``probe``.
+
+    The input is the heat source the probe belongs to (a device's own input for its
+    junction); otherwise the first input.
+    """
+    model = scn if isinstance(scn, ScenarioModel) else build(scn)
+    if probe not in model.probes:
+        close = difflib.get_close_matches(probe, list(model.probes), n=2)
+        hint = f"did you mean {' or '.join(map(repr, close))}? " if close else ""
+        raise ScenarioError("--probe", probe, f"a probe of the scenario; {hint}probes: "
+                            f"{', '.join(model.probes)}")
+    node = model.probes[probe]
+    owner = probe.split(".")[0]
+    inputs = list(model.network.inputs)
+    inp = owner if owner in inputs else inputs[0]
+    net = model.network
+    curve = net.zth(node, input=inp)
+    pulsed = net.pulsed_zth(node, input=inp)
+    fost = net.foster(node, input=inp)
+    cauer = fost.to_cauer()
+    from .structure import structure_function
+
+    sf = structure_function(cauer)
+    return ImpedanceResult(probe, inp, np.asarray(curve.t), np.asarray(curve.K_per_W), pulsed,
+                           fost, cauer, sf)
