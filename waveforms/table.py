@@ -367,7 +367,7 @@ class Table(WaveformBase):
             if flag not in ("true", "false", "yes", "no", "1", "0"):
                 raise WaveformError(f"CSV directive periodic = {flag!r}: expected true or false")
             periodic = flag in ("true", "yes", "1")
-        if period is None and "period" in directive:
+        if period is None and "period" in directive and periodic:
             try:
                 period = float(directive["period"])
             except ValueError:
