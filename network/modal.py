@@ -37,7 +37,7 @@ import math
 
 import numpy as np
 import scipy.linalg as sla
-from scipy.optimize import brentq, minimize_scalar
+from scipy.optimize import brentq
 
 from .assemble import condense, floating_nodes, static_field
 from .solvers import RawResponse
@@ -58,24 +58,25 @@ _FACT = np.array([math.factorial(j) for j in range(24)], dtype=np.float64)
 def gk(k: int, x: np.ndarray) -> np.ndarray:
     """g_k(x) = Σ_j (−x)^j/(j+k+1)! for x ≥ 0 (ψ_k(λ, s) = s^{k+1}·g_k(λs)).
 
-    Series (18 terms, Horner) for x < 1, recursion from g₀ = −expm1(−x)/x otherwise.
+    Series (12 terms, Horner; truncation < 1e-17 relative) for x < 0.1, otherwise the
+    recursion from g₀ = −expm1(−x)/x (cancellation at most ~30 ulp at x = 0.1 for k = 2).
     """
     x = np.asarray(x, dtype=np.float64)
-    small = x < 1.0
+    small = x < 0.1
+    if small.all():
+        acc = np.full_like(x, 1.0 / _FACT[11 + k + 1])
+        for j in range(10, -1, -1):
+            acc = acc * (-x) + 1.0 / _FACT[j + k + 1]
+        return acc
     out = np.empty_like(x)
     if small.any():
-        xs = x[small]
-        acc = np.zeros_like(xs)
-        for j in range(17, -1, -1):
-            acc = acc * (-xs) + 1.0 / _FACT[j + k + 1]
-        out[small] = acc
+        out[small] = gk(k, x[small])
     big = ~small
-    if big.any():
-        xb = x[big]
-        g = -np.expm1(-xb) / xb
-        for kk in range(k):
-            g = (1.0 / _FACT[kk + 1] - g) / xb
-        out[big] = g
+    xb = x[big]
+    g = -np.expm1(-xb) / xb
+    for kk in range(k):
+        g = (1.0 / _FACT[kk + 1] - g) / xb
+    out[big] = g
     return out
 
 
@@ -276,7 +277,8 @@ class ModalSolver:
         keep = (amp >= 1e-6 * amp.max()) & (lam > 0)
         return float(1.0 / lam[keep].max()) if keep.any() else 1.0
 
-    def _sample(self, q0, edges, level, slope, rows, store_ok: bool = True):
+    def _sample(self, q0, edges, level, slope, rows, store_ok: bool = True,
+                refine: bool = True):
         """Exact samples at every segment end (plus interior log-spaced points and refined
         extremes of every probe).  Returns t, theta (absolute K), q_end, integral."""
         Pp = self.Phi[rows]
@@ -314,12 +316,25 @@ class ModalSolver:
         v = np.vstack(v_list)
         order = np.argsort(t, kind="stable")
         t, v = t[order], v[order]
-        t, v = self._refine(t, v, q0, edges, level, slope, starts, store, Pp, Dp)
+        if refine:
+            t, v = self._refine(t, v, q0, edges, level, slope, starts, store, Pp, Dp)
         return t, v + self.T_ref[rows][None, :], q_end, integral
 
+    def _slope_seg(self, q0, s: float, lvl, slp, Pp_j, Dp_j) -> float:
+        """dθ/ds of one probe inside a segment: Pp·(−λ q(s) + Wa + Wb s) + Dp·slope."""
+        q = self._eval_q(q0, s, lvl, slp)
+        dq = -self.lam * q + self.W @ lvl + (self.W @ slp) * s
+        return float(Pp_j @ dq + Dp_j @ slp)
+
+    def _eval_q(self, q0, s: float, lvl, slp) -> np.ndarray:
+        lam = self.lam
+        return (np.exp(-lam * s) * q0 + _psi(0, lam, s) * (self.W @ lvl)
+                + _psi(1, lam, s) * (self.W @ slp))
+
     def _refine(self, t, v, q0, edges, level, slope, starts, store, Pp, Dp, top: int = 2):
-        """Locate each probe's maximum and minimum exactly (bounded scalar search on the
-        closed-form response) in the segments around the best samples; add them as samples."""
+        """Locate each probe's maximum and minimum exactly in the segments around its best
+        samples: where the closed-form slope changes sign inside a bracket of neighbouring
+        samples, its root (Brent) is the extreme; it is added as a sample for every probe."""
         N = edges.size - 1
         extra_t = []
         cache: dict[int, np.ndarray] = {}
@@ -330,36 +345,36 @@ class ModalSolver:
             return cache[k]
 
         for j in range(v.shape[1]):
+            Pj, Dj = Pp[j], Dp[j]
             for sign in (1.0, -1.0):
                 col = sign * v[:, j]
                 order = np.argsort(col)[::-1]
                 seen = set()
                 for i in order[:4 * top]:
+                    lo_i, hi_i = max(i - 1, 0), min(i + 1, t.size - 1)
                     segs = set()
-                    for ti in (t[max(i - 1, 0)], t[i], t[min(i + 1, t.size - 1)]):
+                    for ti in (t[lo_i], t[i], t[hi_i]):
                         k = int(np.clip(np.searchsorted(edges, ti, side="right") - 1, 0, N - 1))
                         segs.add(k)
                         if ti == edges[k] and k > 0:
                             segs.add(k - 1)
                     segs -= seen
-                    for k in segs:
+                    for k in sorted(segs):
                         seen.add(k)
-                        h = edges[k + 1] - edges[k]
-                        lo_t = max(t[max(i - 1, 0)], edges[k])
-                        hi_t = min(t[min(i + 1, t.size - 1)], edges[k + 1])
-                        if hi_t <= lo_t:
-                            lo_t, hi_t = edges[k], edges[k + 1]
+                        a = max(t[lo_i], edges[k]) - edges[k]
+                        b = min(t[hi_i], edges[k + 1]) - edges[k]
+                        if b <= a:
+                            a, b = 0.0, edges[k + 1] - edges[k]
                         q = start(k)
 
-                        def f(s, q=q, k=k):
-                            return -sign * self._eval_seg(q, s, level[k], slope[k], Pp[j:j + 1],
-                                                          Dp[j:j + 1])[0, 0]
+                        def fp(s, q=q, k=k):
+                            return sign * self._slope_seg(q, s, level[k], slope[k], Pj, Dj)
 
-                        res = minimize_scalar(f, bounds=(lo_t - edges[k], hi_t - edges[k]),
-                                              method="bounded",
-                                              options={"xatol": max(h * 1e-13, 1e-300)})
-                        if -res.fun > sign * v[i, j]:
-                            extra_t.append((k, float(res.x)))
+                        fa, fb = fp(a), fp(b)
+                        if fa > 0 > fb:
+                            s_star = brentq(fp, a, b, xtol=max((b - a) * 1e-14, 1e-300),
+                                            rtol=1e-15)
+                            extra_t.append((k, float(s_star)))
                     if len(seen) >= 2 * top:
                         break
         if not extra_t:
@@ -482,12 +497,20 @@ class ModalSolver:
                 sel.add(int(nn[np.argmax(dev[j])]))
                 sel.add(int(nn[np.argmin(dev[j])]))
         sel = sorted(s for s in sel if 0 <= s < Nper)
-        ts, vs = [], []
+        ts, vs = {}, {}
         for n in sel:
-            qn = q_at(n)
-            t, th, _, _ = self._sample(qn, edges, level, slope, rows)
-            ts.append(t + n * T)
-            vs.append(th)
+            t, th, _, _ = self._sample(q_at(n), edges, level, slope, rows, refine=False)
+            ts[n], vs[n] = t + n * T, th
+        # refine the extremes only in the periods holding each probe's best samples
+        best = set()
+        for j in range(rows.size):
+            best.add(max(sel, key=lambda n: vs[n][:, j].max()))
+            best.add(min(sel, key=lambda n: vs[n][:, j].min()))
+        for n in best:
+            t, th, _, _ = self._sample(q_at(n), edges, level, slope, rows, refine=True)
+            ts[n], vs[n] = t + n * T, th
+        ts = [ts[n] for n in sel]
+        vs = [vs[n] for n in sel]
         # exact integral over all periods: ∫_period q = J q_n + j0, J = ψ₀(λ, T)
         _ends, _qe, j0, _st = self._scan(np.zeros_like(q0), edges, level, slope,
                                          self.Phi[rows[:1]], self.Dp[rows[:1]], False)
