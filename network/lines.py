@@ -309,17 +309,12 @@ class PointHeater:
 def _material(name: str, obj) -> tuple[float, float, float, float | None]:
     """(k_z, k_xy, ρc, t_max degC) from a Material-like object or a mapping."""
     get = obj.get if isinstance(obj, Mapping) else (lambda key, d=None: getattr(obj, key, d))
-    try:
-        k = _num(f"{name}.k", get("k"), "W/(m·K)")
-        kxy = get("k_inplane", None)
-        kxy = k if kxy is None else _num(f"{name}.k_inplane", kxy, "W/(m·K)")
-        rho = _num(f"{name}.rho", get("rho"), "kg/m³")
-        c = _num(f"{name}.c", get("c"), "J/(kg·K)")
-    except LineError:
-        raise
-    except Exception:  # noqa: BLE001 - any object lacking the fields
-        raise LineError(f"{name} = {obj!r}: expected a material with k, k_inplane, rho, c "
-                        "(W/(m·K), kg/m³, J/(kg·K))") from None
+    # a missing field reads as None and is refused by _num, naming it
+    k = _num(f"{name}.k", get("k"), "W/(m·K)")
+    kxy = get("k_inplane", None)
+    kxy = k if kxy is None else _num(f"{name}.k_inplane", kxy, "W/(m·K)")
+    rho = _num(f"{name}.rho", get("rho"), "kg/m³")
+    c = _num(f"{name}.c", get("c"), "J/(kg·K)")
     tmax = get("t_max_K", None)
     return k, kxy, rho * c, (None if tmax is None else float(tmax) - KELVIN_OFFSET)
 
@@ -473,7 +468,7 @@ class RFLine:
             step = min(step, self.microstrip.wavelength / 16.0)
         fine = (min(0.25 * self.fin_length, self.microstrip.height, step)
                 if self.fine_segment is None else min(self.fine_segment, step))
-        zones, breaks = [], []
+        zones = []
         for hp in self.heaters:
             if hp.length > 0.0:
                 a, b = hp.position - hp.length / 2, hp.position + hp.length / 2
@@ -481,7 +476,7 @@ class RFLine:
             else:
                 a, b = hp.position - fine / 2, hp.position + fine / 2
                 zones.append((max(a, 0.0), min(b, L), fine))
-        return graded_edges(L, step, zones, breaks, self.growth)
+        return graded_edges(L, step, zones, growth=self.growth)
 
     @property
     def x(self) -> np.ndarray:
@@ -672,8 +667,9 @@ class RFLine:
         if hp.length > 0.0:
             a, b = hp.position - hp.length / 2, hp.position + hp.length / 2
             ov = np.clip(np.minimum(e[1:], b) - np.maximum(e[:-1], a), 0.0, None)
-            if ov.sum() > 0.0:
-                return {int(k): float(v / ov.sum()) for k in np.flatnonzero(ov > 0) for v in [ov[k]]}
+            total = ov.sum()
+            if total > 0.0:
+                return {int(k): float(ov[k] / total) for k in np.flatnonzero(ov > 0)}
         k = int(np.clip(np.searchsorted(e, hp.position, side="right") - 1, 0, e.size - 2))
         return {k: 1.0}
 

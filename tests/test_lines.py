@@ -376,3 +376,23 @@ def test_graded_edges_keeps_breaks():
     assert 0.25 in e and 0.5 in e and 0.52 in e
     assert np.diff(e).max() <= 0.1 * 1.3
     assert np.all(np.diff(e) > 0)
+
+
+def test_library_laminate_and_mismatched_energy_balance():
+    """A shipped laminate class works as ``laminate`` (its service limit becomes the line's
+    limit), and a mismatched line's network receives exactly its heat (conservation)."""
+    from pulsetherm.network.materials import default_library
+
+    lam = default_library().get("fr4-class")
+    ms = Microstrip(height=H, eps_r=4.3, z0_target=50.0, frequency=2e9, tan_delta=0.02)
+    line = RFLine(ms, length=0.1, laminate=lam, gamma_load=0.5j)
+    net, gnd = _net()
+    built = line.build(net, gnd, prefix="l")
+    res = net.steady({"l.rf": line.heat_waveform(20.0)})
+    assert sum(res.heat_to_boundaries.values()) == pytest.approx(20.0 * line.loss_fraction,
+                                                                 rel=1e-9)
+    matched = RFLine(ms, length=0.1, laminate=lam)
+    assert line.loss_fraction > matched.loss_fraction
+    rep = built.report(res)
+    if lam.t_max_K is not None:
+        assert rep.limit == pytest.approx(lam.t_max_K - 273.15)
