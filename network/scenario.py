@@ -327,13 +327,12 @@ QUANTITY_KINDS: dict[str, tuple[str, str]] = {
     "temperature": ("temperature", "45 degC"),
     "difference": ("temperature_difference", "10 K"),
     "resistance": ("thermal_resistance", "0.35 K/W"),
-    "capacity": ("heat_capacity", "12 J/K"),
+    "capacity": ("capacity", "12 J/K"),
     "frequency": ("frequency", "10 GHz"),
     "impedance": ("impedance", "50 ohm"),
-    "h": ("heat_transfer_coefficient", "1500 W/(m2 K)"),
+    "h": ("film_coefficient", "1500 W/(m2 K)"),
     "area": ("area", "40 cm2"),
-    "area_resistance": ("area_resistance", "0.1 K cm2/W"),
-    "attenuation": ("attenuation", "0.3 dB/cm"),
+    "area_resistance": ("area_resistance", "10 K mm2/W"),
     "angle": ("angle", "45 deg"),
 }
 
@@ -351,7 +350,7 @@ def parse_quantity(text: Any, kind: str, path: str) -> Quantity:
             raise ScenarioError(path, text, f"{expected} (a bare number has no unit)")
         raise ScenarioError(path, text, expected)
     try:
-        value = float(_units_parse()(text, kind=units_kind, field=path))
+        value = float(_units_parse(units_kind)(text, kind=units_kind, field=path))
     except ValueError as exc:
         raise ScenarioError(path, text, f"{expected} ({_reason(exc, path)})") from None
     if not math.isfinite(value):
@@ -359,53 +358,25 @@ def parse_quantity(text: Any, kind: str, path: str) -> Quantity:
     return Quantity(text, value, kind)
 
 
-def _units_parse():
-    try:
-        from .units import parse_quantity as units_parse
-    except ImportError:  # the project's unit table is not installed: use the small one here
-        return _fallback_parse
+def _units_parse(kind: str):
+    """The parser of a unit kind: the project's unit table
+    (:func:`pulsetherm.network.units.parse_quantity`), except for line impedance (ohm),
+    which that table does not hold."""
+    if kind == "impedance":
+        return _parse_ohm
+    from .units import parse_quantity as units_parse
+
+    if kind == "angle":  # the unit table returns radians; the stack-up takes degrees
+        return lambda text, kind, field: math.degrees(units_parse(text, kind=kind,
+                                                                   field=field))
     return units_parse
 
 
-_FALLBACK_UNITS: dict[str, dict[str, float]] = {
-    "length": {"m": 1.0, "mm": 1e-3, "um": 1e-6, "µm": 1e-6, "cm": 1e-2, "mil": 25.4e-6,
-               "in": 25.4e-3, "nm": 1e-9},
-    "time": {"s": 1.0, "ms": 1e-3, "us": 1e-6, "µs": 1e-6, "ns": 1e-9, "min": 60.0, "h": 3600.0},
-    "power": {"W": 1.0, "mW": 1e-3, "kW": 1e3},
-    "temperature_difference": {"K": 1.0, "degC": 1.0, "mK": 1e-3},
-    "thermal_resistance": {"K/W": 1.0, "degC/W": 1.0, "mK/W": 1e-3},
-    "heat_capacity": {"J/K": 1.0, "mJ/K": 1e-3, "kJ/K": 1e3},
-    "frequency": {"Hz": 1.0, "kHz": 1e3, "MHz": 1e6, "GHz": 1e9},
-    "impedance": {"ohm": 1.0, "Ohm": 1.0, "Ω": 1.0},
-    "heat_transfer_coefficient": {"W/(m2 K)": 1.0, "W/m2/K": 1.0, "W/(m^2 K)": 1.0,
-                                  "W/(m2*K)": 1.0},
-    "area": {"m2": 1.0, "cm2": 1e-4, "mm2": 1e-6, "m^2": 1.0, "cm^2": 1e-4, "mm^2": 1e-6},
-    "area_resistance": {"K m2/W": 1.0, "K cm2/W": 1e-4, "K mm2/W": 1e-6, "K*m2/W": 1.0,
-                        "K*cm2/W": 1e-4, "K*mm2/W": 1e-6},
-    "angle": {"deg": 1.0, "degree": 1.0, "degrees": 1.0},
-}
-
-
-def _fallback_parse(text: str, kind: str, field: str) -> float:
-    """Number and unit from a small table (used only without pulsetherm.network.units)."""
-    m = re.match(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?|[-+]?inf|nan)\s*(.*?)\s*$", text)
-    if not m:
-        raise ValueError(f"{field} = {text!r}: expected a number followed by a unit")
-    x, unit = float(m.group(1)), m.group(2)
-    if kind == "temperature":
-        if unit in ("degC", "°C", "C"):
-            return x + KELVIN_OFFSET
-        if unit == "K":
-            return x
-        if unit in ("degF", "°F"):
-            return (x - 32.0) / 1.8 + KELVIN_OFFSET
-        raise ValueError(f"{field} = {text!r}: unknown temperature unit {unit!r} "
-                         "(degC, K, degF)")
-    table = _FALLBACK_UNITS[kind]
-    if unit not in table:
-        raise ValueError(f"{field} = {text!r}: unknown unit {unit!r} for a "
-                         f"{kind.replace('_', ' ')} (known: {', '.join(table)})")
-    return x * table[unit]
+def _parse_ohm(text: str, kind: str, field: str) -> float:
+    m = _NUM.match(text)
+    if not m or m.group(2) not in ("ohm", "Ohm", "ohms", "\u03a9", "\u2126"):
+        raise ValueError(f"{field} = {text!r}: expected an impedance such as '50 ohm'")
+    return float(m.group(1))
 
 
 def _reason(exc: BaseException, path: str) -> str:

@@ -159,7 +159,7 @@ def _layer(spec: LayerSpec, lib, path: str, used: dict):
         used[mat.name] = mat
         vias = via_area = None
         if spec.vias is not None:
-            vias = _vias(spec.vias, lib, _join(path, "vias"), used)
+            vias = _vias(spec.vias, lib, _join(path, "vias"), used, mat)
             if spec.vias.area is not None:
                 via_area = tuple(q.value for q in spec.vias.area)
         size = None if spec.size is None else tuple(q.value for q in spec.size)
@@ -186,20 +186,31 @@ def _field_error(exc: ValueError, path: str, spec: Any) -> ScenarioError:
     return ScenarioError(path, None, msg)
 
 
-def _vias(spec, lib, path: str, used: dict):
-    """The via field of a laminate layer (:mod:`pulsetherm.network.vias`)."""
-    from . import vias as via_mod
+def _vias(spec, lib, path: str, used: dict, laminate=None) -> float:
+    """Effective through-plane conductivity of a via field, W/(m·K) (common practice, the
+    area-fraction rule of the physics brief §7):
 
-    fill = None
+        k_z,eff = k_Cu·f_Cu + k_fill·f_hole + k_lam·(1 − f_Cu − f_hole),
+
+    f_Cu = π·t·(d − t)/A_cell the plated barrel, f_hole = π·(d/2 − t)²/A_cell the hole
+    (k_fill = 0 when empty), A_cell = p² (square grid) or (√3/2)·p² (hexagonal).
+    """
+    copper = lib.get("pcb-copper")
+    used[copper.name] = copper
+    k_fill = 0.0
     if spec.fill is not None:
         fill = _material(lib, spec.fill, _join(path, "fill"))
         used[fill.name] = fill
-    try:
-        return via_mod.ViaArray(drill=spec.drill.value, plating=spec.plating.value,
-                                pitch=spec.pitch.value, fill=fill,
-                                pattern=spec.pattern or "square")
-    except ValueError as exc:
-        raise _field_error(exc, path, spec) from None
+        k_fill = fill.k
+    d, t, p = spec.drill.value, spec.plating.value, spec.pitch.value
+    cell = p * p if (spec.pattern or "square") == "square" else math.sqrt(3) / 2 * p * p
+    f_cu = math.pi * t * (d - t) / cell
+    f_hole = math.pi * (d / 2 - t) ** 2 / cell
+    if f_cu + f_hole >= 1.0:
+        raise ScenarioError(_join(path, "pitch"), spec.pitch.text,
+                            f"a pitch leaving laminate between the holes (drill {spec.drill.text})")
+    k_lam = laminate.k if laminate is not None else 0.0
+    return copper.k * f_cu + k_fill * f_hole + k_lam * (1.0 - f_cu - f_hole)
 
 
 def _sink(scn: Scenario):
@@ -859,7 +870,7 @@ class ImpedanceResult:
             w.writerow([])
             duties = [float(d) for d in np.atleast_1d(p.duties)]
             w.writerow(["width_s"] + [f"duty_{d:g}" for d in duties])
-            Z = np.asarray(p.zth)
+            Z = np.asarray(p.K_per_W)
             if Z.shape[0] != len(duties):
                 Z = Z.T
             for k, tp in enumerate(np.atleast_1d(p.widths)):
