@@ -239,6 +239,7 @@ class _Seg:
     k_via: float | None = None      # effective conductivity in the via area
     via_area: float | None = None
     angle: float = DEFAULT_ANGLE
+    cap_angle: float | None = None  # angle of the heat-storing geometry (None = angle)
 
     @property
     def thickness(self) -> float:
@@ -538,6 +539,8 @@ def build(assembly: Assembly, *, t_min: float = DEFAULT_T_MIN,
             for s in segs:
                 s.angle = 0.0
         elif spreading == "calibrated":
+            for s in segs:
+                s.cap_angle = s.angle
             calibrate_angles(segs, part.footprint, sink, reference=reference)
         col = _build_column(nl, part, segs, grade, t_min, sink, sink_node, merge,
                             nonlinear, node_map, board_faces)
@@ -604,6 +607,7 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
 
     current = top
     depth = 0.0
+    wc, lc = w, l
     for si, (seg, xi) in enumerate(zip(segs, xis)):
         last_seg = si == len(segs) - 1
         label = f"{p}/{seg.name}"
@@ -623,6 +627,7 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
             continue
         t = seg.thickness
         tan = math.tan(math.radians(seg.angle))
+        tan_c = tan if seg.cap_angle is None else math.tan(math.radians(seg.cap_angle))
         via = _via_field(seg, w, l)
         mat = seg.material
         a_exp = mat.k_exponent if nonlinear else 0.0
@@ -631,6 +636,11 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
         for kk in range(len(xi) - 1):
             g, c_top, c_bot = frustum_sublayer(z[kk], z[kk + 1], w, l, tan, seg.cap,
                                                seg.k_eff, seg.rho_c, via)
+            if seg.cap_angle is not None:
+                # calibrated: conduction through the fitted frustum, heat stored in the
+                # default-angle one (a wide fitted angle must not add early capacity)
+                _, c_top, c_bot = frustum_sublayer(z[kk], z[kk + 1], wc, lc, tan_c,
+                                                   seg.cap, seg.k_eff, seg.rho_c, via)
             R_layer += 1.0 / g
             C_layer += c_top + c_bot
             ww, ll = path_size(z[kk + 1], w, l, tan, seg.cap)
@@ -645,6 +655,7 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
             faces.append(name)
             current = name
         w_new, l_new = path_size(t, w, l, tan, seg.cap)
+        wc, lc = path_size(t, wc, lc, tan_c, seg.cap)
         layers.append(LayerInfo(p, seg.name, seg.group, mat.name, t, tuple(faces), R_layer,
                                 C_layer, seg.angle, area_top, w_new * l_new, mat.t_max_C))
         if seg.group == "board":
@@ -807,7 +818,7 @@ def _sink_r(sink, area: float) -> float:
 
 
 def calibrate_angles(segs: list[_Seg], footprint: tuple[float, float], sink,
-                     reference: str = "series") -> list[float]:
+                     reference: str = "series", plate: str = "widest") -> list[float]:
     """Fit each layer's spreading angle to the published spreading solution (in place).
 
     Method (telescoping).  Let R_ref(j, A) be the reference resistance (mean source rise per
@@ -821,7 +832,12 @@ def calibrate_angles(segs: list[_Seg], footprint: tuple[float, float], sink,
     resistance equals R_ref(1, footprint) (up to area-resistance interfaces, which keep
     their exact r/A).
 
-    R_ref of a run of consecutive elements of one lateral size (the plate) is the
+    ``plate="widest"`` (default): every element is taken as wide as the widest sized layer
+    of the column and R_ref is the compound-disk series of the whole remaining stack
+    (:func:`disk_spreading`).  Good when the narrow layers on top are thin against their
+    width (die and attach on a flange: steady within 4 % of the r-z mesh,
+    tests/test_fem_crosscheck.py).  ``plate="runs"``: R_ref of a run of consecutive
+    elements of one lateral size (the plate) is the
     compound-disk series (:func:`disk_spreading`, equal-area circles a = √(A/π),
     b = √(A_p/π)) over an effective film h = 1/(A_p·R_ref(next run, plate area)) that
     stands for the rest of the stack (a wider layer below sees the run's plate as its
@@ -830,9 +846,15 @@ def calibrate_angles(segs: list[_Seg], footprint: tuple[float, float], sink,
     ``reference="lee"`` single-layer runs use Lee et al. (1995) instead.  A layer with no
     size takes the size of the nearest sized layer below (above if none).
 
+    In the network the conduction follows the fitted frustum while the heat capacity stays
+    in the default-angle frustum (a wide fitted angle would otherwise put capacity next
+    to the source and lower the early Zth).
+
     Returns the angles, degrees (also stored on the segments).
     """
     from .spreading import lee_1995
+    if plate not in ("widest", "runs"):
+        raise StackupError(f"plate = {plate!r}: expected 'widest' or 'runs'")
     nseg = len(segs)
     if nseg == 0:
         return []
@@ -846,6 +868,9 @@ def calibrate_angles(segs: list[_Seg], footprint: tuple[float, float], sink,
         plates.append(p)
     if plates[0] is None:                      # nothing sized: keep the default angles
         return [s.angle for s in segs]
+    if plate == "widest":
+        big = max(plates, key=lambda c: c[0] * c[1])
+        plates = [big] * nseg
     for j in range(nseg):                      # interfaces join the run above them
         if isinstance(segs[j].element, AreaResistance) and j > 0:
             plates[j] = plates[j - 1]
