@@ -1,0 +1,99 @@
+"""Axisymmetric r-z accuracy mode against exact spreading series, the half-space limit and
+the slab series; ladder-against-mesh report."""
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+
+from pulsetherm.network.axisym import build_axisym, compare, radial_grid
+from pulsetherm.network.builder import build, disk_spreading
+from pulsetherm.network.materials import Material
+from pulsetherm.network.stackup import (Assembly, Film, FixedBase, Layer, Mount, Part,
+                                        StackupError)
+
+CU = Material(name="cu-390", k=390.0, rho=8933.0, c=385.0)   # physics brief §3
+K150 = Material(name="k150", k=150.0, rho=3210.0, c=690.0)
+SI = Material(name="si-brief", k=148.0, rho=2330.0, c=712.0)
+
+
+def test_plate_spreading_within_2_percent_of_exact_series():
+    """Circular isoflux source of the area of 10×10 mm on 50×50×3 mm copper, h = 1e4:
+    R_sp = 0.1419 K/W (Yovanovich, Culham & Teertstra 1998; physics brief §3 [deriv])."""
+    asm = Assembly([Part("d", 1e-2, [Layer(CU, 3e-3, size=5e-2)])],
+                   mount=Mount(sink=Film(1e4)))
+    m = build_axisym(asm, t_min=1e-4)
+    r1d = 3e-3 / (390 * 25e-4) + 1 / (1e4 * 25e-4)
+    assert m.steady_resistance() - r1d == pytest.approx(0.1419, rel=0.02)
+    assert m.centre_resistance() - r1d == pytest.approx(0.1736, rel=0.03)
+
+
+def test_two_layer_within_3_percent():
+    """k1 150, 0.1 mm over k2 390, 1 mm; 1×1 mm source on 10×10 mm; h = 1e4: 2.7111 K/W
+    (Yovanovich, Muzychka & Culham 1999; physics brief §3 [deriv])."""
+    asm = Assembly([Part("d", 1e-3, [Layer(K150, 1e-4, size=1e-2),
+                                     Layer(CU, 1e-3, size=1e-2)])],
+                   mount=Mount(sink=Film(1e4)))
+    assert build_axisym(asm, t_min=1e-4).steady_resistance() == pytest.approx(2.7111,
+                                                                               rel=0.03)
+
+
+def test_half_space_limit():
+    """Large plate (radius and thickness 200 a), isothermal base: k·a·R_sp → 8/(3π²) =
+    0.2702 (isoflux circle on a half-space; physics brief §3 [pub])."""
+    a = 1e-3
+    b = 200 * a
+    side = math.sqrt(math.pi) * a
+    asm = Assembly([Part("d", side, [Layer(CU, b, size=math.sqrt(math.pi) * b)])])
+    m = build_axisym(asm, t_min=1e-2, radial_cells=8)
+    r1d = b / (390 * math.pi * b * b)
+    assert 390 * a * (m.steady_resistance() - r1d) == pytest.approx(8 / (3 * math.pi ** 2),
+                                                                    rel=0.02)
+
+
+def test_slab_transient_matches_series():
+    """Source as wide as the plate: 1-D; Zth within 1 % of the Carslaw & Jaeger (1959)
+    slab series from 1 µs to steady (physics brief §4)."""
+    asm = Assembly([Part("d", 1e-2, [Layer(SI, 1e-3, size=1e-2)])])
+    m = build_axisym(asm, radial_cells=3)
+    t = np.logspace(-6, 1, 25)
+    n = np.arange(200_000)
+    L, A = 1e-3, 1e-4
+    Rn = L / (148 * A) * 8 / ((2 * n + 1) ** 2 * math.pi ** 2)
+    tau = 4 * L * L / ((2 * n + 1) ** 2 * math.pi ** 2 * SI.diffusivity)
+    exact = Rn.sum() - np.exp(-np.outer(t, 1 / tau)) @ Rn
+    assert np.max(np.abs(m.zth(t) / exact - 1)) < 0.01
+
+
+def test_disk_spreading_fast_form_matches_module_series():
+    """The calibration's fast series equals the exact series of spreading.py (0.14185 for
+    the copper plate of physics brief §3)."""
+    from pulsetherm.network.spreading import circular_series
+    a, b = math.sqrt(1e-4 / math.pi), math.sqrt(25e-4 / math.pi)
+    ref = circular_series(a, b, 390.0, 3e-3, 1e4).total
+    assert disk_spreading(a, b, [390.0], [3e-3], 1e4) == pytest.approx(ref, rel=1e-6)
+
+
+def test_compare_reports_ladder_against_mesh():
+    asm = Assembly([Part("d", 2e-3, [Layer(CU, 1e-3, size=1e-2)])],
+                   mount=Mount(sink=FixedBase()))
+    c = compare(build(asm, spreading="calibrated"), t=np.logspace(-5, 0, 8),
+                radial_cells=6)
+    assert abs(c.steady_difference) < 0.05
+    assert c.zth_difference.shape == (8,)
+    assert "steady ladder" in c.summary()
+
+
+def test_radial_grid_contains_required_radii():
+    r = radial_grid(1e-3, [2e-3, 5e-3], 1e-4, 1.3)
+    for x in (0.0, 1e-3, 2e-3, 5e-3):
+        assert np.any(np.isclose(r, x, rtol=0, atol=1e-15))
+    assert np.all(np.diff(r) > 0)
+
+
+def test_datasheet_part_refused():
+    from pulsetherm.network.foster import Foster
+    asm = Assembly([Part("d", 1e-3, foster=Foster([1.0], [1e-3]))])
+    with pytest.raises(StackupError, match="data-sheet"):
+        build_axisym(asm)
