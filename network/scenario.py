@@ -84,7 +84,9 @@ class ScenarioError(ValueError):
             where = f"{self.source}:{self.line}: " if self.line else f"{self.source}: "
         elif self.line:
             where = f"line {self.line}: "
-        key = self.path or "(file)"
+        key = self.path
+        if not key:
+            return f"{where}{self.expected}"
         if self.value is None:
             return f"{where}{key}: {self.expected}"
         return f"{where}{key} = {self.value!r}: {self.expected}"
@@ -112,7 +114,7 @@ def _split_dotted(key: str) -> list[str]:
 def _path_parts(path: str) -> list[str]:
     """``devices[0].stack[2].thickness`` -> ``['devices', '[0]', 'stack', '[2]', 'thickness']``."""
     out: list[str] = []
-    for m in re.finditer(r"\[(\d+)\]|\"([^\"]*)\"|([^.\[\]]+)", path):
+    for m in re.finditer(r"\[([^\]]+)\]|\"([^\"]*)\"|([^.\[\]]+)", path):
         if m.group(1) is not None:
             out.append(f"[{m.group(1)}]")
         else:

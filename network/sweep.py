@@ -48,6 +48,7 @@ def parse_range(text: str, kind: str, option: str) -> tuple[list[float], UnitSca
     """``"LO..HI UNIT:N"`` -> N values evenly spaced in the unit (``:N`` optional for
     sizing ranges, then the two ends).  Returns the numbers in the unit and its scale."""
     body, _, count = text.rpartition(":") if ":" in text else (text, "", "")
+    count = count.strip().removesuffix("log").strip()
     lo_txt, sep, hi_txt = body.partition("..")
     if not sep:
         raise ScenarioError(option, text, "a range LO..HI UNIT[:N], e.g. '0.1..0.5 K/W:5'")
@@ -63,13 +64,20 @@ def parse_range(text: str, kind: str, option: str) -> tuple[list[float], UnitSca
     if not (math.isfinite(lo) and math.isfinite(hi)) or lo == hi:
         raise ScenarioError(option, text, "two different finite ends")
     if count:
+        # the project's range syntax (":N", ":N log"): values from the unit table, then
+        # written back in the range's own unit
+        from .scenario import QUANTITY_KINDS
+        from .units import parse_range as units_range
+
         try:
-            n = int(count)
-        except ValueError:
-            n = 0
-        if n < 2:
+            si = units_range(text, QUANTITY_KINDS[kind][0] if kind else "dimensionless",
+                             option)
+        except ValueError as exc:
+            raise ScenarioError(option, text, "a range LO..HI UNIT:N, e.g. '0.1..0.5 K/W:5' "
+                                f"({' '.join(str(exc).split())})") from None
+        if len(si) < 2:
             raise ScenarioError(option, text, "a count N >= 2 after the colon")
-        return [lo + (hi - lo) * i / (n - 1) for i in range(n)], scale
+        return [scale.from_si(float(v)) for v in si], scale
     return [lo, hi], scale
 
 

@@ -1,0 +1,197 @@
+"""The command line: instant --help, exit codes, the broken-scenario corpus (status 2, a
+short message naming the key, no traceback, no partial output file).  Common practice, no
+source."""
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+from pulsetherm.tui.cli import main
+
+ROOT = Path(__file__).resolve().parents[1]
+EX = ROOT / "examples"
+
+GOOD = """name = "good"
+coolant = "40 degC"
+
+[waveforms.p]
+kind = "pulses"
+peak = "50 W"
+width = "100 us"
+period = "1 ms"
+
+[mount.sink]
+kind = "fixed"
+
+[[devices]]
+name = "pa"
+power = "p"
+footprint = ["3 mm", "3 mm"]
+limit = "150 degC"
+foster = { R = ["0.2 K/W", "0.5 K/W", "1.3 K/W"], tau = ["10 us", "1 ms", "100 ms"] }
+
+[[devices.stack]]
+name = "flange"
+material = "copper"
+thickness = "1 mm"
+"""
+
+
+def test_help_does_not_import_numpy_or_scipy():
+    code = ("import sys\nfrom pulsetherm.tui.cli import main\n"
+            "try:\n    main(['--help'])\nexcept SystemExit:\n    pass\n"
+            "bad = [m for m in ('numpy', 'scipy', 'matplotlib', 'textual') if m in sys.modules]\n"
+            "print(bad)\nsys.exit(1 if bad else 0)\n")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
+    assert out.returncode == 0, out.stdout + out.stderr
+    assert "usage: pulsetherm" in out.stdout
+
+
+def test_materials_list_and_show(capsys):
+    assert main(["materials"]) == 0
+    assert "fr4-class" in capsys.readouterr().out
+    assert main(["materials", "beryllia"]) == 0
+    out = capsys.readouterr().out
+    assert "CAUTION" in out and "Table A.2" in out
+    assert main(["materials", "berylia"]) == 2
+    assert "did you mean 'beryllia'" in capsys.readouterr().err
+
+
+def test_good_scenario_runs_and_checks(tmp_path, capsys):
+    f = tmp_path / "good.toml"
+    f.write_text(GOOD)
+    assert main(["run", str(f), "--json"]) == 0
+    d = json.loads(capsys.readouterr().out)
+    assert set(d) == {"scenario", "ambient_C", "probes", "warmup_s", "budget", "cautions"}
+    p = d["probes"]["pa.junction"]
+    assert set(p) == {"peak_C", "mean_C", "min_C", "ripple_K", "limit_C", "margin_K"}
+    assert d["cautions"][0].startswith("engineering estimates; verify by measurement")
+    assert {"part", "layer", "share", "rise_K"} == set(d["budget"][0])
+    assert main(["check", str(f)]) == 0
+    capsys.readouterr()
+    assert main(["check", str(f), "--set", "devices[0].limit=60 degC"]) == 1
+    assert "pa.junction" in capsys.readouterr().out
+
+
+# name -> (scenario text, key that the message must name)
+def _sub(old: str, new: str) -> str:
+    assert old in GOOD, old
+    return GOOD.replace(old, new, 1)
+
+
+BROKEN: dict[str, tuple[str, str]] = {
+    "syntax_unclosed_string": (_sub('name = "good"', 'name = "good'), ".toml:1: TOML syntax"),
+    "syntax_missing_value": (_sub('kind = "fixed"', "kind = "), ".toml:11: TOML syntax"),
+    "syntax_duplicate_key": (_sub('kind = "fixed"', 'kind = "fixed"\nkind = "fixed"'), ".toml:12: TOML syntax"),
+    "syntax_bad_header": (_sub("[mount.sink]", "[mount.sink"), ".toml:10: TOML syntax"),
+    "unknown_top_key": (_sub('coolant = "40 degC"', 'coolant = "40 degC"\ncolour = "red"'),
+                        "colour"),
+    "unknown_device_key": (_sub('limit = "150 degC"', 'limt = "150 degC"'), "devices[0].limt"),
+    "unknown_layer_key": (_sub('thickness = "1 mm"', 'thicknes = "1 mm"'),
+                          "devices[0].stack[0].thicknes"),
+    "unknown_waveform_key": (_sub('width = "100 us"', 'widht = "100 us"'),
+                             "waveforms.p.widht"),
+    "unknown_sink_kind": (_sub('kind = "fixed"', 'kind = "fixd"'), "mount.sink.kind"),
+    "unknown_waveform_kind": (_sub('kind = "pulses"', 'kind = "pulse"'), "waveforms.p.kind"),
+    "wrong_unit_length": (_sub('thickness = "1 mm"', 'thickness = "1 W"'),
+                          "devices[0].stack[0].thickness"),
+    "wrong_unit_time": (_sub('width = "100 us"', 'width = "100 mm"'), "waveforms.p.width"),
+    "wrong_unit_power": (_sub('peak = "50 W"', 'peak = "50 K"'), "waveforms.p.peak"),
+    "wrong_unit_temperature": (_sub('coolant = "40 degC"', 'coolant = "40 W"'), "coolant"),
+    "wrong_unit_resistance": (_sub('"0.2 K/W"', '"0.2 W"'), "devices[0].foster.R[0]"),
+    "unknown_unit": (_sub('thickness = "1 mm"', 'thickness = "1 furlong"'),
+                     "devices[0].stack[0].thickness"),
+    "bare_number": (_sub('thickness = "1 mm"', "thickness = 0.001"),
+                    "devices[0].stack[0].thickness"),
+    "negative_thickness": (_sub('thickness = "1 mm"', 'thickness = "-1 mm"'),
+                           "devices[0].stack[0].thickness"),
+    "zero_thickness": (_sub('thickness = "1 mm"', 'thickness = "0 mm"'),
+                       "devices[0].stack[0].thickness"),
+    "nan_thickness": (_sub('thickness = "1 mm"', 'thickness = "nan mm"'),
+                      "devices[0].stack[0].thickness"),
+    "negative_peak": (_sub('peak = "50 W"', 'peak = "-50 W"'), "waveforms.p.peak"),
+    "zero_period": (_sub('period = "1 ms"', 'period = "0 ms"'), "waveforms.p.period"),
+    "width_longer_than_period": (_sub('width = "100 us"', 'width = "2 ms"'),
+                                 "waveforms.p"),
+    "missing_waveform": (_sub('power = "p"', 'power = "q"'), "devices[0].power"),
+    "misspelt_waveform": (_sub('power = "p"', 'power = "pp"'), "devices[0].power"),
+    "unknown_material": (_sub('material = "copper"', 'material = "unobtainium"'),
+                         "devices[0].stack[0].material"),
+    "misspelt_material": (_sub('material = "copper"', 'material = "coper"'),
+                          "devices[0].stack[0].material"),
+    "footprint_three_values": (_sub('["3 mm", "3 mm"]', '["3 mm", "3 mm", "1 mm"]'),
+                               "devices[0].footprint"),
+    "missing_footprint": (_sub('footprint = ["3 mm", "3 mm"]\n', ""), "devices[0].footprint"),
+    "missing_name": (_sub('name = "good"\n', ""), "name"),
+    "missing_sink": (_sub('[mount.sink]\nkind = "fixed"\n', ""), "mount"),
+    "no_heat_source": (GOOD.split("[[devices]]")[0], "devices"),
+    "tau_length_mismatch": (_sub('tau = ["10 us", "1 ms", "100 ms"]', 'tau = ["10 us"]'),
+                            "devices[0].foster.tau"),
+    "rth_and_foster": (_sub('limit = "150 degC"', 'limit = "150 degC"\nrth = "1 K/W"'),
+                       "devices[0]"),
+    "limit_below_absolute_zero": (_sub('limit = "150 degC"', 'limit = "-300 degC"'),
+                                  "devices[0].limit"),
+    "ambient_and_coolant": (_sub('coolant = "40 degC"', 'coolant = "40 degC"\nambient = "25 degC"'),
+                            "ambient"),
+    "lumped_sink_without_resistance": (_sub('kind = "fixed"', 'kind = "lumped"'),
+                                       "mount.sink.resistance"),
+    "fixed_sink_with_h": (_sub('kind = "fixed"', 'kind = "fixed"\nh = "10 W/(m2 K)"'),
+                          "mount.sink.h"),
+    "duplicate_device_names": (GOOD + GOOD[GOOD.index("[[devices]]"):], "devices[1].name"),
+    "name_with_dot": (_sub('name = "pa"', 'name = "p.a"'), "devices[0].name"),
+    "duty_above_one": (_sub('period = "1 ms"', "duty = 1.5"), "waveforms.p.duty"),
+    "burst_keys_on_pulses": (_sub('period = "1 ms"', 'period = "1 ms"\npulses = 4'),
+                             "waveforms.p.pulses"),
+    "floating_mass": (GOOD + '\n[[elements]]\nkind = "resistance"\nname = "strap"\n'
+                      'between = ["pa.junction", "nowhere"]\nresistance = "1 K/W"\n',
+                      "elements[0].between[1]"),
+    "unknown_probe_node": (GOOD + '\n[[probes]]\nname = "x"\nnode = "pa.junctoin"\n',
+                           "probes[0].node"),
+    "heater_on_unknown_line": (GOOD + '\n[[heaters]]\nname = "h"\npower = "1 W"\n'
+                               'line = "feed"\nposition = "1 mm"\n', "heaters[0].line"),
+    "mass_without_path": (GOOD + '\n[[elements]]\nkind = "mass"\nname = "m"\nnode = "m2"\n'
+                          'capacity = "1 J/K"\nresistance = "1 K/W"\n', "elements[0].node"),
+    "string_for_table": (_sub("[mount.sink]\nkind = \"fixed\"", "[mount]\nsink = \"cold\""),
+                         "mount.sink"),
+    "bool_for_quantity": (_sub('limit = "150 degC"', "limit = true"), "devices[0].limit"),
+}
+
+
+def test_corpus_is_large_enough():
+    assert len(BROKEN) >= 40
+
+
+@pytest.mark.parametrize("name", sorted(BROKEN))
+def test_broken_scenario_exits_2_naming_the_key(name, tmp_path, capsys):
+    text, key = BROKEN[name]
+    f = tmp_path / f"{name}.toml"
+    f.write_text(text)
+    csv_out = tmp_path / "out.csv"
+    code = main(["run", str(f), "--csv", str(csv_out)])
+    cap = capsys.readouterr()
+    assert code == 2, cap.out + cap.err
+    assert key in cap.err, cap.err
+    assert "Traceback" not in cap.err + cap.out
+    assert len(cap.err.strip().splitlines()) == 1
+    assert not csv_out.exists()
+    assert list(tmp_path.iterdir()) == [f]  # no partial or temporary file left
+
+
+def test_missing_file_and_bad_options(tmp_path, capsys):
+    assert main(["run", str(tmp_path / "none.toml")]) == 2
+    assert "none.toml" in capsys.readouterr().err
+    assert main(["run"]) == 2
+    capsys.readouterr()
+    f = tmp_path / "good.toml"
+    f.write_text(GOOD)
+    assert main(["run", str(f), "--plot", str(tmp_path / "x.gif")]) == 2
+    assert ".png or .svg" in capsys.readouterr().err
+    assert not (tmp_path / "x.gif").exists()
+    assert main(["check", str(f), "--margin", "10 W"]) == 2
+    assert "--margin" in capsys.readouterr().err
+    assert main(["sweep", str(f), "--vary", "devices[0].limt=1,2"]) == 2
+    assert "limt" in capsys.readouterr().err

@@ -1,0 +1,168 @@
+"""Scenario files: TOML writer, key-line finder, load/save round trip, error paths
+(common practice, no source: the schema is ours)."""
+from __future__ import annotations
+
+import math
+import tomllib
+from pathlib import Path
+
+import pytest
+from hypothesis import given, settings, strategies as st
+
+from pulsetherm.network.scenario import (ScenarioError, dumps, dumps_toml, find_line, load,
+                                         loads)
+
+EXAMPLES = sorted((Path(__file__).resolve().parents[1] / "examples").glob("*.toml"))
+
+keys = st.text(alphabet=st.characters(codec="utf-8", exclude_categories=("Cs",)), min_size=1,
+               max_size=8)
+scalars = st.one_of(st.booleans(), st.integers(-10**6, 10**6),
+                    st.floats(allow_nan=False), st.text(max_size=12))
+tables = st.recursive(
+    st.dictionaries(keys, st.one_of(scalars, st.lists(scalars, max_size=3)), max_size=4),
+    lambda inner: st.dictionaries(keys, st.one_of(inner, st.lists(inner, min_size=1,
+                                                                   max_size=2)), max_size=3),
+    max_leaves=12)
+
+
+@settings(max_examples=60, deadline=None)
+@given(tables)
+def test_writer_round_trips_through_tomllib(data):
+    """tomllib reads back exactly what the writer wrote."""
+    assert tomllib.loads(dumps_toml(data)) == data
+
+
+def test_writer_special_floats():
+    out = tomllib.loads(dumps_toml({"a": math.inf, "b": -math.inf, "c": 1.0, "d": 1e-300}))
+    assert out["a"] == math.inf and out["b"] == -math.inf and out["d"] == 1e-300
+    assert math.isnan(tomllib.loads(dumps_toml({"n": math.nan}))["n"])
+
+
+TEXT = """name = "x"
+coolant = "20 degC"
+
+[mount.sink]
+kind = "fixed"
+
+[[devices]]
+name = "a"
+power = "1 W"
+footprint = ["1 mm", "1 mm"]
+rth = "1 K/W"
+
+[[devices]]
+name = "b"
+power = "2 W"
+footprint = ["1 mm", "1 mm"]
+
+[[devices.stack]]
+material = "copper"
+thickness = "1 mm"
+
+[[devices.stack]]
+material = "silicon"
+thickness = "-1 mm"
+"""
+
+
+def test_find_line_counts_arrays_of_tables():
+    assert find_line(TEXT, "devices[1].stack[1].thickness") == 24
+    assert find_line(TEXT, "devices[0].rth") == 11
+    assert find_line(TEXT, "mount.sink.kind") == 5
+    # a key not in the text: the nearest enclosing key
+    assert find_line(TEXT, "devices[1].stack[1].size") == 22
+    assert find_line(TEXT, "nothing.here") is None
+
+
+def test_error_names_path_value_expected_and_line():
+    with pytest.raises(ScenarioError) as exc:
+        loads(TEXT, source="t.toml")
+    e = exc.value
+    assert e.path == "devices[1].stack[1].thickness"
+    assert e.value == "-1 mm"
+    assert "> 0" in e.expected
+    assert e.line == 24
+    assert str(e).startswith("t.toml:24: devices[1].stack[1].thickness = '-1 mm'")
+
+
+def test_unknown_key_gets_did_you_mean():
+    with pytest.raises(ScenarioError) as exc:
+        loads(TEXT.replace('rth = "1 K/W"', 'rht = "1 K/W"'))
+    assert exc.value.path == "devices[0].rht"
+    assert "did you mean 'rth'" in str(exc.value)
+    assert exc.value.line == 11
+
+
+def test_bare_number_is_refused_with_unit_hint():
+    with pytest.raises(ScenarioError) as exc:
+        loads(TEXT.replace('"-1 mm"', "0.001"))
+    assert "unit" in str(exc.value) and exc.value.path == "devices[1].stack[1].thickness"
+
+
+@pytest.mark.parametrize("path", EXAMPLES, ids=lambda p: p.name)
+def test_examples_round_trip_keeps_every_value(path, tmp_path):
+    """save(load(f)) reads back equal, with the original unit strings."""
+    scn = load(path)
+    out = tmp_path / "again.toml"
+    from pulsetherm.network.scenario import save
+
+    save(scn, out)
+    again = load(out)
+    assert again.to_dict() == scn.to_dict()
+    assert again.to_dict() == _strip(tomllib.loads(path.read_text()))
+    assert dumps(again) == out.read_text()
+
+
+def _strip(d):
+    return d
+
+
+def test_with_value_by_index_and_by_name():
+    scn = loads(TEXT.replace('"-1 mm"', '"1 mm"'))
+    a = scn.with_value("devices[b].stack[1].thickness", "20 mil")
+    assert a.devices[1].stack[1].thickness.text == "20 mil"
+    assert a.devices[1].stack[1].thickness.value == pytest.approx(0.508e-3)
+    b = a.with_value("devices[0].rth", "0.35 K/W")
+    assert b.devices[0].rth.value == 0.35
+    with pytest.raises(ScenarioError):
+        scn.with_value("devices[5].rth", "1 K/W")
+    with pytest.raises(ScenarioError) as exc:
+        scn.with_value("devices[0].rth", "-1 K/W")
+    assert exc.value.path == "devices[0].rth"
+
+
+def test_the_four_required_shapes_load():
+    """A data-sheet device on an ideal cold plate, a bare stack on a fixed base, a line
+    with a point heater, several devices on one sink (the shipped examples cover the last
+    two; the first two are written here)."""
+    datasheet = """name = "ds"
+coolant = "40 degC"
+[mount.sink]
+kind = "fixed"
+[waveforms.p]
+kind = "pulses"
+peak = "50 W"
+width = "100 us"
+period = "1 ms"
+[[devices]]
+name = "pa"
+power = "p"
+footprint = "5 mm"
+foster = { R = ["0.2 K/W", "0.5 K/W", "1.3 K/W"], tau = ["10 us", "1 ms", "100 ms"] }
+"""
+    bare = """name = "bare"
+coolant = "25 degC"
+[mount.sink]
+kind = "fixed"
+[[devices]]
+name = "die"
+power = "3 W"
+footprint = ["1 mm", "1 mm"]
+[[devices.stack]]
+material = "silicon"
+thickness = "1 mm"
+size = ["1 mm", "1 mm"]
+"""
+    for text in (datasheet, bare):
+        scn = loads(text)
+        assert loads(dumps(scn)).to_dict() == scn.to_dict()
