@@ -168,15 +168,18 @@ class Material:
     @classmethod
     def from_dict(cls, name: str, data: Mapping[str, Any],
                   base: "Material | None" = None) -> "Material":
-        """Build a material from a mapping of field values (SI numbers).
+        """Build a material from a mapping of field values.
 
-        With ``base``, unspecified fields are taken from it (an override).  Unknown keys are
+        Numbers are SI; text carries its unit (``k = "0.3 W/mK"``, ``rho = "1.85 g/cm3"``,
+        ``c = "1150 J/(kg·K)"``), read by :func:`pulsetherm.network.units.parse_quantity`.
+        ``t_max = "150 degC"`` (text with a unit) may stand for ``t_max_K``.  With
+        ``base``, unspecified fields are taken from it (an override).  Unknown keys are
         refused with a suggestion.
         """
         if not isinstance(data, Mapping):
             raise MaterialError(f"material {name!r}: expected a table of fields, got "
                                 f"{type(data).__name__}")
-        allowed = [f.name for f in fields(cls) if f.name != "name"]
+        allowed = [f.name for f in fields(cls) if f.name != "name"] + ["t_max"]
         values: dict[str, Any] = {}
         for key, value in data.items():
             if key not in allowed:
@@ -184,6 +187,9 @@ class Material:
                 also = f" (did you mean {hint[0]!r}?)" if hint else ""
                 raise MaterialError(f"material {name!r}: unknown field {key!r}{also}; "
                                     f"expected one of {', '.join(allowed)}")
+            if key == "t_max" or (key in _UNIT_KINDS and isinstance(value, str)):
+                value = _with_unit(name, key, value)
+                key = "t_max_K" if key == "t_max" else key
             values[key] = value
         if base is not None:
             merged = base.to_dict()
@@ -198,6 +204,21 @@ class Material:
                                 "a new material needs k (W/(m·K)), rho (kg/m³) and c "
                                 "(J/(kg·K)), or 'base' naming a material to start from")
         return cls(name=name, **values)
+
+
+# Fields that may be given as text with a unit ("390 W/mK", "8.9 g/cm3", "150 degC").
+_UNIT_KINDS = {"k": "conductivity", "k_inplane": "conductivity", "rho": "density",
+               "c": "specific_heat", "t_max_K": "temperature", "t_max": "temperature",
+               "k_exponent": "dimensionless"}
+
+
+def _with_unit(name: str, key: str, value: Any) -> float:
+    from .units import parse_quantity
+
+    try:
+        return parse_quantity(value, _UNIT_KINDS[key], f"material {name!r}: {key}")
+    except ValueError as exc:
+        raise MaterialError(str(exc)) from None
 
 
 @functools.lru_cache(maxsize=1)

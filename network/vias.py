@@ -36,6 +36,7 @@ __all__ = ["Via", "ViaArray", "ViaError", "FILLS", "barrel_resistance"]
 FILLS = {"none": None, "epoxy": "epoxy-via-fill", "solder": "sac305",
          "copper": "pcb-copper"}
 _GRIDS = ("square", "staggered")
+_GRID_ALIASES = {"hex": "staggered", "hexagonal": "staggered", "triangular": "staggered"}
 
 
 class ViaError(ValueError):
@@ -146,7 +147,8 @@ class ViaArray:
         The laminate between the vias: a :class:`Material` (through-plane ``k`` and
         ``k_inplane`` used) or a through-plane conductivity in W/(m·K).
     grid
-        ``"square"`` (cell pitch²) or ``"staggered"`` (triangular, cell (√3/2)·pitch²).
+        ``"square"`` (cell pitch²) or ``"staggered"`` (triangular, cell (√3/2)·pitch²;
+        ``"hex"`` and ``"triangular"`` are accepted for it).
     """
 
     via: Via
@@ -164,8 +166,12 @@ class ViaArray:
         object.__setattr__(self, "pitch", p)
         if not isinstance(self.laminate, Material):
             object.__setattr__(self, "laminate", _pos("laminate", self.laminate))
-        if self.grid not in _GRIDS:
-            raise ViaError(f"grid = {self.grid!r}: expected one of {', '.join(_GRIDS)}")
+        grid = _GRID_ALIASES.get(self.grid, self.grid) if isinstance(self.grid, str) \
+            else self.grid
+        if grid not in _GRIDS:
+            raise ViaError(f"grid = {self.grid!r}: expected one of {', '.join(_GRIDS)} "
+                           "('hex' and 'triangular' read as staggered)")
+        object.__setattr__(self, "grid", grid)
 
     @property
     def k_laminate(self) -> float:

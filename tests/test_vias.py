@@ -124,9 +124,14 @@ def test_array_validation():
     via = Via(**VIA)
     with pytest.raises(ViaError, match=r"pitch = 0.0002: expected more than the drill"):
         ViaArray(via, 0.2e-3, 0.3)
-    with pytest.raises(ViaError, match=r"grid = 'hex'"):
-        ViaArray(via, 0.6e-3, 0.3, grid="hex")
+    with pytest.raises(ViaError, match=r"grid = 'round'"):
+        ViaArray(via, 0.6e-3, 0.3, grid="round")
     with pytest.raises(ViaError, match=r"laminate = -1"):
         ViaArray(via, 0.6e-3, -1)
     with pytest.raises(ViaError, match=r"length = 0"):
         via.resistance(0)
+
+
+def test_grid_aliases():
+    arr = ViaArray(Via(**VIA), 0.6e-3, 0.3, grid="hex")
+    assert arr.grid == "staggered"
