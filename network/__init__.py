@@ -2,16 +2,25 @@
 Foster/Cauer networks, stack-up builder, RF line heating, scenarios, sweeps and sizing."""
 from .foster import Cauer, Foster, FosterError, FosterFit, fit_foster
 from .lines import BuiltLine, LineError, LineReport, PointHeater, RFLine
+from .materials import Material, MaterialError, MaterialLibrary, default_library
 from .microstrip import HurayRoughness, Microstrip, MicrostripError
 from .model import NetworkError, ThermalNetwork
 from .result import Response
+from .spreading import (SpreadingError, SpreadingResult, calibrate_angle, circular_series,
+                        frustum_resistance, lee_1995, rectangular_series)
 from .structure import StructureFunction, structure_function
 from .system import ThermalSystem
+from .units import UnitError, format_quantity, parse_quantity, parse_range
+from .vias import Via, ViaArray, ViaError
 from .zth import PulsedZth, ZthCurve
 
 __all__ = [
     "BuiltLine", "Cauer", "Foster", "FosterError", "FosterFit", "HurayRoughness", "LineError",
-    "LineReport", "Microstrip", "MicrostripError", "NetworkError", "PointHeater", "RFLine", "PulsedZth", "Response",
-    "StructureFunction", "ThermalNetwork", "ThermalSystem", "ZthCurve", "fit_foster",
+    "LineReport", "Material", "MaterialError", "MaterialLibrary", "Microstrip",
+    "MicrostripError", "NetworkError", "PointHeater", "PulsedZth", "RFLine", "Response",
+    "SpreadingError", "SpreadingResult", "StructureFunction", "ThermalNetwork",
+    "ThermalSystem", "UnitError", "Via", "ViaArray", "ViaError", "ZthCurve",
+    "calibrate_angle", "circular_series", "default_library", "fit_foster", "format_quantity",
+    "frustum_resistance", "lee_1995", "parse_quantity", "parse_range", "rectangular_series",
     "structure_function",
 ]
