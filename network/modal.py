@@ -425,9 +425,10 @@ class ModalSolver:
         q0 = self.periodic_start(edges, level, slope)
         t, theta, q_end, _ = self._sample(q0, edges, level, slope, rows)
         Pbar = self._mean_power(edges, level, slope)
-        # exact period mean: averaging the modal equation over a period, q̄ = W P̄ / λ
-        qbar = (self.W @ Pbar) / self.lam
-        mean_full = self.T_ref + self.Phi @ qbar + self.Dp @ Pbar
+        # Exact period mean: averaging C dT/dt + G T = Gb T_b + B P over a period (the
+        # state returns to its start) gives G T̄ = Gb T_b + B P̄, i.e. the modal integral
+        # q̄ = W P̄/λ; solved directly (sparse LU), which is more accurate than summing modes.
+        mean_full = static_field(self.system, Pbar)
         start = self.state(q0, level[0])
         info = {"method": "modal", "modes": int(self.lam.size), "segments": int(edges.size - 1),
                 "mean_full": mean_full, "evaluations": self.n_eval, "q_start": q0,
