@@ -186,31 +186,27 @@ def _field_error(exc: ValueError, path: str, spec: Any) -> ScenarioError:
     return ScenarioError(path, None, msg)
 
 
-def _vias(spec, lib, path: str, used: dict, laminate=None) -> float:
-    """Effective through-plane conductivity of a via field, W/(m·K) (common practice, the
-    area-fraction rule of the physics brief §7):
+def _vias(spec, lib, path: str, used: dict, laminate=None):
+    """The via field of a laminate layer: a :class:`~pulsetherm.network.vias.ViaArray`
+    (effective through-plane conductivity by the area-fraction rule, physics brief §7).
+    ``fill`` names a library material whose conductivity fills the holes (empty when not
+    given); the barrels are board copper."""
+    from .vias import Via, ViaArray
 
-        k_z,eff = k_Cu·f_Cu + k_fill·f_hole + k_lam·(1 − f_Cu − f_hole),
-
-    f_Cu = π·t·(d − t)/A_cell the plated barrel, f_hole = π·(d/2 − t)²/A_cell the hole
-    (k_fill = 0 when empty), A_cell = p² (square grid) or (√3/2)·p² (hexagonal).
-    """
     copper = lib.get("pcb-copper")
     used[copper.name] = copper
-    k_fill = 0.0
+    fill_label, k_fill = "none", None
     if spec.fill is not None:
         fill = _material(lib, spec.fill, _join(path, "fill"))
         used[fill.name] = fill
-        k_fill = fill.k
-    d, t, p = spec.drill.value, spec.plating.value, spec.pitch.value
-    cell = p * p if (spec.pattern or "square") == "square" else math.sqrt(3) / 2 * p * p
-    f_cu = math.pi * t * (d - t) / cell
-    f_hole = math.pi * (d / 2 - t) ** 2 / cell
-    if f_cu + f_hole >= 1.0:
-        raise ScenarioError(_join(path, "pitch"), spec.pitch.text,
-                            f"a pitch leaving laminate between the holes (drill {spec.drill.text})")
-    k_lam = laminate.k if laminate is not None else 0.0
-    return copper.k * f_cu + k_fill * f_hole + k_lam * (1.0 - f_cu - f_hole)
+        fill_label, k_fill = "epoxy", fill.k  # label only: k_fill sets the conductivity
+    try:
+        via = Via(spec.drill.value, spec.plating.value, fill=fill_label, k_copper=copper.k,
+                  k_fill=k_fill)
+        return ViaArray(via, spec.pitch.value, laminate if laminate is not None else 0.0,
+                        grid="square" if (spec.pattern or "square") == "square" else "hex")
+    except ValueError as exc:
+        raise _field_error(exc, path, spec) from None
 
 
 def _sink(scn: Scenario):

@@ -166,3 +166,19 @@ size = ["1 mm", "1 mm"]
     for text in (datasheet, bare):
         scn = loads(text)
         assert loads(dumps(scn)).to_dict() == scn.to_dict()
+
+
+def test_via_field_of_a_laminate_layer():
+    """Square grid of 0.30 mm drills, 25 um plating, pitch 0.6 / 1.0 mm, laminate k 0.3,
+    empty: k_z,eff 23.6 / 8.7 W/(m K) (physics brief §7, derived from the area-fraction
+    rule)."""
+    from pulsetherm.network.materials import default_library
+    from pulsetherm.network.scenario import ViaSpec, _load_section
+    from pulsetherm.network.simulate import _vias
+
+    lib = default_library()
+    lib.update({"lam03": {"k": 0.3, "rho": 1850.0, "c": 1150.0}})
+    for pitch, want in (("0.6 mm", 23.6), ("1.0 mm", 8.7)):
+        spec = _load_section(ViaSpec, {"drill": "0.3 mm", "plating": "25 um", "pitch": pitch},
+                             "board.layers[1].vias")
+        assert _vias(spec, lib, "v", {}, lib.get("lam03")).k_z == pytest.approx(want, abs=0.05)
