@@ -351,21 +351,17 @@ def build(scn: Scenario) -> ScenarioModel:
         opts = dict(t_min=t_min, fidelity=(m.grading if m and m.grading else "normal"),
                     spreading=(m.spreading if m and m.spreading else "angle"),
                     nonlinear=bool(m and m.nonlinear), library=lib)
-        try:
-            if fidelity == "axisymmetric":
-                from . import axisym
-
-                built = axisym.build(asm, **opts)
-            else:
+        if fidelity == "axisymmetric":
+            built, net, ambient, probes, limits = _axisymmetric(scn, asm, opts)
+        else:
+            try:
                 built = build_stack(asm, **opts)
-        except ScenarioError:
-            raise
-        except ValueError as exc:
-            raise ScenarioError("devices", None, " ".join(str(exc).split())) from None
-        net = built.network
-        ambient = built.ambient
-        probes, limits = _stack_probes(built)
-        if built.inputs != {d.name: d.name for d in scn.devices}:
+            except ValueError as exc:
+                raise ScenarioError("devices", None, " ".join(str(exc).split())) from None
+            net = built.network
+            ambient = built.ambient
+            probes, limits = _stack_probes(built)
+        if built is not None and built.inputs != {d.name: d.name for d in scn.devices}:
             waves = {built.inputs.get(k, k): w for k, w in waves.items()}
     else:
         net = ThermalNetwork()
@@ -383,6 +379,28 @@ def build(scn: Scenario) -> ScenarioModel:
                             f"nodes {', '.join(floating[0][:5])} have no path to the sink; "
                             "connect them (elements of kind 'resistance')")
     return model
+
+
+def _axisymmetric(scn: Scenario, asm, opts: dict):
+    """The axisymmetric r-z accuracy mode (:func:`pulsetherm.network.axisym.build_axisym`):
+    one die-stack device, no lines.  Its ``<device>.junction`` probe is the node at the
+    centre of the heated footprint, the hottest point of the source (so the figures are
+    at or above the footprint mean the ladder reports).  No layer budget is given."""
+    from .axisym import build_axisym
+
+    if len(scn.devices) != 1 or scn.lines:
+        raise ScenarioError("model.fidelity", "axisymmetric", "one device and no lines (the "
+                            "axisymmetric mode models one part's stack); use 'ladder'")
+    try:
+        ax = build_axisym(asm, t_min=opts["t_min"], fidelity=opts["fidelity"],
+                          library=opts["library"])
+    except ValueError as exc:
+        raise ScenarioError("model.fidelity", "axisymmetric",
+                            " ".join(str(exc).split())) from None
+    d = scn.devices[0]
+    probes = {f"{d.name}.junction": ax.centre}
+    limits = {} if d.limit is None else {f"{d.name}.junction": d.limit.degC}
+    return None, ax.network, ax.ambient, probes, limits
 
 
 def _stack_probes(built) -> tuple[dict[str, str], dict[str, float]]:

@@ -195,3 +195,36 @@ def test_missing_file_and_bad_options(tmp_path, capsys):
     assert "--margin" in capsys.readouterr().err
     assert main(["sweep", str(f), "--vary", "devices[0].limt=1,2"]) == 2
     assert "limt" in capsys.readouterr().err
+
+
+def test_axisymmetric_fidelity_runs_one_die_stack(tmp_path, capsys):
+    """The axisymmetric mode's junction probe is the footprint centre, which is at least as
+    hot as the footprint mean of the ladder (isoflux source: the centre is the hottest
+    point; common practice, no source), and within a factor 1.5 of it here."""
+    text = """name = "bare die"
+coolant = "25 degC"
+[model]
+fidelity = "axisymmetric"
+[mount.sink]
+kind = "fixed"
+[[devices]]
+name = "die"
+power = "3 W"
+footprint = ["1 mm", "1 mm"]
+[[devices.stack]]
+material = "silicon"
+thickness = "0.5 mm"
+size = ["5 mm", "5 mm"]
+"""
+    f, g = tmp_path / "ax.toml", tmp_path / "lad.toml"
+    f.write_text(text)
+    g.write_text(text.replace('"axisymmetric"', '"ladder"'))
+    assert main(["run", str(f), "--json"]) == 0
+    ax = json.loads(capsys.readouterr().out)["probes"]["die.junction"]["mean_C"] - 25
+    assert main(["run", str(g), "--json"]) == 0
+    lad = json.loads(capsys.readouterr().out)["probes"]["die.junction"]["mean_C"] - 25
+    assert lad <= ax <= 1.5 * lad
+    h = tmp_path / "two.toml"
+    h.write_text(text + text[text.index("[[devices]]"):].replace('name = "die"', 'name = "d2"'))
+    assert main(["run", str(h)]) == 2
+    assert "model.fidelity" in capsys.readouterr().err
