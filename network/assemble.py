@@ -21,6 +21,7 @@ AIAA J. 3(2), 1965: static condensation of massless degrees of freedom.)
 """
 from __future__ import annotations
 
+import weakref
 from dataclasses import dataclass
 from functools import cached_property
 
@@ -148,18 +149,33 @@ def _check_massless(system: ThermalSystem) -> None:
                 "or give one of them a capacity > 0")
 
 
+#: Per-system derived data (floating groups, LU of G), dropped with the system.
+_CACHE: "weakref.WeakKeyDictionary[ThermalSystem, dict]" = weakref.WeakKeyDictionary()
+
+
+def _cached(system: ThermalSystem) -> dict:
+    try:
+        return _CACHE[system]
+    except KeyError:
+        d = _CACHE[system] = {}
+        return d
+
+
 def floating_nodes(system: ThermalSystem) -> list[list[str]]:
     """Groups of free nodes with no conduction path to any boundary (names).
 
     Such a part is adiabatic: under power it heats without bound (linear rise), so it has
     no steady or periodic steady state; a transient from a given state is still defined.
     """
-    to_boundary = np.asarray(system.Gb.sum(axis=1)).ravel() > 0
-    out = []
-    for group in _components(system, np.ones(system.n, dtype=bool)):
-        if not to_boundary[group].any():
-            out.append([system.node_names[i] for i in group])
-    return out
+    cache = _cached(system)
+    if "floating" not in cache:
+        to_boundary = np.asarray(system.Gb.sum(axis=1)).ravel() > 0
+        out = []
+        for group in _components(system, np.ones(system.n, dtype=bool)):
+            if not to_boundary[group].any():
+                out.append([system.node_names[i] for i in group])
+        cache["floating"] = out
+    return [list(g) for g in cache["floating"]]
 
 
 def static_field(system: ThermalSystem, power: np.ndarray | None = None,
@@ -197,9 +213,10 @@ def static_field(system: ThermalSystem, power: np.ndarray | None = None,
     out = np.full(n, np.nan)
     idx = np.flatnonzero(ok)
     if idx.size:
-        G = system.G.tocsc()[idx][:, idx]
-        rise = spla.spsolve(G.tocsc(), rhs[idx]) if idx.size > 1 else rhs[idx] / G.toarray()[0]
-        out[idx] = T0 + np.atleast_1d(rise)
+        cache = _cached(system)
+        if "static_lu" not in cache:
+            cache["static_lu"] = spla.splu(system.G.tocsr()[idx][:, idx].tocsc())
+        out[idx] = T0 + cache["static_lu"].solve(rhs[idx])
     return out
 
 
@@ -270,9 +287,12 @@ def condense(system: ThermalSystem) -> Condensed:
     G = system.G.tocsr()
     Gb = system.Gb.tocsr()
     B = system.B.tocsr()
-    Gcc = G[cap][:, cap].toarray()
-    Fb = Gb[cap].toarray()
-    Bc = B[cap].toarray()
+    if mass.size == 0:
+        Gcc, Fb, Bc = G.toarray(), Gb.toarray(), B.toarray()
+    else:
+        Gcc = G[cap][:, cap].toarray()
+        Fb = Gb[cap].toarray()
+        Bc = B[cap].toarray()
     nm, nb, m = mass.size, system.nb, system.m
     if nm == 0:
         K = np.zeros((0, cap.size))

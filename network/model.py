@@ -439,13 +439,16 @@ class ThermalNetwork:
         res = Response.from_raw(raw, sys_, rows, periodic=True,
                                 method=getattr(solver, "name", str(method)), energy_in=e_in,
                                 span=T, ambient_K=ambient)
-        if hasattr(solver, "warmup_crossing") and rows.size <= 16:
-            res.warmup_s = {}
-            for j, r in enumerate(rows):
-                rise = raw.theta[:, j] - ambient[r]
-                target = warmup_fraction * float(rise.max())
-                res.warmup_s[sys_.node_names[r]] = solver.warmup_crossing(
-                    edges, level, slope, int(r), target, raw.t, rise)
+        if hasattr(solver, "warmup_crossing"):
+            def warmup():
+                out = {}
+                for j, r in enumerate(rows):
+                    rise = raw.theta[:, j] - ambient[r]
+                    target = warmup_fraction * float(rise.max())
+                    out[sys_.node_names[r]] = solver.warmup_crossing(
+                        edges, level, slope, int(r), target, raw.t, rise)
+                return out
+            res.warmup_fn = warmup
         return res
 
     def warmup_time(self, waveforms: Mapping, node: str, fraction: float = 0.99,

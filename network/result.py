@@ -77,7 +77,7 @@ class Response:
         The period (periodic) or the run duration, s.
     warmup_s
         Probe -> time to reach 99 % of the periodic-steady-state peak rise from ambient, s
-        (periodic responses; ``None`` otherwise).
+        (periodic responses; ``None`` otherwise).  Computed on first access.
     energy_error
         Relative energy imbalance (NaN when the solver gave no full-state mean).
     energy
@@ -94,7 +94,7 @@ class Response:
     method: str
     energy_error: float = math.nan
     energy: dict = field(default_factory=dict)
-    warmup_s: dict | None = None
+    warmup_fn: object = field(default=None, repr=False)
     success: bool = True
     message: str = ""
     info: dict = field(default_factory=dict)
@@ -125,6 +125,15 @@ class Response:
                    state_end=raw.state_end - KELVIN_OFFSET)
 
     # -- access -----------------------------------------------------------------------
+    @property
+    def warmup_s(self) -> dict | None:
+        """Probe -> warm-up time, s (periodic responses), computed once on first access."""
+        if self.warmup_fn is None:
+            return None
+        if not hasattr(self, "_warmup"):
+            self._warmup = dict(self.warmup_fn())
+        return self._warmup
+
     def _col(self, name: str) -> int:
         try:
             return self.probes.index(name)

@@ -115,7 +115,7 @@ def zth_curve(solver, row: int, col: int, t=None, node: str = "", input: str = "
     tau = 1.0 / lam
     if t is None:
         big = np.abs(r) >= 1e-9 * np.abs(r).sum() if np.abs(r).sum() > 0 else np.ones_like(r, bool)
-        t_end = 10.0 * float(tau[big].max()) if big.any() else 1.0
+        t_end = 20.0 * float(tau[big].max()) if big.any() else 1.0
         t_end = max(t_end, 100 * t_min)
         n = int(np.ceil(np.log10(t_end / t_min) * per_decade)) + 1
         t = np.geomspace(t_min, t_end, n)

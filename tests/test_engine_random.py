@@ -120,7 +120,7 @@ def test_random_transient_against_radau(n, seed, hot):
 
 
 @pytest.mark.slow
-@settings(max_examples=12, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=8, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(n=st.integers(2, 60), seed=st.integers(0, 2**31 - 1), hot=st.booleans())
 def test_random_transient_against_radau_large(n, seed, hot):
     check_transient_against_radau(n, seed, hot)
