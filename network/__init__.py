@@ -6,9 +6,14 @@ from .materials import Material, MaterialError, MaterialLibrary, default_library
 from .microstrip import HurayRoughness, Microstrip, MicrostripError
 from .model import NetworkError, ThermalNetwork
 from .result import Response
+from .scenario import Scenario, ScenarioError, dumps, load, loads, save
+from .simulate import RunResult, simulate, thermal_impedance
+from .simulate import build as build_scenario
+from .sizing import SizingError, SizingResult, size
 from .spreading import (SpreadingError, SpreadingResult, calibrate_angle, circular_series,
                         frustum_resistance, lee_1995, rectangular_series)
 from .structure import StructureFunction, structure_function
+from .sweep import SweepResult, plan_sweep, run_sweep, sweep
 from .system import ThermalSystem
 from .units import UnitError, format_quantity, parse_quantity, parse_range
 from .vias import Via, ViaArray, ViaError
@@ -22,5 +27,7 @@ __all__ = [
     "ThermalSystem", "UnitError", "Via", "ViaArray", "ViaError", "ZthCurve",
     "calibrate_angle", "circular_series", "default_library", "fit_foster", "format_quantity",
     "frustum_resistance", "lee_1995", "parse_quantity", "parse_range", "rectangular_series",
-    "structure_function",
+    "structure_function", "Scenario", "ScenarioError", "dumps", "load", "loads", "save",
+    "RunResult", "simulate", "thermal_impedance", "build_scenario", "SizingError",
+    "SizingResult", "size", "SweepResult", "plan_sweep", "run_sweep", "sweep",
 ]

@@ -128,3 +128,13 @@ def test_trace_resampling_keeps_the_peak():
     y = np.where((t >= 0.40e-3) & (t <= 0.4002e-3), 99.0, 1.0)  # one narrow spike
     out = resample_max(t, y, 40)
     assert out.max() == 99.0 and out.size == 40 and np.all(np.isfinite(out))
+
+
+def test_ui_verb_refuses_a_broken_file_before_opening(tmp_path, capsys):
+    from pulsetherm.tui.cli import main
+
+    bad = tmp_path / "bad.toml"
+    bad.write_text('name = "x"\ncoolant = "-400 degC"\n')
+    assert main(["ui", str(bad)]) == 2
+    err = capsys.readouterr().err
+    assert "coolant" in err and "Traceback" not in err

@@ -125,6 +125,9 @@ def build_parser() -> argparse.ArgumentParser:
 
     m = sub.add_parser("materials", help="list the material library or show one material")
     m.add_argument("name", nargs="?", help="material to show")
+
+    u = sub.add_parser("ui", help="open a scenario in the terminal app (what-if, trace, budget)")
+    u.add_argument("file", help="scenario TOML file")
     return p
 
 
@@ -327,8 +330,17 @@ def _cmd_size(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
+def _cmd_ui(args: argparse.Namespace) -> int:
+    from pulsetherm.network.scenario import load
+    from pulsetherm.tui.app import run_app
+
+    load(args.file)  # a broken file is reported here (exit 2), before the screen opens
+    return run_app(args.file)
+
+
 _HANDLERS = {
     "run": _cmd_run,
+    "ui": _cmd_ui,
     "zth": _cmd_zth,
     "sweep": _cmd_sweep,
     "size": _cmd_size,
