@@ -1,0 +1,73 @@
+"""Monotonicity of the built networks (property tests, few examples): raising any k,
+adding vias or thinning an interface never raises a part's junction temperature under its
+own power (the driving-point resistance of a conduction network falls when any
+conductance rises: Rayleigh's monotonicity law, Doyle & Snell, *Random Walks and Electric
+Networks*, 1984, ch. 1.4).
+
+Other node temperatures may rise, and rightly: better board copper carries more heat from
+a hot part to its neighbour (a transfer temperature), so the test checks driving points."""
+from __future__ import annotations
+
+from hypothesis import given, settings, strategies as st
+
+from pulsetherm.network.builder import build
+from pulsetherm.network.materials import Material
+from pulsetherm.network.stackup import (AreaResistance, Assembly, Board, Layer, LumpedSink,
+                                        Mount, Part)
+
+
+def _mat(name: str, k: float) -> Material:
+    # diffusivity held at 1e-4 m²/s so the graded sub-layers (and node names) stay the
+    # same when k changes; the heat capacity does not enter a steady state
+    return Material(name=name, k=k, rho=3000.0, c=k / (3000.0 * 1e-4))
+
+
+def _assembly(ks, tim, vias, spread):
+    die = Part("a", (0.6e-3, 0.4e-3), [Layer(_mat("die", ks[0]), 100e-6, size=2e-3),
+                                       Layer(_mat("attach", ks[1]), 25e-6, size=2e-3),
+                                       Layer(_mat("flange", ks[2]), 1e-3, size=8e-3)],
+               position=(0.0, 0.0))
+    drv = Part("b", 2e-3, [Layer(_mat("solder", ks[1]), 50e-6)], rth=2.0,
+               position=(12e-3, 0.0))
+    board = Board([Layer(_mat("cu", ks[3]), 35e-6, name="top"),
+                   Layer(_mat("lam", ks[4]), 0.5e-3, name="lam", vias=vias),
+                   Layer(_mat("cu2", ks[3]), 35e-6, name="gnd")], size=(0.04, 0.03))
+    mount = Mount([Layer(_mat("tim", 3.0), tim, name="tim"), AreaResistance(1e-5, "contact")],
+                  LumpedSink(0.5, 20.0))
+    return Assembly([die, drv], board, mount)
+
+
+def _rises(asm, spread):
+    """Junction rise of each part with only that part powered, K/W."""
+    m = build(asm, spreading=spread, t_min=1e-5, fidelity="coarse")
+    return {p: m.steady_resistance(p) for p in ("a", "b")}
+
+
+def _le(x, y):
+    return all(x[p] <= y[p] * (1 + 1e-9) for p in x)
+
+
+ks = st.tuples(st.floats(100, 400), st.floats(30, 80), st.floats(100, 400),
+               st.floats(300, 400), st.floats(0.2, 1.5))
+
+
+@settings(max_examples=6, deadline=None)
+@given(ks=ks, which=st.integers(0, 4), factor=st.floats(1.05, 4.0),
+       tim=st.floats(20e-6, 100e-6), spread=st.sampled_from(["angle", "none"]))
+def test_raising_k_never_raises_a_junction(ks, which, factor, tim, spread):
+    r0 = _rises(_assembly(ks, tim, None, spread), spread)
+    ks2 = list(ks)
+    ks2[which] *= factor
+    r1 = _rises(_assembly(tuple(ks2), tim, None, spread), spread)
+    assert _le(r1, r0)
+
+
+@settings(max_examples=4, deadline=None)
+@given(ks=ks, kv=st.floats(2.0, 40.0), tim=st.floats(20e-6, 100e-6), thin=st.floats(0.2, 0.9),
+       spread=st.sampled_from(["angle", "none"]))
+def test_vias_and_thinner_interface_never_raise_a_junction(ks, kv, tim, thin, spread):
+    r0 = _rises(_assembly(ks, tim, None, spread), spread)
+    r1 = _rises(_assembly(ks, tim, max(kv, ks[4] * 1.01), spread), spread)
+    r2 = _rises(_assembly(ks, tim * thin, None, spread), spread)
+    assert _le(r1, r0)
+    assert _le(r2, r0)
