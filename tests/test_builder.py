@@ -311,3 +311,17 @@ def test_report_shares_sum_to_one_and_find_the_bottleneck():
 def test_bad_input_names_the_field(make, field):
     with pytest.raises(StackupError, match=field):
         make()
+
+
+def test_via_array_from_vias_module_sets_k_z_under_the_footprint():
+    """0.30 mm drill, 25 µm plating, square pitch 0.6 mm in a 0.3 W/(m·K) laminate:
+    k_z,eff 23.6 W/(m·K) (physics brief §7, common practice [deriv]).  In a 1-D column
+    whose via field covers the footprint the laminate resistance is t/(k_z·A)."""
+    from pulsetherm.network.vias import Via, ViaArray
+    arr = ViaArray(Via(0.30e-3, 25e-6), pitch=0.6e-3, laminate=0.3)
+    assert arr.k_z == pytest.approx(23.6, rel=0.01)
+    lam = Material(name="lam-03", k=0.3, rho=1850.0, c=1150.0)
+    mk = lambda v: build(Assembly([Part("d", 4e-3, [Layer(lam, 0.8e-3, vias=v)])]),  # noqa: E731
+                         spreading="none").steady_resistance("d")
+    assert mk(arr) == pytest.approx(0.8e-3 / (arr.k_z * 16e-6), rel=1e-9)
+    assert mk(None) == pytest.approx(0.8e-3 / (0.3 * 16e-6), rel=1e-9)
