@@ -1,10 +1,13 @@
 """pulsetherm.network: the thermal RC network model, its exact solvers, thermal impedance,
 Foster/Cauer networks, stack-up builder, RF line heating, scenarios, sweeps and sizing."""
+from .axisym import AxisymModel, Comparison, build_axisym, compare
+from .builder import FIDELITY, BuiltModel, Grading, build
 from .foster import Cauer, Foster, FosterError, FosterFit, fit_foster
 from .lines import BuiltLine, LineError, LineReport, PointHeater, RFLine
 from .materials import Material, MaterialError, MaterialLibrary, default_library
 from .microstrip import HurayRoughness, Microstrip, MicrostripError
 from .model import NetworkError, ThermalNetwork
+from .report import StackReport, stack_report
 from .result import Response
 from .scenario import Scenario, ScenarioError, dumps, load, loads, save
 from .simulate import RunResult, simulate, thermal_impedance
@@ -12,6 +15,8 @@ from .simulate import build as build_scenario
 from .sizing import SizingError, SizingResult, size
 from .spreading import (SpreadingError, SpreadingResult, calibrate_angle, circular_series,
                         frustum_resistance, lee_1995, rectangular_series)
+from .stackup import (AreaResistance, Assembly, Board, Film, FixedBase, Layer, LumpedSink,
+                      Mount, Part, StackupError)
 from .structure import StructureFunction, structure_function
 from .sweep import SweepResult, plan_sweep, run_sweep, sweep
 from .system import ThermalSystem
@@ -30,4 +35,7 @@ __all__ = [
     "structure_function", "Scenario", "ScenarioError", "dumps", "load", "loads", "save",
     "RunResult", "simulate", "thermal_impedance", "build_scenario", "SizingError",
     "SizingResult", "size", "SweepResult", "plan_sweep", "run_sweep", "sweep",
+    "AreaResistance", "Assembly", "Board", "Film", "FixedBase", "Layer", "LumpedSink", "Mount",
+    "Part", "StackupError", "FIDELITY", "BuiltModel", "Grading", "build", "AxisymModel",
+    "Comparison", "build_axisym", "compare", "StackReport", "stack_report",
 ]
