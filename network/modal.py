@@ -182,6 +182,36 @@ class ModalSolver:
         return np.exp(-lam * h) * q0 + _psi(0, lam, h) * Wa + _psi(1, lam, h) * Wb
 
     # -- blocked scan over segments ----------------------------------------------------
+    def _seg_funcs(self, h: np.ndarray, need_p2: bool = True):
+        """Per-segment e^{−λh}, ψ₀, ψ₁ (and ψ₂) as a function of segment indices.
+
+        Pulse trains and bursts have few distinct widths: they are computed once per
+        distinct width (widths equal to 1e-12 relative, the precision of the edges
+        themselves, share one entry) and gathered; otherwise computed per segment."""
+        lam = self.lam[:, None]
+        h = np.asarray(h, dtype=np.float64)
+        order = np.argsort(h, kind="stable")
+        hs = h[order]
+        new = np.ones(h.size, dtype=bool)
+        new[1:] = np.diff(hs) > 1e-12 * hs[1:]
+        nu = int(new.sum())
+        if nu <= max(64, h.size // 4):
+            inv = np.empty(h.size, dtype=np.int64)
+            inv[order] = np.cumsum(new) - 1
+            hu = hs[new][None, :]
+            tab = [np.exp(-lam * hu), _psi(0, lam, hu), _psi(1, lam, hu)]
+            if need_p2:
+                tab.append(_psi(2, lam, hu))
+            return lambda sel: tuple(t[:, inv[sel]] for t in tab)
+
+        def direct(sel):
+            hh = h[sel][None, :]
+            out = [np.exp(-lam * hh), _psi(0, lam, hh), _psi(1, lam, hh)]
+            if need_p2:
+                out.append(_psi(2, lam, hh))
+            return tuple(out)
+        return direct
+
     def _scan(self, q0: np.ndarray, edges: np.ndarray, level: np.ndarray, slope: np.ndarray,
               Pp: np.ndarray, Dp: np.ndarray, store: bool):
         """Sweep the segments from ``q0``; exact, vectorised as √N blocks of √N segments.
@@ -202,16 +232,16 @@ class ModalSolver:
         hp = np.concatenate([h, np.zeros(pad)]).reshape(nblk, Bk)
         lp = np.concatenate([level, np.zeros((pad, level.shape[1]))]).reshape(nblk, Bk, -1)
         sp_ = np.concatenate([slope, np.zeros((pad, slope.shape[1]))]).reshape(nblk, Bk, -1)
-        lam = self.lam[:, None]
+        funcs = self._seg_funcs(hp.ravel())
+        seg = np.arange(nblk * Bk).reshape(nblk, Bk)
         # pass 1: per-block decay and forced increment
         dec = np.ones((nm, nblk))
         inc = np.zeros((nm, nblk))
         for j in range(Bk):
-            hj = hp[:, j][None, :]
             Wa, Wb = self._forcing(lp[:, j, :], sp_[:, j, :])
-            d = np.exp(-lam * hj)
+            d, p0, p1, _ = funcs(seg[:, j])
             dec *= d
-            inc = d * inc + _psi(0, lam, hj) * Wa + _psi(1, lam, hj) * Wb
+            inc = d * inc + p0 * Wa + p1 * Wb
         # pass 2: block-start states, sequential over blocks
         Qs = np.empty((nm, nblk))
         q = q0.astype(np.float64).copy()
@@ -225,16 +255,14 @@ class ModalSolver:
         starts = np.empty((nm, N)) if store else Qs
         Q = Qs.copy()
         for j in range(Bk):
-            hj = hp[:, j][None, :]
             if store:
-                cols = np.arange(nblk) * Bk + j
+                cols = seg[:, j]
                 ok = cols < N
                 starts[:, cols[ok]] = Q[:, ok]
             Wa, Wb = self._forcing(lp[:, j, :], sp_[:, j, :])
-            p0 = _psi(0, lam, hj)
-            p1 = _psi(1, lam, hj)
-            integral += np.sum(p0 * Q + p1 * Wa + _psi(2, lam, hj) * Wb, axis=1)
-            Q = np.exp(-lam * hj) * Q + p0 * Wa + p1 * Wb
+            d, p0, p1, p2 = funcs(seg[:, j])
+            integral += np.sum(p0 * Q + p1 * Wa + p2 * Wb, axis=1)
+            Q = d * Q + p0 * Wa + p1 * Wb
             pw = lp[:, j, :] + sp_[:, j, :] * hp[:, j][:, None]
             ends[:, j, :] = (Pp @ Q).T + pw @ Dp.T
         ends = ends.reshape(nblk * Bk, -1)[:N]
@@ -390,19 +418,29 @@ class ModalSolver:
 
     # -- periodic steady state --------------------------------------------------------
     def _period_increment(self, edges, level, slope) -> np.ndarray:
-        """r = Σ_k e^{−λ(T − t_{k+1})} ρ_k: the end-of-period state from a zero start,
-        vectorised over modes in chunks of segments."""
-        T = edges[-1]
-        lam = self.lam[:, None]
-        r = np.zeros(self.lam.size)
+        """r = Σ_k e^{−λ(T − t_{k+1})} ρ_k: the end-of-period state from a zero start (ρ_k
+        the forced increment of segment k), folded block by block as in :meth:`_scan`."""
         N = edges.size - 1
-        chunk = max(1, int(2_000_000 // max(self.lam.size, 1)))
-        for a in range(0, N, chunk):
-            b = min(N, a + chunk)
-            h = (edges[a + 1:b + 1] - edges[a:b])[None, :]
-            Wa, Wb = self._forcing(level[a:b], slope[a:b])
-            rho = _psi(0, lam, h) * Wa + _psi(1, lam, h) * Wb
-            r += np.sum(np.exp(-lam * (T - edges[a + 1:b + 1])[None, :]) * rho, axis=1)
+        h = np.diff(edges)
+        nm = self.lam.size
+        Bk = max(1, int(math.ceil(math.sqrt(N))))
+        nblk = int(math.ceil(N / Bk))
+        pad = nblk * Bk - N
+        hp = np.concatenate([h, np.zeros(pad)])
+        lp = np.concatenate([level, np.zeros((pad, level.shape[1]))]).reshape(nblk, Bk, -1)
+        sp_ = np.concatenate([slope, np.zeros((pad, slope.shape[1]))]).reshape(nblk, Bk, -1)
+        funcs = self._seg_funcs(hp, need_p2=False)
+        seg = np.arange(nblk * Bk).reshape(nblk, Bk)
+        dec = np.ones((nm, nblk))
+        inc = np.zeros((nm, nblk))
+        for j in range(Bk):
+            Wa, Wb = self._forcing(lp[:, j, :], sp_[:, j, :])
+            d, p0, p1 = funcs(seg[:, j])
+            dec *= d
+            inc = d * inc + p0 * Wa + p1 * Wb
+        r = np.zeros(nm)
+        for b in range(nblk):
+            r = dec[:, b] * r + inc[:, b]
         return r
 
     def periodic_start(self, edges, level, slope) -> np.ndarray:

@@ -79,7 +79,8 @@ class Response:
         Probe -> time to reach 99 % of the periodic-steady-state peak rise from ambient, s
         (periodic responses; ``None`` otherwise).  Computed on first access.
     energy_error
-        Relative energy imbalance (NaN when the solver gave no full-state mean).
+        Relative energy imbalance (NaN when the solver gave no full-state mean, or for a
+        nonlinear system whose solver does not balance the energy itself).
     energy
         Its terms, J.
     """
@@ -108,7 +109,12 @@ class Response:
                  ambient_K: np.ndarray | None = None) -> "Response":
         info = dict(raw.info)
         mean_full = info.pop("mean_full", None)
-        if mean_full is not None:
+        if "energy_error" in info:
+            # the solver balanced the energy itself (e.g. with temperature-dependent k)
+            err = float(info.pop("energy_error"))
+            terms = {"input_J": energy_in, **info.pop("energy_J", {})}
+        elif mean_full is not None and system.is_linear:
+            # linear conductances: heat to the boundaries from the exact mean temperatures
             end = raw.state_start if periodic else raw.state_end
             err, terms = energy_balance(system, energy_in, span, raw.state_start, end,
                                         np.asarray(mean_full))

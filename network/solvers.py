@@ -50,7 +50,10 @@ class RawResponse:
     info
         Work counters and messages, e.g. ``{"modes": 120, "method": "modal"}``.  Optional
         keys read by the result object: ``"mean_full"`` (n,) K, the exact time-average of
-        every free node (used for the energy balance), ``"success"`` (bool), ``"message"``.
+        every free node (used for the energy balance of linear systems), ``"energy_error"``
+        (relative; a solver of a nonlinear system computes its own balance, else NaN is
+        reported) with ``"energy_J"`` (dict of its terms), ``"success"`` (bool),
+        ``"message"``.
     """
 
     t: np.ndarray
