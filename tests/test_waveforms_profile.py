@@ -62,3 +62,13 @@ def test_profile_errors():
         Profile([(1.0, 2.0), 5])
     with pytest.raises(WaveformError, match=r"Profile\.after = 1\.0 W: only a single-shot"):
         Profile([(1.0, 2.0)], after=1.0)
+
+
+def test_pulses_below_time_resolution_are_refused():
+    """A 10 ps pulse after 11 s of standby is below the 1e-12 relative time resolution: an
+    error, not a silent loss of energy."""
+    tr = PulseTrain(peak=1.0, width=1e-11, period=1e-7)
+    with pytest.raises(WaveformError, match=r"below the time resolution .*change the energy"):
+        Profile([Stretch(11.0, 0.0), Stretch(7.5e-7, tr)]).compile()
+    with pytest.raises(WaveformError, match=r"pulse width 1e-13 s is below the time resolution"):
+        PulseTrain(peak=1.0, width=1e-13, period=1.0).compile()

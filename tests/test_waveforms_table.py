@@ -103,6 +103,7 @@ def test_linear_jump_pairs():
     ("time_s,power_W,x_W\n0,1,2\n", r"header has 3 columns"),
     ("# only a comment\n", r"no header row"),
     ("time_s,power_W\n0,1\n", r"1 row\(s\): expected at least two rows"),
+    ("time_s,power_W\n# no data\n", r"0 row\(s\): expected at least two rows"),
 ])
 def test_csv_errors(text, pattern):
     with pytest.raises(WaveformError, match=pattern):

@@ -21,7 +21,7 @@ from numbers import Real
 
 import numpy as np
 
-from .base import WaveformBase, check_time, merge_segments
+from .base import WaveformBase, check_time, from_ends, merge_segments
 from .canonical import TIME_RTOL, Piecewise, WaveformError, align, as_piecewise
 
 __all__ = ["Sum", "Scaled", "Delayed", "rotate"]
@@ -40,6 +40,32 @@ def _single_shot(p: Piecewise) -> Piecewise:
     if p.periodic and p.is_constant:
         return Piecewise([0.0, p.span], p.level[:1], periodic=False, after=float(p.level[0]))
     return p
+
+
+def _ends(pieces: list[Piecewise], edges: np.ndarray) -> np.ndarray:
+    """Sum of the pieces' powers just before each common edge ``edges[1:]``.
+
+    Where a common edge is a piece's own segment end (within the time resolution) the
+    piece's stated end power is used, so ramps tiled to late times still end exactly where
+    they should (no rounding overshoot below idle or above peak).
+    """
+    period = float(edges[-1])
+    tol = TIME_RTOL * period
+    stops = edges[1:]
+    mids = 0.5 * (edges[:-1] + edges[1:])
+    total = np.zeros(stops.size)
+    for p in pieces:
+        if p.is_constant:
+            total += p.level[0]
+            continue
+        span = p.span
+        local = np.mod(mids, span)
+        k = np.clip(np.searchsorted(p.edges, local, side="right") - 1, 0, p.n_segments - 1)
+        seg_end = p.edges[k + 1] + (mids - local)  # absolute end of that piece segment
+        at_end = np.abs(stops - seg_end) <= tol
+        t_in = stops - (p.edges[k] + (mids - local))
+        total += np.where(at_end, p.end_level[k], p.level[k] + p.slope[k] * t_in)
+    return total
 
 
 @dataclass(frozen=True)
@@ -89,7 +115,8 @@ class Sum(WaveformBase):
                 periods = [p.span for p in pieces if not p.is_constant]
                 raise WaveformError(f"Sum: cannot add waveforms with periods {periods} s: "
                                     f"{err}") from None
-            return merge_segments(Piecewise(edges, level.sum(axis=1), slope.sum(axis=1), True))
+            end = _ends(pieces, edges)
+            return merge_segments(from_ends(edges, level.sum(axis=1), end, True))
         varying = [i for i, p in enumerate(pieces) if p.periodic and not p.is_constant]
         if varying:
             i = varying[0]

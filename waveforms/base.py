@@ -18,9 +18,10 @@ from numbers import Real
 
 import numpy as np
 
-from .canonical import Piecewise, WaveformError
+from .canonical import TIME_RTOL, Piecewise, WaveformError
 
-__all__ = ["WaveformBase", "merge_segments", "check_power", "check_time", "check_fraction"]
+__all__ = ["WaveformBase", "merge_segments", "from_ends", "check_power", "check_time",
+           "check_fraction"]
 
 
 def _number(field: str, value, unit: str) -> float:
@@ -73,6 +74,56 @@ def merge_segments(pw: Piecewise) -> Piecewise:
     keep = np.concatenate([[True], ~same])
     edges = pw.edges[np.concatenate([keep, [True]])]
     return Piecewise(edges, pw.level[keep], pw.slope[keep], pw.periodic, pw.after)
+
+
+def from_ends(edges: np.ndarray, level: np.ndarray, end: np.ndarray, periodic: bool = True,
+              after: float = 0.0) -> Piecewise:
+    """A canonical form from absolute edges and each segment's start and end power.
+
+    Used when pieces are laid end to end at large absolute times: the slopes are recomputed
+    from the actual (rounded) edge spacing, so every segment still ends at its stated power
+    (to rounding), and segments no longer than the time resolution ``TIME_RTOL * span``
+    are absorbed, split at their midpoint between their neighbours.  Steps
+    (``end == level``) keep slope 0 exactly.  Raises :class:`WaveformError` when that
+    would change the energy noticeably (a whole pulse below the resolution).
+
+    Parameters
+    ----------
+    edges
+        (n+1,) s, non-decreasing, ``edges[0] == 0``.
+    level, end
+        (n,) W, power just after the start and just before the end of each segment.
+    """
+    edges = np.asarray(edges, dtype=np.float64)
+    level = np.asarray(level, dtype=np.float64)
+    end = np.asarray(end, dtype=np.float64)
+    w = np.diff(edges)
+    keep = w > TIME_RTOL * edges[-1]
+    e = edges
+    if not keep.all():
+        if not keep.any():
+            keep[int(np.argmax(w))] = True
+        e_before = float(np.sum(0.5 * (level + end) * w))
+        # a dropped sliver is split at its midpoint between its neighbours (a sliver of
+        # ramp becomes a step there, which keeps its energy)
+        back = np.concatenate([[0.0], np.where(keep[:-1], 0.0, 0.5 * w[:-1])])
+        e = np.append((edges[:-1] - back)[keep], edges[-1])
+        e[0] = 0.0
+        level, end = level[keep], end[keep]
+        e_after = float(np.sum(0.5 * (level + end) * np.diff(e)))
+        scale = max(abs(e_before), float(np.abs(level).max(initial=0.0)) * edges[-1] * 1e-6,
+                    1e-300)
+        if abs(e_after - e_before) > 1e-9 * scale:
+            i = int(np.flatnonzero(~keep)[0])
+            raise WaveformError(
+                f"segment at t = {float(edges[i])!r} s lasting {float(w[i])!r} s is below the "
+                f"time resolution {TIME_RTOL * float(edges[-1])!r} s of a "
+                f"{float(edges[-1])!r} s pattern (relative {TIME_RTOL}); dropping it would "
+                "change the energy.  Expected a shorter pattern or longer pulses")
+    slope = np.zeros(level.size)
+    ramp = end != level
+    slope[ramp] = (end[ramp] - level[ramp]) / np.diff(e)[ramp]
+    return Piecewise(e, level, slope, periodic, after)
 
 
 class _Figure:

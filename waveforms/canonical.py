@@ -315,12 +315,15 @@ def align(pieces: list[Piecewise], duration: float | None = None):
     edges[-1] = period
     edges[0] = 0.0
     starts = edges[:-1]
+    # Each merged segment takes its piece's segment at the midpoint: when edges closer than
+    # the resolution were merged, the piece segment that covers most of the merged segment
+    # (not a sub-resolution sliver, whose slope could be huge) sets level and slope.
+    mids = 0.5 * (edges[:-1] + edges[1:])
     n, m = starts.size, len(tiled)
     level = np.empty((n, m))
     slope = np.empty((n, m))
     for j, p in enumerate(tiled):
-        k = np.clip(np.searchsorted(p.edges, starts * (1 + TIME_RTOL) + TIME_RTOL * period * 1e-3,
-                                    side="right") - 1, 0, p.n_segments - 1)
+        k = np.clip(np.searchsorted(p.edges, mids, side="right") - 1, 0, p.n_segments - 1)
         slope[:, j] = p.slope[k]
         level[:, j] = p.level[k] + p.slope[k] * (starts - p.edges[k])
     return edges, level, slope

@@ -14,8 +14,8 @@ from numbers import Real
 
 import numpy as np
 
-from .base import WaveformBase, check_power, check_time
-from .canonical import Piecewise, WaveformError, as_piecewise
+from .base import WaveformBase, check_power, check_time, from_ends
+from .canonical import TIME_RTOL, Piecewise, WaveformError, as_piecewise
 
 __all__ = ["Stretch", "Profile"]
 
@@ -50,16 +50,49 @@ class Stretch:
         if not isinstance(self.label, str):
             raise WaveformError(f"Stretch.label = {self.label!r}: expected text")
 
-    def piece(self) -> Piecewise:
-        """This stretch alone as a single shot over [0, duration]."""
+    def segments(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
+        """This stretch over [0, duration]: (edges, start power, end power, power after).
+
+        A periodic source is tiled from its own t = 0 and cut at ``duration`` (inside a
+        segment if need be: the cut segment ends at its value there); a single shot holds
+        its ``after`` power once it is over.
+        """
         p = as_piecewise(self.power, "Stretch.power")
         if p.minimum < 0:
             raise WaveformError(f"Stretch.power: minimum power {p.minimum!r} W; expected "
                                 "powers >= 0 W")
+        d = self.duration
         if p.is_constant:
-            return Piecewise([0.0, self.duration], p.level[:1], periodic=False,
-                             after=float(p.level[0]))
-        return p.window(self.duration)
+            lv = p.level[:1]
+            return np.array([0.0, d]), lv, lv, float(lv[0])
+        span, n = p.span, p.n_segments
+        if p.periodic:
+            reps = max(1, math.ceil(d / span * (1 - TIME_RTOL)))
+            starts = np.tile(p.edges[:-1], reps) + np.repeat(np.arange(reps) * span, n)
+            level = np.tile(p.level, reps)
+            end = np.tile(p.end_level, reps)
+            slope = np.tile(p.slope, reps)
+            natural = np.append(starts[1:], reps * span)
+            after = float(p.level[0])
+        else:
+            starts, level, end, slope = p.edges[:-1], p.level, p.end_level, p.slope
+            natural = p.edges[1:]
+            after = p.after
+            if d > span * (1 + TIME_RTOL):  # the source is over: hold its 'after' power
+                starts = np.append(starts, span)
+                level, end = np.append(level, after), np.append(end, after)
+                slope = np.append(slope, 0.0)
+                natural = np.append(natural, d)
+        k = max(int(np.searchsorted(starts, d * (1 - TIME_RTOL), side="left")), 1)
+        starts, level, end = starts[:k], level[:k], end[:k].copy()
+        if d < natural[k - 1] * (1 - TIME_RTOL):  # cut inside the last segment
+            end[-1] = level[-1] + slope[k - 1] * (d - starts[-1])
+        return np.append(starts, d), level, end, after
+
+    def piece(self) -> Piecewise:
+        """This stretch alone as a single shot over [0, duration]."""
+        edges, level, end, after = self.segments()
+        return from_ends(edges, level, end, periodic=False, after=after)
 
     @property
     def energy(self) -> float:
@@ -126,15 +159,14 @@ class Profile(WaveformBase):
         return np.concatenate([[0.0], np.cumsum(d)[:-1]])
 
     def _build(self) -> Piecewise:
-        pieces = [s.piece() for s in self.stretches]
+        parts = [s.segments() for s in self.stretches]
         offsets = self.starts
         total = math.fsum(s.duration for s in self.stretches)
-        edges = np.concatenate([p.edges[:-1] + off for p, off in zip(pieces, offsets)]
+        edges = np.concatenate([e[:-1] + off for (e, _, _, _), off in zip(parts, offsets)]
                                + [[total]])
-        level = np.concatenate([p.level for p in pieces])
-        slope = np.concatenate([p.slope for p in pieces])
-        return Piecewise(edges, level, slope, self.periodic,
-                         0.0 if self.periodic else self.after)
+        level = np.concatenate([lv for _, lv, _, _ in parts])
+        end = np.concatenate([en for _, _, en, _ in parts])
+        return from_ends(edges, level, end, self.periodic, 0.0 if self.periodic else self.after)
 
     def stretch_energies(self) -> np.ndarray:
         """Energy of each stretch, J (their sum is ``energy``)."""

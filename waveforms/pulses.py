@@ -76,8 +76,22 @@ def pulse_segments(starts: np.ndarray, ends: np.ndarray, widths: np.ndarray, *, 
     up = (peak - idle) / rise if rise > 0 else 0.0
     down = (idle - peak) / fall if fall > 0 else 0.0
     slope = np.broadcast_to(np.array([up, 0.0, down, 0.0]), (n, 4))
-    # segments shorter than the time resolution are dropped (their neighbours absorb them)
-    keep = lengths > TIME_RTOL * span
+    # Segments shorter than the time resolution are dropped (their neighbours absorb them).
+    # A dropped ramp becomes a step at its midpoint, which keeps the pulse energy exact.
+    tol = TIME_RTOL * span
+    if np.any(widths <= tol):
+        i = int(np.flatnonzero(widths <= tol)[0])
+        raise WaveformError(
+            f"pulse width {float(widths[i])!r} s is below the time resolution {tol!r} s of a "
+            f"{span!r} s period (relative {TIME_RTOL}); expected a wider pulse or a "
+            "shorter period")
+    keep = lengths > tol
+    if 0 < rise <= tol:
+        offs[:, 1] -= 0.5 * rise
+        seg_start[:, 1] -= 0.5 * rise
+    if 0 < fall <= tol:
+        offs[:, 3] -= 0.5 * fall
+        seg_start[:, 3] -= 0.5 * fall
     edges = np.append(seg_start[keep], span)
     edges[0] = 0.0
     level = level[keep]

@@ -251,6 +251,8 @@ class Table(WaveformBase):
             raise WaveformError(f"interp = {interp!r}: expected 'step' or 'linear'")
         end = pw.end_level
         scale = max(float(np.abs(lv).max()), float(np.abs(end).max()), 1e-300)
+        # a ramp down to 0 W may end a rounding error below zero: that is 0 W
+        end = np.where((end < 0) & (end >= -1e-12 * scale), 0.0, end)
         # rows: start of every segment, plus the end value where the next segment jumps
         jump = np.abs(end[:-1] - lv[1:]) > 1e-12 * scale
         n = lv.size
@@ -302,9 +304,10 @@ class Table(WaveformBase):
     def _parse(cls, text: str, interp, periodic, period) -> "Table":
         directive: dict[str, str] = {}
         header = None
-        rows: list[tuple[int, list[str]]] = []
         sep = ","
-        for lineno, raw in enumerate(text.splitlines(), start=1):
+        lines = text.splitlines()
+        first = len(lines)
+        for lineno, raw in enumerate(lines, start=1):
             line = raw.strip().lstrip("\ufeff")
             if not line:
                 continue
@@ -316,11 +319,10 @@ class Table(WaveformBase):
                             key, _, val = item.partition("=")
                             directive[key.strip().lower()] = val.strip()
                 continue
-            if header is None:
-                sep = next((s for s in (",", ";", "\t") if s in line), ",")
-                header = (lineno, [c.strip() for c in line.split(sep)])
-                continue
-            rows.append((lineno, [c.strip() for c in line.split(sep)]))
+            sep = next((c for c in (",", ";", "\t") if c in line), ",")
+            header = (lineno, [c.strip() for c in line.split(sep)])
+            first = lineno  # data start after the header line (0-based index = lineno)
+            break
         if header is None:
             raise WaveformError("CSV: no header row; expected a units header such as "
                                 "'time_us,power_W' followed by data rows")
@@ -336,27 +338,28 @@ class Table(WaveformBase):
         if punit not in POWER_UNITS:
             raise WaveformError(f"header column 2 = {cells[1]!r}: power unit {punit!r} not "
                                 f"recognised; expected one of {', '.join(POWER_UNITS)}")
-        values = np.empty((len(rows), 2))
-        for r, (lineno, row) in enumerate(rows, start=1):
-            if len(row) != 2:
-                raise WaveformError(f"CSV row {r} (line {lineno}): {len(row)} cells; expected "
-                                    "two (time, power)")
-            for c, cell in enumerate(row):
-                try:
-                    v = float(cell)
-                except ValueError:
-                    v = math.nan
-                    if not cell:
-                        cell = "(empty)"
-                if not math.isfinite(v):
-                    raise WaveformError(f"CSV row {r} (line {lineno}), column {c + 1} "
-                                        f"({cells[c]}): {cell!r}: expected a finite number")
-                values[r - 1, c] = v
-        linenos = [ln for ln, _ in rows]
+        body = lines[first:]
+
+        def data_rows() -> list[tuple[int, list[str]]]:
+            """(file line number, cells) of every data row; comments and blanks skipped."""
+            return [(n, raw.split(sep)) for n, raw in enumerate(body, start=first + 1)
+                    if raw.strip() and not raw.lstrip().startswith("#")]
+
+        try:  # fast path: numpy's C reader; any doubt goes to the cell-by-cell reader
+            if not any(raw.strip() and not raw.lstrip().startswith("#") for raw in body):
+                raise ValueError("no data rows")
+            values = np.loadtxt(io.StringIO("\n".join(body)), delimiter=sep, comments="#",
+                                ndmin=2, dtype=np.float64)
+            ok = values.shape[1] == 2 and bool(np.isfinite(values).all())
+        except ValueError:
+            ok = False
+        if not ok or values.shape[0] == 0:
+            values = cls._parse_slow(data_rows(), cells)
 
         def where(i: int, col: int) -> str:
-            return (f"CSV row {i + 1} (line {linenos[i]}), column {col + 1} ({cells[col]}) "
-                    f"= {rows[i][1][col]!r}")
+            lineno, row = data_rows()[i]
+            return (f"CSV row {i + 1} (line {lineno}), column {col + 1} ({cells[col]}) "
+                    f"= {row[col].strip()!r}")
 
         time = values[:, 0] * TIME_UNITS[tunit]
         power = _to_watts(values[:, 1], punit)
@@ -377,6 +380,28 @@ class Table(WaveformBase):
             raise WaveformError(f"interp = {interp!r}: expected 'step' or 'linear'")
         _check_rows(time, power, interp, where)
         return cls(time, power, interp, periodic, period)
+
+    @staticmethod
+    def _parse_slow(rows: list, cells: list[str]) -> np.ndarray:
+        """Cell by cell, to name the first bad row and column."""
+        values = np.empty((len(rows), 2))
+        for r, (lineno, row) in enumerate(rows, start=1):
+            if len(row) != 2:
+                raise WaveformError(f"CSV row {r} (line {lineno}): {len(row)} cells; expected "
+                                    "two (time, power)")
+            for c, cell in enumerate(row):
+                cell = cell.strip()
+                try:
+                    v = float(cell)
+                except ValueError:
+                    v = math.nan
+                    if not cell:
+                        cell = "(empty)"
+                if not math.isfinite(v):
+                    raise WaveformError(f"CSV row {r} (line {lineno}), column {c + 1} "
+                                        f"({cells[c]}): {cell!r}: expected a finite number")
+                values[r - 1, c] = v
+        return values
 
     def to_csv(self, path_or_buffer=None, time_unit: str = "s",
                power_unit: str = "W") -> str | None:
