@@ -1,0 +1,545 @@
+"""Nonlinear solver: temperature-dependent conductivity and temperature-dependent heat inputs.
+
+Model (absolute kelvin).  Each conductance e between nodes i and j (a free node or a boundary)
+has ``k(T) = k(Tref)·(T/Tref)^−a``.  Within one material the heat flow through the edge is
+exactly (Kirchhoff transform)
+
+    q_e = g_e · (U_e(T_i) − U_e(T_j)),
+    U(T) = ∫_Tref^T (T'/Tref)^−a dT' = Tref/(1 − a)·[(T/Tref)^{1−a} − 1]   (a ≠ 1),
+    U(T) = Tref·ln(T/Tref)                                                 (a = 1),
+
+i.e. the edge conductance between temperatures T1, T2 is ``g·(U(T1) − U(T2))/(T1 − T2)``.
+For a body of one material the transformed field U obeys the linear equations, so a
+uniform-material slab is exact whatever the discretisation (W. B. Joyce, "Thermal resistance
+of heat sinks with temperature-dependent conductivity", Solid-State Electronics 18, 1975).
+
+Heat input k: ``P_k(t)·(1 + c_k·(T̄_k − Tref_k))`` with ``T̄ = Bᵀ T`` (the weighted mean of its
+nodes; the weights of B sum to one), e.g. copper loss of a line.
+
+Balance: ``C dT/dt = −Dᵀ(g ⊙ ΔU(T)) + B·(P ⊙ (1 + c ⊙ (BᵀT − Tref)))`` with D the edge
+incidence; the Jacobian is sparse, ``J = −Dᵀ diag(g) ∂ΔU/∂T + B diag(P c) Bᵀ``.
+
+Thermal runaway
+---------------
+With linear conductances (all a = 0) and the rise θ = T − T_amb over the zero-power field:
+``G θ = B(P₀ + diag(P c) Bᵀθ)``, ``P₀ = P ⊙ (1 + c ⊙ (BᵀT_amb − Tref))``.  With the input
+resistance matrix ``R = Bᵀ G⁻¹ B`` the input temperatures y = Bᵀθ obey
+``(I − R·diag(P c)) y = R P₀`` (derived).  A stable bounded state exists exactly when
+``G − B diag(P c) Bᵀ`` is positive definite, i.e. when the loop gain ``ρ = λ_max(R·diag(P c))``
+(real: R diag(Pc) is similar to the symmetric ``R^{1/2} diag(Pc) R^{1/2}``) is below 1; one
+node: ``ρ = c·P·R`` and ``ΔT = P₀·R/(1 − c·P·R)``.  This is checked analytically; for nonlinear
+k(T) runaway is detected by divergence of Newton's method (temperatures beyond
+``T_LIMIT``) and the loop gain is reported from the Jacobian at the last iterate.
+:class:`ThermalRunawayError` is a ``ValueError`` (the cause is the input: too much power).
+
+Integration and periodic state
+------------------------------
+Transients: massless nodes are eliminated exactly at every evaluation (inner Newton on
+their rows); the capacitive nodes are integrated by ``scipy.integrate.solve_ivp`` (Radau,
+L-stable, with the analytic sparse/condensed Jacobian), restarted at every segment edge.
+Accuracy is that of the integrator tolerances (``rtol``, ``atol`` options).  Periodic steady
+state: shooting on the start-of-period state, seeded with the steady state at the mean power,
+corrected with the linearised monodromy ``(I − e^{T·J_lin})`` (a chord-Newton method) until one
+period maps the state onto itself within ``atol``.  The dense monodromy limits the periodic
+path to ``PERIODIC_LIMIT`` capacitive nodes.
+
+References
+----------
+W. B. Joyce, Solid-State Electronics 18, 1975 (Kirchhoff transform).  E. Hairer and
+G. Wanner, *Solving Ordinary Differential Equations II*, Springer, 1996 (Radau IIA, index-1
+DAEs).  T. J. Aprille and T. N. Trick, "Steady-state analysis of nonlinear circuits with
+periodic inputs", Proc. IEEE 60(1), 1972 (shooting).
+"""
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import scipy.linalg as dla
+import scipy.sparse as sp
+import scipy.sparse.linalg as sla
+from scipy.integrate import solve_ivp
+
+from .assemble import NetworkError, floating_nodes
+from .solvers import RawResponse
+from .system import ThermalSystem
+
+__all__ = ["NonlinearSolver", "ThermalRunawayError", "kirchhoff_U", "kirchhoff_inverse",
+           "T_LIMIT", "PERIODIC_LIMIT"]
+
+#: Temperatures above this (K) count as divergence (runaway).
+T_LIMIT = 5000.0
+#: Largest number of capacitive nodes for periodic shooting (dense monodromy).
+PERIODIC_LIMIT = 3000
+#: Interior samples per segment.
+INTERIOR_POINTS = 8
+
+
+class ThermalRunawayError(ValueError):
+    """No bounded steady state: the heat input grows faster with temperature than the
+    network can remove it.  ``input_name`` and ``loop_gain`` name the cause."""
+
+    def __init__(self, message: str, input_name: str | None = None,
+                 loop_gain: float | None = None) -> None:
+        super().__init__(message)
+        self.input_name = input_name
+        self.loop_gain = loop_gain
+
+
+def kirchhoff_U(T, a, Tref):
+    """Kirchhoff integral U(T) = ∫_Tref^T (T'/Tref)^−a dT' (K), elementwise (Joyce 1975)."""
+    T, a, Tref = np.broadcast_arrays(np.asarray(T, float), np.asarray(a, float),
+                                     np.asarray(Tref, float))
+    x = T / Tref
+    out = T - Tref
+    lin = a == 0.0
+    one = np.abs(a - 1.0) < 1e-12
+    gen = ~(lin | one)
+    if one.any():
+        out = np.where(one, Tref * np.log(np.where(one, x, 1.0)), out)
+    if gen.any():
+        b = np.where(gen, 1.0 - a, 1.0)
+        # Tref/(1-a)·(x^{1-a} − 1) = Tref/(1-a)·expm1((1-a)·ln x): accurate near x = 1
+        out = np.where(gen, Tref / b * np.expm1(b * np.log(np.where(gen, x, 1.0))), out)
+    return out
+
+
+def kirchhoff_inverse(U, a, Tref):
+    """T from U (inverse of :func:`kirchhoff_U`): T = Tref·[1 + (1 − a)U/Tref]^{1/(1−a)}."""
+    U, a, Tref = np.broadcast_arrays(np.asarray(U, float), np.asarray(a, float),
+                                     np.asarray(Tref, float))
+    if np.all(a == 0):
+        return Tref + U
+    b = 1.0 - a
+    with np.errstate(invalid="ignore", divide="ignore"):
+        out = np.where(np.abs(b) < 1e-12, Tref * np.exp(U / Tref),
+                       Tref * (1.0 + b * U / Tref) ** (1.0 / np.where(b == 0, 1.0, b)))
+    return np.where(a == 0, Tref + U, out)
+
+
+def _dU(T, a, Tref):
+    """dU/dT = (T/Tref)^−a."""
+    return (T / Tref) ** (-a)
+
+
+class NonlinearSolver:
+    """Solver for networks with k(T) conductances and temperature-dependent inputs
+    (registered as ``"nonlinear"``).
+
+    Parameters
+    ----------
+    system
+        The assembled system (linear systems are accepted too).
+    rtol, atol
+        Options: integrator tolerances (relative; absolute in K).  Defaults 1e-8, 1e-9.
+    max_newton
+        Option: Newton iterations for steady states (default 60).
+    """
+
+    name = "nonlinear"
+
+    def __init__(self, system: ThermalSystem, **options) -> None:
+        known = {"rtol", "atol", "max_newton", "max_shooting"}
+        bad = set(options) - known
+        if bad:
+            raise ValueError(f"NonlinearSolver: unknown option(s) {sorted(bad)}; expected "
+                             f"{sorted(known)}")
+        self.system = system
+        self.rtol = float(options.get("rtol", 1e-8))
+        self.atol = float(options.get("atol", 1e-9))
+        self.max_newton = int(options.get("max_newton", 60))
+        self.max_shooting = int(options.get("max_shooting", 40))
+        n = system.n
+        self.n = n
+        ei = np.asarray(system.edge_i, dtype=np.int64)
+        ej = np.asarray(system.edge_j, dtype=np.int64)
+        ne = ei.size
+        self.ei, self.ej = ei, ej
+        self.g = np.asarray(system.edge_g, float)
+        self.a = np.asarray(system.edge_a, float)
+        self.aref = np.asarray(system.edge_Tref, float)
+        # incidence: D (ne, n) with +1 at i, −1 at j (free ends only)
+        rows = np.concatenate([np.arange(ne), np.flatnonzero(ej < n)])
+        cols = np.concatenate([ei, ej[ej < n]])
+        vals = np.concatenate([np.ones(ne), -np.ones(int(np.sum(ej < n)))])
+        self.D = sp.csr_matrix((vals, (rows, cols)), shape=(ne, n))
+        self.Di = sp.csr_matrix((np.ones(ne), (np.arange(ne), ei)), shape=(ne, n))
+        jf = ej < n
+        self.Dj = sp.csr_matrix((np.ones(int(jf.sum())), (np.flatnonzero(jf), ej[jf])),
+                                shape=(ne, n))
+        # fixed temperatures of boundary ends
+        self.Tb_end = np.where(jf, 0.0, system.T_boundary[np.where(jf, 0, ej - n)]
+                               if system.nb else 0.0)
+        self.jf = jf
+        self.B = sp.csr_matrix(system.B)
+        self.c = np.asarray(system.input_tc, float)
+        self.cref = np.asarray(system.input_Tref, float)
+        self.C = np.asarray(system.C, float)
+        self.cap = np.flatnonzero(self.C > 0)
+        self.mass = np.flatnonzero(self.C == 0)
+        self.floating = floating_nodes(system)
+        self.n_rhs = 0
+        self.n_jac = 0
+        self.linear_k = bool(np.all(self.a == 0))
+        # Jacobian pattern: entries (i,i) −g·U'(T_i), (i,j) +g·U'(T_j), (j,i) +g·U'(T_i),
+        # (j,j) −g·U'(T_j) (free j only), scattered into a fixed CSR structure
+        fj = np.flatnonzero(jf)
+        r_ = np.concatenate([ei, ei[fj], ej[fj], ej[fj]])
+        c_ = np.concatenate([ei, ej[fj], ei[fj], ej[fj]])
+        keys, inv = np.unique(r_ * n + c_, return_inverse=True)
+        jr = keys // n
+        self._jpat = (np.bincount(jr, minlength=n).cumsum(), keys % n, inv, fj)
+        if system.m and np.any(self.c != 0):
+            self._BBt = [sp.csr_matrix(self.B[:, [k]] @ self.B[:, [k]].T)
+                         for k in range(system.m)]
+        else:
+            self._BBt = []
+
+    # -- the balance and its Jacobian ----------------------------------------------------
+    def _ends(self, T):
+        Ti = T[self.ei]
+        Tj = np.where(self.jf, T[np.where(self.jf, self.ej, 0)], self.Tb_end)
+        return Ti, Tj
+
+    def heat_out(self, T: np.ndarray) -> np.ndarray:
+        """Net conducted heat leaving each free node, W, (n,): Dᵀ(g ⊙ (U(T_i) − U(T_j)))."""
+        Ti, Tj = self._ends(T)
+        q = self.g * (kirchhoff_U(Ti, self.a, self.aref) - kirchhoff_U(Tj, self.a, self.aref))
+        return self.D.T @ q
+
+    def heat_in(self, T: np.ndarray, P: np.ndarray) -> np.ndarray:
+        """Input heat per node, W: B·(P ⊙ (1 + c ⊙ (BᵀT − Tref)))."""
+        Tbar = self.B.T @ T
+        return self.B @ (P * (1.0 + self.c * (Tbar - self.cref)))
+
+    def residual(self, T: np.ndarray, P: np.ndarray) -> np.ndarray:
+        """C dT/dt = residual(T, P), W."""
+        self.n_rhs += 1
+        return self.heat_in(T, P) - self.heat_out(T)
+
+    def jacobian(self, T: np.ndarray, P: np.ndarray) -> sp.csr_matrix:
+        """∂residual/∂T, sparse (n, n), W/K."""
+        self.n_jac += 1
+        Ti, Tj = self._ends(T)
+        di = self.g * _dU(Ti, self.a, self.aref)
+        dj = self.g * _dU(Tj, self.a, self.aref)
+        cnt, cols, inv, fj = self._jpat
+        vals = np.concatenate([-di, dj[fj], di[fj], -dj[fj]])
+        data = np.bincount(inv, weights=vals, minlength=cols.size)
+        indptr = np.concatenate([[0], cnt])
+        J = sp.csr_matrix((data, cols, indptr), shape=(self.n, self.n))
+        for k, BB in enumerate(self._BBt):
+            if P[k] * self.c[k] != 0:
+                J = J + (P[k] * self.c[k]) * BB
+        return J
+
+    # -- runaway -----------------------------------------------------------------------
+    def loop_gain(self, T: np.ndarray, P: np.ndarray) -> tuple[float, int]:
+        """ρ = λ_max(R·diag(P c)), R = Bᵀ K⁻¹ B with K = −(conduction Jacobian) at T; and the
+        input with the largest share of the dominant eigenvector."""
+        m = self.system.m
+        if m == 0 or not np.any(self.c * P != 0):
+            return 0.0, 0
+        Ti, Tj = self._ends(T)
+        di = self.g * _dU(Ti, self.a, self.aref)
+        dj = self.g * _dU(Tj, self.a, self.aref)
+        K = sp.csc_matrix(self.D.T @ (sp.diags(di) @ self.Di - sp.diags(dj) @ self.Dj))
+        R = self.B.T @ sla.splu(K).solve(self.B.toarray())
+        M = R * (P * self.c)[None, :]
+        w, V = np.linalg.eig(M)
+        k = int(np.argmax(w.real))
+        share = np.abs(V[:, k]) * np.abs(P * self.c)
+        return float(w[k].real), int(np.argmax(share))
+
+    def _runaway(self, T, P, why: str):
+        try:
+            gain, k = self.loop_gain(np.clip(T, 1.0, None), P)
+        except (RuntimeError, np.linalg.LinAlgError, ValueError):
+            gain, k = float("nan"), 0
+        name = self.system.input_names[k] if self.system.m else None
+        if self.system.m and np.any(self.c * P != 0):
+            msg = (f"thermal runaway: {why}; input {name!r} has loop gain {gain:.4g} "
+                   f"(c·P·R, >= 1 means the heat it adds per kelvin outgrows what the "
+                   f"network removes); reduce its power or temperature coefficient")
+        else:
+            msg = (f"thermal runaway: {why}; the conductivity falls with temperature so fast "
+                   "(k ∝ T^-a, a > 1) that no bounded steady state carries this power; "
+                   "reduce the power")
+        raise ThermalRunawayError(msg, name, gain)
+
+    def _check_linear_runaway(self, P: np.ndarray) -> None:
+        """Analytic loop-gain test for linear conductances (see the module docstring)."""
+        if not self.linear_k or not np.any(self.c * P != 0):
+            return
+        gain, _ = self.loop_gain(np.full(self.n, 300.0), P)
+        if gain >= 1.0:
+            self._runaway(np.full(self.n, 300.0), P,
+                          f"loop gain {gain:.6g} >= 1 (analytic, linear conductances)")
+
+    # -- steady state ------------------------------------------------------------------
+    def _linear_guess(self, P: np.ndarray) -> np.ndarray:
+        """Steady state with reference conductances and no temperature coefficients."""
+        K = sp.csc_matrix(self.system.G)
+        rhs = self.system.Gb @ self.system.T_boundary + self.B @ P
+        return np.atleast_1d(sla.spsolve(K, rhs)) if self.n > 1 else rhs / K.toarray()[0]
+
+    def steady(self, power: np.ndarray) -> np.ndarray:
+        """Damped Newton on ``residual(T) = 0`` with the sparse Jacobian; K absolute (n,).
+
+        Raises
+        ------
+        ThermalRunawayError
+            No bounded steady state (loop gain >= 1, or divergence).
+        RuntimeError
+            Newton did not converge for another reason (message says how far it got).
+        """
+        if self.floating:
+            raise NetworkError(f"nodes {', '.join(self.floating[0][:6])} have no conduction "
+                               "path to a boundary: there is no steady state")
+        P = np.asarray(power, dtype=np.float64).reshape(-1)
+        self._check_linear_runaway(P)
+        T = self._linear_guess(P)
+        return self._newton(T, P)
+
+    def _newton(self, T, P, extra=None):
+        """Newton with backtracking; ``extra`` = (diag, rhs) adds ``−diag·T + rhs`` (used by
+        implicit steps)."""
+        scale = max(float(np.max(np.abs(T))), 1.0)
+        f = self._f(T, P, extra)
+        fn = float(np.linalg.norm(f))
+        for it in range(self.max_newton):
+            J = self.jacobian(T, P)
+            if extra is not None:
+                J = J - sp.diags(extra[0])
+            try:
+                dT = -sla.spsolve(sp.csc_matrix(J), f) if self.n > 1 else -f / J.toarray()[0]
+            except RuntimeError:
+                self._runaway(T, P, "singular Jacobian in Newton's method")
+            dT = np.atleast_1d(dT)
+            if not np.all(np.isfinite(dT)):
+                self._runaway(T, P, "Newton step is not finite")
+            step = 1.0
+            while True:
+                Tn = T + step * dT
+                if np.all(Tn > 0) and np.all(np.isfinite(Tn)):
+                    fn_new = self._f(Tn, P, extra)
+                    if np.linalg.norm(fn_new) <= (1 - 1e-4 * step) * fn or step < 1e-3:
+                        break
+                step *= 0.5
+                if step < 1e-6:
+                    break
+            if not (np.all(Tn > 0) and np.all(np.isfinite(Tn))) or np.max(Tn) > T_LIMIT:
+                self._runaway(T, P, f"Newton's method diverges (temperature beyond "
+                                    f"{T_LIMIT:.0f} K or not positive)")
+            T, f = Tn, self._f(Tn, P, extra)
+            fn = float(np.linalg.norm(f))
+            if np.max(np.abs(step * dT)) <= 1e-12 * scale + 1e-13:
+                return T
+        if np.max(T) > 0.5 * T_LIMIT or not self.linear_k:
+            self._runaway(T, P, f"Newton's method did not converge in {self.max_newton} "
+                                "iterations (last step "
+                                f"{np.max(np.abs(step * dT)):.3g} K)")
+        raise RuntimeError(f"NonlinearSolver.steady: Newton did not converge in "
+                           f"{self.max_newton} iterations (residual {fn:.3g} W)")
+
+    def _f(self, T, P, extra):
+        f = self.residual(T, P)
+        if extra is not None:
+            f = f - extra[0] * T + extra[1]
+        return f
+
+    # -- transients --------------------------------------------------------------------
+    def _condense(self, Tc: np.ndarray, P: np.ndarray, Tz0: np.ndarray) -> np.ndarray:
+        """Full state from the capacitive one: massless rows solved by Newton."""
+        T = np.empty(self.n)
+        T[self.cap] = Tc
+        if self.mass.size == 0:
+            return T
+        z = self.mass
+        T[z] = Tz0
+        solve = None
+        for it in range(60):
+            f = self.residual(T, P)[z]
+            if solve is None or it % 8 == 7:
+                # chord Newton: the massless block of the Jacobian, refreshed now and then
+                Jzz = sp.csc_matrix(self.jacobian(T, P)[z][:, z])
+                if z.size <= 400:
+                    lu = dla.lu_factor(Jzz.toarray())
+                    solve = lambda r, lu=lu: dla.lu_solve(lu, r)  # noqa: E731
+                else:
+                    solve = sla.splu(Jzz).solve
+            dz = -solve(f)
+            T[z] += dz
+            if np.max(np.abs(dz)) <= 1e-12 * max(1.0, np.max(np.abs(T[z]))):
+                break
+        return T
+
+    def _segment(self, Tfull0, a, s, h, t_eval):
+        """Integrate one segment (P = a + s·t) from the full state; returns the full state
+        at t_eval offsets (k, n), at the end, and ∫T dt (n,)."""
+        cap, z = self.cap, self.mass
+        Cc = self.C[cap]
+        state = {"Tz": Tfull0[z].copy()}
+
+        def full(t, y):
+            P = a + s * t
+            T = self._condense(y, P, state["Tz"])
+            state["Tz"] = T[z]
+            return T, P
+
+        def rhs(t, y):
+            T, P = full(t, y)
+            return self.residual(T, P)[cap] / Cc
+
+        def jac(t, y):
+            T, P = full(t, y)
+            J = sp.csc_matrix(self.jacobian(T, P))
+            if z.size == 0:
+                return sp.diags(1.0 / Cc) @ J
+            Jcc = J[cap][:, cap].toarray()
+            Jcz = J[cap][:, z]
+            Jzc = J[z][:, cap].toarray()
+            Jzz = sp.csc_matrix(J[z][:, z])
+            X = sla.splu(Jzz).solve(Jzc)
+            return (Jcc - Jcz @ X) / Cc[:, None]
+
+        sol = solve_ivp(rhs, (0.0, h), Tfull0[cap], method="Radau", jac=jac,
+                        rtol=self.rtol, atol=self.atol, dense_output=True)
+        if not sol.success:
+            raise RuntimeError(f"NonlinearSolver: integration failed: {sol.message}")
+        Tmax = float(np.max(sol.y))
+        if not np.isfinite(Tmax) or Tmax > T_LIMIT:
+            self._runaway(sol.y[:, -1], a, "temperatures diverge during the transient")
+        ts = sol.t
+        # ∫ T dt: 4-point Gauss–Legendre on each accepted step of the dense output
+        xg, wg = np.polynomial.legendre.leggauss(4)
+        lo, hi = ts[:-1], ts[1:]
+        tq = (0.5 * (hi - lo)[:, None] * xg[None, :] + 0.5 * (hi + lo)[:, None]).ravel()
+        wq = (0.5 * (hi - lo)[:, None] * wg[None, :]).ravel()
+        Yc = sol.sol(tq) if tq.size else np.zeros((cap.size, 0))
+        integral = np.zeros(self.n)
+        integral[cap] = Yc @ wq
+        if z.size:
+            acc = np.zeros(z.size)
+            for k in range(tq.size):
+                acc += wq[k] * full(tq[k], Yc[:, k])[0][z]
+            integral[z] = acc
+        Ye = sol.sol(t_eval)
+        out = np.stack([full(t_eval[k], Ye[:, k])[0] for k in range(t_eval.size)])
+        out[-1, cap] = sol.y[:, -1]
+        if z.size:
+            out[-1] = full(h, sol.y[:, -1])[0]
+        return out, out[-1], integral, sol.nfev
+
+    @staticmethod
+    def _offsets(h: float) -> np.ndarray:
+        return np.geomspace(h * 1e-3, h, INTERIOR_POINTS + 1)
+
+    def _sweep(self, T0, edges, level, slope, rows, sample=True):
+        t_out, v_out = [np.array([0.0])], [T0[rows][None, :]]
+        T = T0.copy()
+        integral = np.zeros(self.n)
+        nfev = 0
+        for k in range(edges.size - 1):
+            h = edges[k + 1] - edges[k]
+            offs = self._offsets(h) if sample else np.array([h])
+            vals, T, integ, nf = self._segment(T, level[k], slope[k], h, offs)
+            integral += integ
+            nfev += nf
+            t_out.append(edges[k] + offs)
+            v_out.append(vals[:, rows])
+        t = np.concatenate(t_out)
+        t[-1] = edges[-1]
+        return t, np.vstack(v_out), T, integral, nfev
+
+    @staticmethod
+    def _arrays(edges, level, slope, probes):
+        edges = np.asarray(edges, dtype=np.float64)
+        level = np.atleast_2d(np.asarray(level, dtype=np.float64))
+        slope = np.atleast_2d(np.asarray(slope, dtype=np.float64))
+        rows = np.asarray(probes, dtype=np.int64).reshape(-1)
+        return edges, level, slope, rows
+
+    def transient(self, edges, level, slope, initial, probes) -> RawResponse:
+        """From ``initial`` (n,) K absolute, or the zero-power steady state when None."""
+        edges, level, slope, rows = self._arrays(edges, level, slope, probes)
+        if initial is None:
+            T0 = self.steady(np.zeros(self.system.m))
+        else:
+            T0 = np.asarray(initial, dtype=np.float64).reshape(-1)
+            if T0.size != self.n or not np.all(np.isfinite(T0)) or np.any(T0 <= 0):
+                raise ValueError(f"initial: expected {self.n} finite absolute temperatures "
+                                 f"in K, got shape {np.shape(initial)}")
+        if self.mass.size:
+            T0 = self._condense(T0[self.cap], level[0], T0[self.mass])
+        t, v, Tend, integral, nfev = self._sweep(T0, edges, level, slope, rows)
+        mean_full = integral / edges[-1]
+        info = {"method": "nonlinear", "nfev": nfev, "njev": self.n_jac,
+                "mean_full": mean_full, "success": True,
+                "message": f"Radau, rtol {self.rtol:g}, atol {self.atol:g} K"}
+        return RawResponse(t, v, T0, Tend, mean_full[rows], info)
+
+    def _period_map(self, Tc0, edges, level, slope, Tz):
+        T = np.empty(self.n)
+        T[self.cap] = Tc0
+        if self.mass.size:
+            T = self._condense(Tc0, level[0], Tz)
+        for k in range(edges.size - 1):
+            h = edges[k + 1] - edges[k]
+            _, T, _, _ = self._segment(T, level[k], slope[k], h, np.array([h]))
+        return T
+
+    def periodic(self, edges, level, slope, probes) -> RawResponse:
+        """Periodic steady state by shooting (chord Newton with the linearised monodromy),
+        seeded with the steady state at the mean power."""
+        edges, level, slope, rows = self._arrays(edges, level, slope, probes)
+        if self.floating:
+            raise NetworkError(f"nodes {', '.join(self.floating[0][:6])} have no conduction "
+                               "path to a boundary: there is no periodic steady state")
+        nc = self.cap.size
+        if nc > PERIODIC_LIMIT:
+            raise ValueError(f"NonlinearSolver.periodic: {nc} capacitive nodes; shooting with "
+                             f"a dense monodromy is limited to {PERIODIC_LIMIT}; run a "
+                             "transient over enough periods instead")
+        T_per = edges[-1]
+        h = np.diff(edges)
+        Pbar = (h @ level + 0.5 * (h * h) @ slope) / T_per
+        Ppk = np.max(level + np.maximum(slope * h[:, None], 0.0), axis=0)
+        self._check_linear_runaway(Ppk)
+        Ts = self.steady(Pbar)
+        # linearised monodromy about the mean-power steady state
+        J = self.jacobian(Ts, Pbar).toarray()
+        cap, z = self.cap, self.mass
+        Jc = J[np.ix_(cap, cap)]
+        if z.size:
+            Jc = Jc - J[np.ix_(cap, z)] @ np.linalg.solve(J[np.ix_(z, z)], J[np.ix_(z, cap)])
+        A = Jc / self.C[cap][:, None]
+        Mlin = dla.expm(A * T_per)
+        lu = dla.lu_factor(np.eye(nc) - Mlin)
+        x = Ts[cap].copy()
+        Tz = Ts[z].copy()
+        it = 0
+        err = np.inf
+        for it in range(1, self.max_shooting + 1):
+            Tend = self._period_map(x, edges, level, slope, Tz)
+            Tz = Tend[z]
+            r = Tend[cap] - x
+            err = float(np.max(np.abs(r)))
+            if err <= max(self.atol, 1e-10 * float(np.max(x))) * 10:
+                break
+            x = x + dla.lu_solve(lu, r)
+            if not np.all(np.isfinite(x)) or np.max(x) > T_LIMIT:
+                self._runaway(Tend, Ppk, "the periodic shooting diverges")
+        else:
+            raise RuntimeError(f"NonlinearSolver.periodic: shooting did not converge in "
+                               f"{self.max_shooting} periods (mismatch {err:.3g} K)")
+        T0 = self._condense(x, level[-1], Tz) if z.size else None
+        if T0 is None:
+            T0 = np.empty(self.n)
+            T0[cap] = x
+        t, v, Tend, integral, nfev = self._sweep(T0, edges, level, slope, rows)
+        mean_full = integral / T_per
+        info = {"method": "nonlinear", "shooting_iterations": it, "mismatch_K": err,
+                "nfev": nfev, "mean_full": mean_full, "success": True,
+                "message": f"shooting converged in {it} periods (mismatch {err:.2g} K)"}
+        return RawResponse(t, v, T0, Tend, mean_full[rows], info)
