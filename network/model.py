@@ -300,8 +300,6 @@ class ThermalNetwork:
     def system(self) -> ThermalSystem:
         """The assembled :class:`ThermalSystem` (cached until the network changes)."""
         if self._system is None:
-            if not self._inputs:
-                pass  # a network without inputs is valid (Zth needs one, checked there)
             self._system = assemble(self.graph, self._inputs)
         return self._system
 
@@ -477,7 +475,10 @@ class ThermalNetwork:
         periods of the (periodic) waveforms.
 
         Long runs of identical periods are jumped exactly by the modal solver (per-period
-        propagator); only a selection of periods is sampled.  Means are exact over the run.
+        propagator); only a selection of periods is sampled (the first ones, log-spaced
+        ones, the last, and those holding each probe's extremes).  Means are exact over the
+        run.  Massless nodes follow the others algebraically: initial values given for them
+        are not used.
         """
         from .result import Response, energy_of
 
