@@ -6,13 +6,15 @@ from .foster import Cauer, Foster, FosterError, FosterFit, fit_foster
 from .lines import BuiltLine, LineError, LineReport, PointHeater, RFLine
 from .materials import Material, MaterialError, MaterialLibrary, default_library
 from .microstrip import HurayRoughness, Microstrip, MicrostripError
-from .model import NetworkError, ThermalNetwork
+from .modal import ModalSolver
+from .model import InputSpec, NetworkError, SteadyResult, ThermalNetwork
 from .report import StackReport, stack_report
 from .result import Response
 from .scenario import Scenario, ScenarioError, dumps, load, loads, save
 from .simulate import RunResult, simulate, thermal_impedance
 from .simulate import build as build_scenario
 from .sizing import SizingError, SizingResult, size
+from .solvers import SOLVERS, RawResponse, Solver, SolverError, resolve_solver
 from .spreading import (SpreadingError, SpreadingResult, calibrate_angle, circular_series,
                         frustum_resistance, lee_1995, rectangular_series)
 from .stackup import (AreaResistance, Assembly, Board, Film, FixedBase, Layer, LumpedSink,
@@ -38,4 +40,6 @@ __all__ = [
     "AreaResistance", "Assembly", "Board", "Film", "FixedBase", "Layer", "LumpedSink", "Mount",
     "Part", "StackupError", "FIDELITY", "BuiltModel", "Grading", "build", "AxisymModel",
     "Comparison", "build_axisym", "compare", "StackReport", "stack_report",
+    "InputSpec", "ModalSolver", "RawResponse", "SOLVERS", "Solver", "SolverError",
+    "SteadyResult", "resolve_solver",
 ]
