@@ -328,7 +328,9 @@ class NonlinearSolver:
                 step *= 0.5
                 if step < 1e-6:
                     break
-            if not (np.all(Tn > 0) and np.all(np.isfinite(Tn))) or np.max(Tn) > T_LIMIT:
+            # linear conductances: runaway was decided analytically (loop gain) beforehand
+            if (not (np.all(Tn > 0) and np.all(np.isfinite(Tn)))
+                    or (np.max(Tn) > T_LIMIT and not self.linear_k)):
                 self._runaway(T, P, f"Newton's method diverges (temperature beyond "
                                     f"{T_LIMIT:.0f} K or not positive)")
             T, f = Tn, self._f(Tn, P, extra)

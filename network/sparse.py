@@ -169,7 +169,7 @@ class SparseSolver:
         Option: bytes allowed for the n × r mode array (default 1e9).
     shifts_per_decade, depth
         Options of the Krylov basis: shifts per decade of time constant (default 1) and
-        chain length per shift (default 6).
+        chain length per shift (default 12).
     """
 
     name = "sparse"
@@ -196,7 +196,7 @@ class SparseSolver:
         self.max_modes = int(options.get("max_modes", 1500))
         self.memory_budget = float(options.get("memory_budget", 1e9))
         self.shifts_per_decade = float(options.get("shifts_per_decade", 1.0))
-        self.depth = int(options.get("depth", 6))
+        self.depth = int(options.get("depth", 12))
         groups = floating_nodes(system)
         if groups:
             raise NetworkError(
