@@ -9,11 +9,29 @@ layers under it and the mounting interface, down to the sink.  Heat spreads down
   own size.  A sub-layer [z0, z1] has the exact 1-D conductance and capacity of that
   frustum, ``G = 1/∫dz/(k·A(z))`` and ``C = ρc·∫A(z)dz`` (Gauss-Legendre quadrature on the
   pieces between the kinks where the path meets the layer edges).
-* **Calibrated spreading** (``spreading="calibrated"``): each layer's angle is chosen so
-  that the column's steady resistance equals the published spreading-resistance solution of
-  the stack (Yovanovich, Culham & Teertstra 1998 exact series; compound layers by the
-  transmission-line recursion of Yovanovich, Muzychka & Culham 1999), layer by layer
-  (see :mod:`pulsetherm.network.calibration` notes in :func:`calibrate_angles`).
+* **Calibrated spreading** (``spreading="calibrated"``): the heat path follows the
+  exact steady spreading solution of the stack at every depth (equivalent flow area).
+  Derivation: cut the column at depth z and hold the cut at the sink temperature; the mean
+  source rise per watt of what lies above, R(z), is the exact compound-disk series
+  (Yovanovich, Culham & Teertstra 1998; compound layers by the transmission-line recursion
+  of Yovanovich, Muzychka & Culham 1999; equal-area circles, every element as wide as the
+  widest sized layer).  Adding a slab dz adds dR = dz/(k·A_eff(z)), so
+
+      A_eff(z) = 1/(k(z)·dR/dz),
+
+  the area of the 1-D path with the same resistance per unit depth: the source area at
+  z → 0 (early heat flows straight down), the plate area deep down.  Each sub-layer
+  [z_i, z_{i+1}] gets G = 1/(R(z_{i+1}) − R(z_i)), so the ladder's cumulative resistance
+  equals R(z) at every face, and the capacity ρc·∫A_eff dz of the same path.  This is the
+  1-D "equivalent flow area" reading of a structure function (dC_Σ/dR_Σ = ρ·c·k·A², JEDEC
+  JESD51-14; Székely & Van Bien 1988), with conductance and capacity sharing one area.
+  Over a finite sink the rest of the exact resistance (the film, and the extra
+  constriction R_sp(h) − R_sp(∞) it causes) joins the bottom face to the sink in two
+  halves around a node holding the layers' remaining heat capacity (their volume outside
+  the equivalent path).  Steady values equal the exact series by construction
+  (tests/test_builder.py); the r-z finite elements of tests/test_fem_crosscheck.py agree
+  within 10 % from 1e-5 s to 1 s.  With ``reference="lee"`` (or no sized layer) one
+  angle per layer is fitted instead (:func:`calibrate_angles`).
 * **Graded sub-layers.**  Thickness is measured in the diffusion coordinate s = ∫dz/√α
   (√s units; a signal reaches depth s after a time ≈ s²).  The first sub-layer at the
   source spans s0 = f·√t_min, with t_min the shortest waveform feature, and sub-layers grow
@@ -32,6 +50,8 @@ spreading cones and the heat spreading into board area outside the columns.
 
 References
 ----------
+JEDEC JESD51-14, 2010; Székely & Van Bien, Solid-State Electronics 31(9), 1988
+(structure functions, dC_Σ/dR_Σ = ρ·c·k·A²).
 Carslaw & Jaeger, *Conduction of Heat in Solids*, 2nd ed., 1959 (slab series used in tests).
 Yovanovich, Culham & Teertstra, IEEE Trans. CPMT-A 21(1), 1998.
 Yovanovich, Muzychka & Culham, J. Thermophysics & Heat Transfer 13(4), 1999.
@@ -53,7 +73,7 @@ from .stackup import (AreaResistance, Assembly, Film, FixedBase, Layer, LumpedSi
 
 __all__ = ["build", "BuiltModel", "NodeInfo", "LayerInfo", "ColumnInfo", "Grading",
            "grading", "FIDELITY", "frustum_sublayer", "sublayer_edges", "DEFAULT_ANGLE",
-           "DEFAULT_T_MIN"]
+           "DEFAULT_T_MIN", "depth_profile"]
 
 #: Default spreading half-angle, degrees (common practice, no source).
 DEFAULT_ANGLE = 45.0
@@ -472,9 +492,10 @@ def build(assembly: Assembly, *, t_min: float = DEFAULT_T_MIN,
         "coarse", "normal", "fine", a refinement number (2 = twice as fine as normal) or a
         :class:`Grading`.
     spreading
-        "angle": frustum with each layer's angle (default ``angle``); "calibrated": angles
-        fitted so the steady resistance of each column equals the published spreading
-        solution (:func:`calibrate_angles`); "none": 1-D columns of the footprint's size.
+        "angle": frustum with each layer's angle (default ``angle``); "calibrated": the
+        heat path follows the exact spreading series at every depth (equivalent flow area,
+        :func:`depth_profile`; module notes), so the steady resistance of each column
+        equals the published solution; "none": 1-D columns of the footprint's size.
     angle
         Default spreading half-angle, degrees (45° by common practice, no source).
     library
@@ -483,7 +504,8 @@ def build(assembly: Assembly, *, t_min: float = DEFAULT_T_MIN,
         Give each conductance its material's k(T) exponent (used by the nonlinear solver).
     reference
         Calibration reference: "series" (exact series, Yovanovich et al. 1998, with the
-        compound-layer recursion of Yovanovich et al. 1999) or "lee" (Lee et al. 1995).
+        compound-layer recursion of Yovanovich et al. 1999; equivalent flow area) or "lee"
+        (Lee et al. 1995; one fitted angle per layer, :func:`calibrate_angles`).
 
     Returns
     -------
@@ -538,12 +560,16 @@ def build(assembly: Assembly, *, t_min: float = DEFAULT_T_MIN,
         if spreading == "none":
             for s in segs:
                 s.angle = 0.0
-        elif spreading == "calibrated":
-            for s in segs:
-                s.cap_angle = s.angle
-            calibrate_angles(segs, part.footprint, sink, reference=reference)
+        profile = None
+        if spreading == "calibrated":
+            if reference == "series":
+                profile = depth_profile(segs, part.footprint, sink)
+            if profile is None:
+                for s in segs:
+                    s.cap_angle = s.angle
+                calibrate_angles(segs, part.footprint, sink, reference=reference)
         col = _build_column(nl, part, segs, grade, t_min, sink, sink_node, merge,
-                            nonlinear, node_map, board_faces)
+                            nonlinear, node_map, board_faces, profile)
         columns[part.name] = col
         inputs[part.name] = part.name
         probes.append(col.junction)
@@ -583,7 +609,8 @@ def _via_field(seg: _Seg, w: float, l: float) -> tuple[float, float] | None:
 
 def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min: float,
                   sink, sink_node: str, merge: bool, nonlinear: bool,
-                  node_map: dict, board_faces: dict) -> ColumnInfo:
+                  node_map: dict, board_faces: dict,
+                  profile: _Profile | None = None) -> ColumnInfo:
     p = part.name
     junction = part.junction
     top = f"{p}.case" if part.datasheet else junction
@@ -608,17 +635,32 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
     current = top
     depth = 0.0
     wc, lc = w, l
+    w0, l0 = w, l
+    # profile mode: resistance the ladder still owes between the stack's bottom face and
+    # the sink (R_exact − R_stack − the sink's own resistance); the bottom face is merged
+    # into the sink node only when nothing is owed
+    extra = 0.0
+    if profile is not None:
+        extra = profile.r_exact - profile.r_stack
+        if merge:
+            extra -= _sink_r(sink, profile.plate[0] * profile.plate[1])
+        extra = max(extra, 0.0)
+    merge_bottom = merge and extra <= 1e-12 * (profile.r_exact if profile else 1.0)
     for si, (seg, xi) in enumerate(zip(segs, xis)):
         last_seg = si == len(segs) - 1
         label = f"{p}/{seg.name}"
         faces = [current]
         area_top = w * l
         if isinstance(seg.element, AreaResistance):
-            name = sink_node if (last_seg and merge) else nl.node(f"{p}.{seg.name}", 0.0,
-                                                                 label=label)
+            name = sink_node if (last_seg and merge_bottom) else nl.node(
+                f"{p}.{seg.name}", 0.0, label=label)
             if name != sink_node:
                 node_map[name] = NodeInfo(p, seg.name, 1, depth, w * l)
             r = seg.element.r_area / (w * l)
+            if profile is not None:
+                zv0 = profile.top[si]
+                rr, _ = profile(np.array([zv0, zv0 + profile.ts[si]]))
+                r = float(rr[1] - rr[0])
             nl.connect(current, name, 1.0 / r)
             faces.append(name)
             layers.append(LayerInfo(p, seg.name, seg.group, "area resistance", 0.0,
@@ -633,18 +675,26 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
         a_exp = mat.k_exponent if nonlinear else 0.0
         R_layer, C_layer = 0.0, 0.0
         z = xi * t
+        if profile is not None:
+            pg, pct, pcb, pA = _profile_sublayers(profile, seg, profile.top[si], z, via)
         for kk in range(len(xi) - 1):
-            g, c_top, c_bot = frustum_sublayer(z[kk], z[kk + 1], w, l, tan, seg.cap,
-                                               seg.k_eff, seg.rho_c, via)
-            if seg.cap_angle is not None:
+            if profile is not None:
+                g, c_top, c_bot = float(pg[kk]), float(pct[kk]), float(pcb[kk])
+            else:
+                g, c_top, c_bot = frustum_sublayer(z[kk], z[kk + 1], w, l, tan, seg.cap,
+                                                   seg.k_eff, seg.rho_c, via)
+            if seg.cap_angle is not None and profile is None:
                 # calibrated: conduction through the fitted frustum, heat stored in the
                 # default-angle one (a wide fitted angle must not add early capacity)
                 _, c_top, c_bot = frustum_sublayer(z[kk], z[kk + 1], wc, lc, tan_c,
                                                    seg.cap, seg.k_eff, seg.rho_c, via)
             R_layer += 1.0 / g
             C_layer += c_top + c_bot
-            ww, ll = path_size(z[kk + 1], w, l, tan, seg.cap)
-            if kk == len(xi) - 2 and last_seg and merge:
+            if profile is not None:
+                ww, ll = profile.path(float(pA[kk + 1]), w0, l0)
+            else:
+                ww, ll = path_size(z[kk + 1], w, l, tan, seg.cap)
+            if kk == len(xi) - 2 and last_seg and merge_bottom:
                 name = sink_node
             else:
                 name = nl.node(f"{p}.{seg.name}.{kk + 1}", 0.0, label=label)
@@ -654,7 +704,11 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
             nl.connect(current, name, g, a_exp)
             faces.append(name)
             current = name
-        w_new, l_new = path_size(t, w, l, tan, seg.cap)
+        if profile is not None:
+            w_new, l_new = profile.path(float(pA[-1]), w0, l0)
+            seg.angle = _equivalent_angle(R_layer, t, w, l, seg)
+        else:
+            w_new, l_new = path_size(t, w, l, tan, seg.cap)
         wc, lc = path_size(t, wc, lc, tan_c, seg.cap)
         layers.append(LayerInfo(p, seg.name, seg.group, mat.name, t, tuple(faces), R_layer,
                                 C_layer, seg.angle, area_top, w_new * l_new, mat.t_max_C))
@@ -668,10 +722,27 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
                 (f, float(share[i]), 0.5 * (w + w_new)) for i, f in enumerate(faces)]
         w, l = w_new, l_new
         depth += t
-    if segs and not merge:
-        nl.connect(current, sink_node, sink.h * w * l)
+    if segs and profile is not None and not merge_bottom and extra > 0:
+        # profile mode over a finite sink: the resistance still owed (the sink's extra
+        # constriction R_sp(h) − R_sp(∞), plus the film itself when it is not a node)
+        # as two halves around a node that holds the heat capacity of the layers' volume
+        # the equivalent flow area leaves out (the lateral spreading toward the film)
+        c_real = sum(sg.rho_c * sg.thickness * (sg.cap[0] * sg.cap[1] if sg.cap
+                                                 else profile.plate[0] * profile.plate[1])
+                     for sg in segs if isinstance(sg.element, Layer))
+        c_rest = max(c_real - sum(lay.capacity for lay in layers), 0.0)
+        mid = nl.node(f"{p}.spread", c_rest, label=f"{p}/spread")
+        node_map[mid] = NodeInfo(p, "spread", 1, depth, profile.plate[0] * profile.plate[1])
+        nl.connect(current, mid, 2.0 / extra)
+        nl.connect(mid, sink_node, 2.0 / extra)
+        layers.append(LayerInfo(p, "film" if not merge else "sink-constriction", "sink",
+                                "film", 0.0, (current, mid, sink_node), extra, c_rest, None,
+                                w * l, profile.plate[0] * profile.plate[1], None))
+    elif segs and not merge:
+        r_film = 1.0 / (sink.h * w * l)
+        nl.connect(current, sink_node, 1.0 / r_film)
         layers.append(LayerInfo(p, "film", "sink", "film", 0.0, (current, sink_node),
-                                1.0 / (sink.h * w * l), 0.0, None, w * l, w * l, None))
+                                r_film, 0.0, None, w * l, w * l, None))
     elif sink_node == "sink":
         r = sink.resistance if isinstance(sink, LumpedSink) else 1.0 / (sink.h * sink.area)
         layers.append(LayerInfo(p, "sink", "sink", "sink", 0.0, ("sink", "ambient"), r,
@@ -744,55 +815,160 @@ def _couple_columns(nl: _Net, asm: Assembly, board_faces: dict, library) -> None
 
 
 # --------------------------------------------------------------------------------------
+# calibrated spreading: equivalent flow area from the exact layered series
+# --------------------------------------------------------------------------------------
+_GL6_X, _GL6_W = np.polynomial.legendre.leggauss(6)
+
+
+@dataclass
+class _Profile:
+    """Depth profile of a column's exact steady spreading (see :func:`depth_profile`).
+
+    Depths here are *virtual*: an area resistance r is a layer of the material below of
+    thickness r·k_below, so ``top[j]`` is where element j starts in that coordinate.
+    """
+
+    a: float
+    b: float
+    ks: list[float]
+    ts: list[float]
+    top: list[float]
+    plate: tuple[float, float]
+    r_exact: float            # mean source rise of the whole stack over the real sink, K/W
+    r_stack: float            # the same stack over an isothermal plane at its bottom, K/W
+
+    def __call__(self, zv: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """R(z) and dR/dz at virtual depths ``zv`` (R(0) = 0, dR/dz(0) = 1/(k_1 πa²))."""
+        from .spreading import circular_depth_profile
+        zv = np.asarray(zv, dtype=float)
+        R = np.zeros(zv.shape)
+        dR = np.full(zv.shape, 1.0 / (self.ks[0] * math.pi * self.a * self.a))
+        pos = zv > 0
+        if np.any(pos):
+            R[pos], dR[pos] = circular_depth_profile(self.a, self.b, self.ks, self.ts,
+                                                     zv[pos])
+        return R, dR
+
+    def path(self, area: float, w0: float, l0: float) -> tuple[float, float]:
+        """A w × l rectangle of ``area`` grown from the footprint w0 × l0 as a frustum
+        (both sides out by the same amount, capped by the plate): node bookkeeping only."""
+        W, L = self.plate
+        if area <= w0 * l0:
+            f = math.sqrt(area / (w0 * l0))
+            return w0 * f, l0 * f
+        s = 0.5 * (-(w0 + l0) + math.sqrt((w0 - l0) ** 2 + 4.0 * area))
+        w, l = w0 + s, l0 + s
+        if w > W:
+            w, l = W, min(area / W, L)
+        elif l > L:
+            w, l = min(area / L, W), L
+        return w, l
+
+
+def depth_profile(segs: list[_Seg], footprint: tuple[float, float], sink) -> _Profile | None:
+    """The exact steady spreading of a column as a function of depth.
+
+    The column (every element as wide as its widest sized layer, radius b = √(W·L/π);
+    source the equal-area circle a = √(w·l/π); an area resistance r as a layer of the
+    material below of thickness r·k_below) is cut at depth z and the cut held at the sink
+    temperature.  R(z), the mean source rise per watt of that cut stack, is the exact
+    compound-disk series (:func:`pulsetherm.network.spreading.circular_depth_profile`:
+    Yovanovich, Culham & Teertstra 1998; Yovanovich, Muzychka & Culham 1999).  Returns
+    ``None`` when no layer has a size (nothing to spread into).
+    """
+    from .spreading import circular_series
+    sized = [s.cap for s in segs if s.cap is not None]
+    if not segs or not sized:
+        return None
+    W, L = max(sized, key=lambda c: c[0] * c[1])
+    ks, ts = [], []
+    for i, s in enumerate(segs):
+        if isinstance(s.element, AreaResistance):
+            kb = next((x.k_eff for x in segs[i + 1:] if x.material is not None),
+                      next((x.k_eff for x in reversed(segs[:i]) if x.material is not None),
+                           1.0))
+            ks.append(kb)
+            ts.append(s.element.r_area * kb)
+        else:
+            ks.append(s.k_eff)
+            ts.append(s.thickness)
+    b = math.sqrt(W * L / math.pi)
+    a = min(math.sqrt(footprint[0] * footprint[1] / math.pi), b)
+    top = [0.0] + list(np.cumsum(ts)[:-1])
+    prof = _Profile(a, b, ks, ts, top, (W, L), 0.0, 0.0)
+    r_stack = float(prof(np.array([sum(ts)]))[0][0])
+    h = _sink_h(sink, W * L)
+    if math.isinf(h):
+        r_exact = r_stack
+    elif a >= b:
+        r_exact = r_stack + 1.0 / (h * W * L)
+    else:
+        r_exact = circular_series(a, b, ks, ts, h, rtol=1e-7, centre=False).total
+    prof.r_exact, prof.r_stack = r_exact, r_stack
+    return prof
+
+
+def _equivalent_angle(r_layer: float, t: float, w: float, l: float, seg: _Seg) -> float:
+    """Half-angle (degrees) of the frustum from w × l whose resistance through the layer is
+    ``r_layer`` (reported in :class:`LayerInfo`; clamped to [0, 89])."""
+    from scipy.optimize import brentq
+
+    def f(theta: float) -> float:
+        g, _, _ = frustum_sublayer(0.0, t, w, l, math.tan(math.radians(theta)), seg.cap,
+                                   seg.k_eff, 1.0)
+        return 1.0 / g - r_layer
+    lo, hi = f(0.0), f(89.0)
+    if lo <= 0.0:
+        return 0.0
+    if hi >= 0.0:
+        return 89.0
+    return float(brentq(f, 0.0, 89.0, xtol=1e-4))
+
+
+def _profile_sublayers(prof: _Profile, seg: _Seg, zv0: float, z: np.ndarray,
+                       via: tuple[float, float] | None
+                       ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Conductances, top/bottom capacities and face areas of a layer's sub-layers on the
+    equivalent flow area A_eff(z) = 1/(k·dR/dz) of the exact depth profile.
+
+    Sub-layer [z_i, z_{i+1}]: G = 1/(R(z_{i+1}) − R(z_i)) (so the ladder's cumulative
+    resistance equals R(z) at every face), C = ρc·∫A_eff dz split (1 − ξ, ξ) to its faces
+    (6-point Gauss-Legendre).  In a via field of area A_v and conductivity k_v the
+    conduction per unit depth is k·A + (k_v − k)·min(A, A_v), so
+    G = 1/∫ dR/dz · k·A/(k·A + (k_v − k)·min(A, A_v)) dz.
+    """
+    n = len(z) - 1
+    zq = 0.5 * (z[:-1, None] + z[1:, None]) + 0.5 * (z[1:, None] - z[:-1, None]) * _GL6_X
+    wq = 0.5 * (z[1:, None] - z[:-1, None]) * _GL6_W
+    Rf, dRf = prof(zv0 + z)
+    _, dRq = prof(zv0 + zq.ravel())
+    dRq = dRq.reshape(n, -1)
+    A = 1.0 / (seg.k_eff * dRq)
+    if via is None:
+        g = 1.0 / np.diff(Rf)
+    else:
+        kv, av = via
+        q = seg.k_eff * A + (kv - seg.k_eff) * np.minimum(A, av)
+        g = 1.0 / np.sum(wq * dRq * seg.k_eff * A / q, axis=1)
+    xi = (zq - z[:-1, None]) / (z[1:, None] - z[:-1, None])
+    c_bot = seg.rho_c * np.sum(wq * A * xi, axis=1)
+    c_top = seg.rho_c * np.sum(wq * A, axis=1) - c_bot
+    return g, c_top, c_bot, 1.0 / (seg.k_eff * dRf)
+
+
+# --------------------------------------------------------------------------------------
 # calibrated spreading
 # --------------------------------------------------------------------------------------
-_J1_ROOTS_EXACT = 60
-
-
-def _j1_roots(n: int) -> np.ndarray:
-    """First n positive roots of J1: exact for the first 60 (scipy), McMahon's expansion
-    beyond, λ ≈ β − 3/(8β) − 36/(8β)³·(7·4 − 31)/3·... with β = (m + 1/4)π
-    (Abramowitz & Stegun 9.5.12, μ = 4), accurate to ~1e-12 there."""
-    from scipy.special import jn_zeros
-    head = jn_zeros(1, min(n, _J1_ROOTS_EXACT))
-    if n <= _J1_ROOTS_EXACT:
-        return head
-    m = np.arange(_J1_ROOTS_EXACT + 1, n + 1, dtype=float)
-    beta = (m + 0.25) * math.pi
-    mu = 4.0
-    b8 = 8.0 * beta
-    tail = (beta - (mu - 1) / b8 - 4 * (mu - 1) * (7 * mu - 31) / (3 * b8 ** 3)
-            - 32 * (mu - 1) * (83 * mu ** 2 - 982 * mu + 3779) / (15 * b8 ** 5))
-    return np.concatenate([head, tail])
-
-
 def disk_spreading(a: float, b: float, k: Sequence[float], t: Sequence[float],
                    h: float) -> float:
     """Mean-source-temperature resistance R_sp + R_1D of an isoflux circle on a compound
-    disk, K/W (fast form used inside the calibration loop).
-
-    R_sp = Σ 4·J1²(δ_n a)·φ(δ_n) / [π k_1 a² b² δ_n³ J0²(λ_n)], δ_n = λ_n/b, λ_n the roots
-    of J1, φ from :func:`pulsetherm.network.spreading.layer_phi` (Yovanovich, Culham &
-    Teertstra 1998; compound layers: Yovanovich, Muzychka & Culham 1999).  Truncated at
-    N = max(400, 16·b/a) terms with the asymptotic tail Σ_{n>N} ≈ b²/(π⁴ k_1 a³ N²) (terms
-    → 2b²/(π k_1 a³ λ_n³) once φ = 1 and the Bessel functions are asymptotic) added.
-    """
-    from scipy.special import j0, j1
-    from .spreading import layer_phi
-    ks = np.asarray(k, dtype=float)
-    ts = np.asarray(t, dtype=float)
-    A = math.pi * b * b
-    r1d = float(np.sum(ts / ks)) / A + (0.0 if math.isinf(h) else 1.0 / (h * A))
+    disk, K/W: :func:`pulsetherm.network.spreading.circular_series` (Yovanovich, Culham &
+    Teertstra 1998; compound layers: Yovanovich, Muzychka & Culham 1999), average only,
+    rtol 1e-7.  Kept as a short name for the calibration; no series of its own."""
+    from .spreading import circular_series
     if a >= b * (1 - 1e-12):
-        return r1d
-    n = int(min(200_000, max(400, 16.0 * b / a)))
-    lam = _j1_roots(n)
-    d = lam / b
-    phi = layer_phi(d, ks, ts, h)
-    j1a = j1(d * a)
-    terms = 4.0 * j1a ** 2 * phi / (math.pi * ks[0] * a * a * b * b * d ** 3 * j0(lam) ** 2)
-    tail = b * b / (math.pi ** 4 * ks[0] * a ** 3 * n * n)
-    return float(np.sum(terms) + tail + r1d)
+        a = b
+    return circular_series(a, b, k, t, h, rtol=1e-7, centre=False).total
 
 
 def _sink_h(sink, plate_area: float) -> float:

@@ -55,7 +55,7 @@ from scipy.special import j0, j1, jn_zeros
 __all__ = [
     "SpreadingError", "SpreadingResult", "lee_1995", "circular_series",
     "rectangular_series", "half_space_circle", "half_space_rectangle",
-    "layer_phi", "one_d_resistance", "frustum_resistance", "frustum_area",
+    "circular_depth_profile", "layer_phi", "one_d_resistance", "frustum_resistance", "frustum_area",
     "calibrate_angle",
     "effective_area", "HALF_SPACE_CIRCLE_AVG", "HALF_SPACE_SQUARE_AVG",
 ]
@@ -65,7 +65,7 @@ HALF_SPACE_CIRCLE_AVG = 8.0 / (3.0 * math.pi ** 2)
 #: k·√A·R of an isoflux square on a half-space, average temperature (0.4732).
 HALF_SPACE_SQUARE_AVG = (2.0 * math.asinh(1.0) + (2.0 - 2.0 ** 1.5) / 3.0) / math.pi
 
-_MAX_BESSEL_TERMS = 1 << 16
+_MAX_BESSEL_TERMS = 1 << 20
 _CENTRE_BESSEL_TERMS = 1 << 14
 _MAX_RECT_TERMS = 4096
 _CHUNK = 1 << 20   # largest block of double-series terms evaluated at once
@@ -295,15 +295,77 @@ def lee_1995(source_area: float, plate_area: float, k: float, t: float,
 
 
 # -- exact series: circle on a disk -----------------------------------------------------
-@functools.lru_cache(maxsize=4)
+_J1_EXACT_ROOTS = 64
+_MAX_CENTRE_TERMS = 1 << 20
+_TAIL_X, _TAIL_W = np.polynomial.legendre.leggauss(48)
+_TAIL_X = 0.5 * (_TAIL_X + 1.0)     # Gauss-Legendre nodes and weights on [0, 1]
+_TAIL_W = 0.5 * _TAIL_W
+
+
+@functools.lru_cache(maxsize=8)
 def _j1_roots(n: int) -> np.ndarray:
-    roots = jn_zeros(1, n)
-    roots.setflags(write=False)
-    return roots
+    """First n positive roots λ_m of J1 (read-only array).
+
+    The first 64 from :func:`scipy.special.jn_zeros`; beyond, McMahon's expansion
+    (Abramowitz & Stegun 9.5.12, ν = 1, μ = 4ν² = 4) with β = (m + 1/4)π::
+
+        λ_m ≈ β − (μ − 1)/(8β) − 4(μ − 1)(7μ − 31)/[3(8β)³]
+                − 32(μ − 1)(83μ² − 982μ + 3779)/[15(8β)⁵]
+
+    which agrees with the exact roots to about 2e-13 from m = 61 on (checked in
+    tests/test_spreading.py) and costs nothing, where jn_zeros iterates root by root.
+    """
+    head = jn_zeros(1, min(n, _J1_EXACT_ROOTS))
+    if n > _J1_EXACT_ROOTS:
+        m = np.arange(_J1_EXACT_ROOTS + 1, n + 1, dtype=float)
+        beta = (m + 0.25) * math.pi
+        mu = 4.0
+        b8 = 8.0 * beta
+        tail = (beta - (mu - 1.0) / b8 - 4.0 * (mu - 1.0) * (7.0 * mu - 31.0) / (3.0 * b8 ** 3)
+                - 32.0 * (mu - 1.0) * (83.0 * mu ** 2 - 982.0 * mu + 3779.0) / (15.0 * b8 ** 5))
+        head = np.concatenate([head, tail])
+    head.setflags(write=False)
+    return head
+
+
+def _avg_weights(a: float, b: float, n: int) -> tuple[np.ndarray, np.ndarray]:
+    """δ_n = λ_n/b and the source-average weights w_n = 4·J1²(δ_n a)/(π a² b² δ_n³ J0²(λ_n))
+    of the first n modes (R_sp,avg = Σ w_n·φ_n/k_1)."""
+    lam = _j1_roots(n)
+    d = lam / b
+    j1a = j1(d * a)
+    return d, 4.0 * j1a * j1a / (math.pi * a * a * b * b * d ** 3 * j0(lam) ** 2)
+
+
+def _tail_factor(a: float, b: float, n: int) -> tuple[float, np.ndarray]:
+    """Asymptotic tail of the average series past n terms, as a quadrature.
+
+    For large λ: J0²(λ_n) → 2/(πλ_n) and J1²(δa) averages to 1/(πδa), so a term tends to
+    g(λ) = 2b²·φ(λ/b)/(π k_1 a³ λ³); the roots are spaced π apart, so
+    Σ_{m>n} g(λ_m) ≈ (1/π)∫_Λ^∞ g(λ)dλ with Λ = λ_n + π/2 (midpoint rule).  With
+    x = Λ²/λ² (λ⁻³dλ = dx/(2Λ²)) the integral has a smooth integrand on [0, 1]:
+
+        tail = b²/(π² k_1 a³ Λ²) · ∫_0^1 φ(Λ/(b√x)) dx
+
+    (φ = 1 gives the closed form b²/(π⁴ k_1 a³ n²)).  Returns the factor b²/(π² a³ Λ²)
+    and the wavenumbers Λ/(b√x) at the 48 Gauss-Legendre nodes (weights ``_TAIL_W``).
+    """
+    lam_n = float(_j1_roots(n)[-1]) + 0.5 * math.pi
+    return b * b / (math.pi ** 2 * a ** 3 * lam_n ** 2), lam_n / (b * np.sqrt(_TAIL_X))
+
+
+def _avg_sum(a: float, b: float, ks: np.ndarray, ts: np.ndarray, h: float,
+             n: int) -> float:
+    """R_sp,avg from n terms plus the asymptotic tail (:func:`_tail_factor`)."""
+    d, w = _avg_weights(a, b, n)
+    fac, zq = _tail_factor(a, b, n)
+    return float(np.sum(w * _phi(d, ks, ts, h)) + fac * float(_TAIL_W @ _phi(zq, ks, ts, h))) \
+        / float(ks[0])
 
 
 def circular_series(a: float, b: float, k, t, h: float, *,
-                    rtol: float = 1e-7, terms: int | None = None) -> SpreadingResult:
+                    rtol: float = 1e-7, terms: int | None = None,
+                    centre: bool = True) -> SpreadingResult:
     """Exact spreading resistance of a circular isoflux source on a coaxial disk.
 
     Source radius a on a disk (or compound disk) of radius b with an adiabatic rim, layers
@@ -316,7 +378,15 @@ def circular_series(a: float, b: float, k, t, h: float, *,
     φ_n = φ(δ_n) from :func:`layer_phi`; for one layer
     φ_n = [tanh(δ_n t) + kδ_n/h]/[1 + (kδ_n/h)·tanh(δ_n t)].  The centre value follows from
     the same surface temperature, θ(0) = Σ C_n with C_n = 2qaJ1(δ_n a)φ_n/(k b² δ_n² J0²).
-    The average converges as N^-2, the centre as N^-1.5; both are extrapolated.
+
+    Summation.  The average is summed to N = 2^p ≥ 8·b/a terms (beyond n ≈ b/a the terms
+    are asymptotic) and the rest added as the asymptotic tail of :func:`_tail_factor`
+    (terms → 2b²φ(δ)/(π k_1 a³ λ³), summed as an integral over the root density 1/π); the
+    error estimate is the change when N doubles, and N doubles until it is below ``rtol``.
+    The centre series converges as N^-1.5 only and oscillates: it is summed to at least
+    max(N, 16384, 64·b/a) terms and Richardson-extrapolated (R∞ ≈ R_2N + (R_2N −
+    R_N)/(2^1.5 − 1)); its error estimate is reported in ``rel_error_centre`` and never
+    makes the call fail.  ``centre=False`` skips it (the fast path for the average).
 
     Parameters
     ----------
@@ -330,8 +400,11 @@ def circular_series(a: float, b: float, k, t, h: float, *,
     rtol
         Relative tolerance on the average.
     terms
-        Sum exactly this many terms, without extrapolation (to study truncation); the
-        default converges to ``rtol``.
+        Sum exactly this many terms, without tail or extrapolation (to study truncation);
+        the default converges to ``rtol``.
+    centre
+        Also sum the source-centre series (default); ``False`` leaves
+        ``r_spreading_centre`` as ``None``.
 
     References
     ----------
@@ -347,7 +420,8 @@ def circular_series(a: float, b: float, k, t, h: float, *,
     rtol = _pos("rtol", rtol)
     r_1d = one_d_resistance(math.pi * b * b, ks, ts, h)
     if a == b:
-        return SpreadingResult(0.0, r_1d, 0.0, 0, 0.0, "circular_series", 0.0)
+        return SpreadingResult(0.0, r_1d, 0.0 if centre else None, 0, 0.0,
+                               "circular_series", 0.0)
 
     def partial(n: int) -> tuple[float, float]:
         lam = _j1_roots(n)
@@ -356,22 +430,125 @@ def circular_series(a: float, b: float, k, t, h: float, *,
         j1a = j1(d * a)
         w = phi / (math.pi * ks[0] * b * b * d * d * j0(lam) ** 2)
         avg = float(np.sum(4.0 * j1a * j1a * w / (a * a * d)))
-        centre = float(np.sum(2.0 * j1a * w / a))
-        return avg, centre
+        cen = float(np.sum(2.0 * j1a * w / a)) if centre else math.nan
+        return avg, cen
 
-    # Terms become asymptotic once δ_n·a spans several oscillations: n ≈ b/a.
     if terms is not None:
-        return _fixed_terms(partial, terms, _MAX_BESSEL_TERMS, r_1d, "circular_series")
-    n0 = int(min(_MAX_BESSEL_TERMS // 8, max(64, 2 ** math.ceil(math.log2(8 * b / a)))))
-    (avg, _), n, errs = _richardson(partial, n0, _MAX_BESSEL_TERMS, rtol, (2.0, 1.5),
-                                    "circular_series")
+        res = _fixed_terms(partial, terms, _MAX_BESSEL_TERMS, r_1d, "circular_series")
+        if not centre:
+            res = SpreadingResult(res.r_spreading, r_1d, None, res.terms, res.rel_error,
+                                  res.method, 0.0)
+        return res
+    n = int(2 ** math.ceil(math.log2(max(128.0, 4.0 * b / a))))
+    prev = _avg_sum(a, b, ks, ts, h, n)
+    err = math.inf
+    while True:
+        if 2 * n > _MAX_BESSEL_TERMS:
+            raise SpreadingError(
+                f"circular_series: the series did not converge to rtol = {rtol:g} within "
+                f"{_MAX_BESSEL_TERMS} terms (estimated relative error {err:.2g}); the "
+                "source is very small against the plate: relax rtol, or use lee_1995")
+        n *= 2
+        avg = _avg_sum(a, b, ks, ts, h, n)
+        err = abs(avg - prev) / abs(avg)
+        if err <= rtol:
+            break
+        prev = avg
+    if not centre:
+        return SpreadingResult(avg, r_1d, None, n, err, "circular_series", 0.0)
     # The centre series oscillates and converges as N^-1.5 only; terms are cheap, so it is
-    # summed much further than the average needs and extrapolated the same way.
-    nc = max(n, _CENTRE_BESSEL_TERMS)
+    # summed much further than the average needs and extrapolated.
+    nc = int(min(_MAX_CENTRE_TERMS,
+                 max(n, _CENTRE_BESSEL_TERMS, 2 ** math.ceil(math.log2(64.0 * b / a)))))
     c1, c2 = partial(nc // 2)[1], partial(nc)[1]
-    centre = c2 + (c2 - c1) / (2.0 ** 1.5 - 1.0)
-    return SpreadingResult(avg, r_1d, float(centre), n, errs[0], "circular_series",
-                           abs(c2 - c1) / abs(centre) / (2.0 ** 1.5 - 1.0))
+    cen = c2 + (c2 - c1) / (2.0 ** 1.5 - 1.0)
+    return SpreadingResult(avg, r_1d, float(cen), n, err, "circular_series",
+                           abs(c2 - c1) / abs(cen) / (2.0 ** 1.5 - 1.0))
+
+
+def circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = None
+                           ) -> tuple[np.ndarray, np.ndarray]:
+    """Mean source rise R(z) of the compound disk cut at depth z over an isothermal plane,
+    and its depth derivative dR/dz.
+
+    Isoflux circle a on a disk of radius b (adiabatic rim), layers (k_i, t_i) top first;
+    the stack is cut at depth z (0 < z ≤ Σt_i) and the cut held at the sink temperature.
+    With the series of :func:`circular_series` (Yovanovich, Culham & Teertstra 1998;
+    compound layers by the recursion of :func:`layer_phi`, Yovanovich, Muzychka & Culham
+    1999) for the cut stack, i.e. the bottom layer j cut to thickness z − z_j, h = ∞::
+
+        R(z) = Σ_n w_n·φ_n(z)/k_1 + [Σ_{i<j} t_i/k_i + (z − z_j)/k_j]/(πb²)
+        w_n  = 4·J1²(δ_n a)/(π a² b² δ_n³ J0²(λ_n))
+        dR/dz = Σ_n w_n·φ_n'(z)/k_1 + 1/(k_j πb²)
+
+    φ_j = tanh(δ(z − z_j)) in the cut layer, φ_j' = δ·(1 − φ_j²), and upwards
+    φ_i = (T + r)/(1 + rT), r = (k_i/k_{i+1})φ_{i+1}, T = tanh(δt_i), so
+    dφ_i/dz = (k_i/k_{i+1})·(1 − T²)/(1 + rT)²·dφ_{i+1}/dz.
+
+    R(z) is the resistance the stack down to z puts between the source and a plane at z;
+    A_eff(z) = 1/(k(z)·dR/dz) is the area of a 1-D path with the same resistance per unit
+    depth there: the source area at z → 0, the disk area deep down.  The series is summed
+    to N = max(512, 32·b/a) terms (``terms`` overrides) plus the asymptotic tail of
+    :func:`circular_series`.
+
+    Parameters
+    ----------
+    a, b
+        Source and disk radii, m, a ≤ b.
+    k, t
+        Conductivities W/(m·K) and thicknesses m, top layer first.
+    z
+        Depths, m, in (0, Σt], any shape.
+
+    Returns
+    -------
+    R, dRdz
+        Arrays of the shape of ``z``: K/W and K/(W·m).
+    """
+    a = _pos("a", a)
+    b = _pos("b", b)
+    if a > b:
+        raise SpreadingError(f"a = {a!r}: expected a source radius at most the disk radius "
+                             f"b = {b!r}")
+    ks, ts = _layers(k, t)
+    z = np.asarray(z, dtype=float)
+    zb = np.concatenate([[0.0], np.cumsum(ts)])
+    if z.size and not (np.all(np.isfinite(z)) and z.min() > 0
+                       and z.max() <= zb[-1] * (1 + 1e-12)):
+        raise SpreadingError(f"z = {z!r}: expected depths in (0, {zb[-1]:g}] m")
+    zf = np.minimum(z.ravel(), zb[-1])
+    j_of = np.minimum(np.searchsorted(zb, zf, side="right") - 1, ks.size - 1)
+    R = np.empty(zf.size)
+    dR = np.empty(zf.size)
+    cum = np.concatenate([[0.0], np.cumsum(ts / ks)])
+    area = math.pi * b * b
+    one_d = (cum[j_of] + (zf - zb[j_of]) / ks[j_of]) / area
+    one_d_slope = 1.0 / (ks[j_of] * area)
+    if a == b:
+        return one_d.reshape(z.shape), one_d_slope.reshape(z.shape)
+    n = terms if terms is not None else int(max(512, math.ceil(32.0 * b / a)))
+    n = min(n, _MAX_BESSEL_TERMS)
+    d, w = _avg_weights(a, b, n)
+    fac, zq = _tail_factor(a, b, n)
+    dd = np.concatenate([d, zq])
+    ww = np.concatenate([w, fac * _TAIL_W])
+    rows = max(1, _CHUNK // dd.size)
+    for j in range(ks.size):
+        idx = np.flatnonzero(j_of == j)
+        for s in range(0, idx.size, rows):
+            sel = idx[s:s + rows]
+            p = np.tanh(dd[None, :] * (zf[sel, None] - zb[j]))
+            dp = dd[None, :] * (1.0 - p * p)
+            for i in range(j - 1, -1, -1):
+                ratio = ks[i] / ks[i + 1]
+                r = ratio * p
+                th = np.tanh(dd * ts[i])[None, :]
+                den = 1.0 + r * th
+                dp = dp * ratio * (1.0 - th * th) / (den * den)
+                p = (th + r) / den
+            R[sel] = p @ ww / ks[0]
+            dR[sel] = dp @ ww / ks[0]
+    return (R + one_d).reshape(z.shape), (dR + one_d_slope).reshape(z.shape)
 
 
 # -- exact series: rectangle on a rectangular compound channel ---------------------------

@@ -140,12 +140,12 @@ def test_axisym_zth_within_2_percent_of_fem(fem_coarse, mesh_model):
 
 
 def test_ladder_against_fem(fem_coarse):
-    """Calibrated ladder: steady within 10 % of the finite elements.  Zth: the ladder is a
-    1-D path and is measured here against the same reference with a looser 25 % bound
-    (measured about 16 %, largest near 1e-4 s: see the report of issue 4)."""
+    """Calibrated ladder (equivalent flow area from the exact layered series, builder
+    notes): steady and Zth from 1e-5 s to 1 s within 10 % of the finite elements (issue 4;
+    measured −2.3 % steady, worst Zth +5.0 % near 4e-4 s)."""
     m = build(_assembly(), spreading="calibrated")
     fine = FemStack(h=7.5e-6).steady()
     assert m.steady_resistance("pa") == pytest.approx(fine, rel=0.10)
     t = np.logspace(-5, 0, 16)
     zl = np.asarray(m.network.zth("pa.junction", "pa", t=t).K_per_W)
-    assert np.max(np.abs(zl / fem_coarse.zth(t) - 1.0)) < 0.25
+    assert np.max(np.abs(zl / fem_coarse.zth(t) - 1.0)) < 0.10

@@ -13,6 +13,7 @@ from scipy.integrate import quad
 
 from pulsetherm.network.spreading import (HALF_SPACE_CIRCLE_AVG, HALF_SPACE_SQUARE_AVG,
                                           SpreadingError, calibrate_angle,
+                                          circular_depth_profile,
                                           circular_series, effective_area,
                                           frustum_area, frustum_resistance,
                                           half_space_circle,
@@ -348,3 +349,54 @@ def test_isothermal_bottom_and_equal_sizes():
     res = lee_1995(1e-6, 1e-4, 100.0, 1e-3, INF)
     assert res.r_1d == pytest.approx(1e-3 / (100.0 * 1e-4))
     assert res.r_spreading > 0
+
+
+# -- fast average, small sources, depth profile ---------------------------------------------
+def test_j1_roots_beyond_the_exact_head():
+    """McMahon's expansion (Abramowitz & Stegun 9.5.12) past the first 64 roots agrees with
+    scipy's root finder to 1e-11."""
+    from scipy.special import jn_zeros
+    from pulsetherm.network.spreading import _j1_roots
+    np.testing.assert_allclose(_j1_roots(400), jn_zeros(1, 400), rtol=0, atol=1e-11)
+
+
+def test_average_alone_matches_with_centre_and_small_sources_converge():
+    """``centre=False`` gives the same average; a source 1/300 and 1/1000 of the disk
+    radius converges at rtol 1e-4 (no failure from the centre series) and agrees with a
+    tight sum within that tolerance.  Values from this code, no external source."""
+    s, p, t, k, h = CASES["copper-10mm"]
+    a, b = equal_area_radii(s, p)
+    both = circular_series(a, b, k, t, h)
+    avg = circular_series(a, b, k, t, h, centre=False)
+    assert avg.r_spreading == pytest.approx(both.r_spreading, rel=1e-12)
+    assert avg.r_spreading_centre is None
+    for ratio in (300.0, 1000.0):
+        loose = circular_series(3e-3 / ratio, 3e-3, 370.0, 1e-4, INF, rtol=1e-4)
+        tight = circular_series(3e-3 / ratio, 3e-3, 370.0, 1e-4, INF, rtol=1e-8,
+                                centre=False)
+        assert loose.r_spreading == pytest.approx(tight.r_spreading, rel=1e-4)
+        assert loose.rel_error <= 1e-4 and tight.rel_error <= 1e-8
+        assert loose.r_spreading_centre > loose.r_spreading
+
+
+def test_depth_profile_against_cut_stacks():
+    """R(z) is the series of the stack cut at z over an isothermal plane (Yovanovich,
+    Culham & Teertstra 1998; recursion of Yovanovich, Muzychka & Culham 1999): checked
+    against circular_series of the cut stacks; dR/dz against central differences; the
+    equivalent area 1/(k·dR/dz) tends to the source area at the top (common practice, no
+    source)."""
+    ks, ts, a, b = [370.0, 57.0, 190.0], [100e-6, 25e-6, 1e-3], 0.3e-3, 3e-3
+    z = np.array([50e-6, 110e-6, 500e-6, 1.125e-3])
+    R, dR = circular_depth_profile(a, b, ks, ts, z)
+    cuts = [([370.0], [50e-6]), (ks[:2], [100e-6, 10e-6]), (ks, [100e-6, 25e-6, 375e-6]),
+            (ks, ts)]
+    for r, (kc, tc) in zip(R, cuts):
+        assert r == pytest.approx(circular_series(a, b, kc, tc, INF).total, rel=1e-7)
+    hh = 1e-9
+    Rp, _ = circular_depth_profile(a, b, ks, ts, z - hh)
+    Rm, _ = circular_depth_profile(a, b, ks, ts, z - 3 * hh)
+    np.testing.assert_allclose((Rp - Rm) / (2 * hh), dR, rtol=2e-4)
+    _, d0 = circular_depth_profile(a, b, ks, ts, np.array([1e-8]))
+    assert 1.0 / (370.0 * d0[0]) == pytest.approx(math.pi * a * a, rel=1e-3)
+    with pytest.raises(SpreadingError, match="z = "):
+        circular_depth_profile(a, b, ks, ts, np.array([2e-3]))
