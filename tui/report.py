@@ -23,8 +23,7 @@ def _fmt(v: Any, digits: int = 4) -> str:
         a = abs(v)
         if v != 0 and (a >= 1e6 or a < 1e-3):
             return f"{v:.{digits - 1}e}"
-        decimals = 1 if a >= 100 else 2 if a >= 10 else 3
-        return f"{v:.{decimals}f}"
+        return f"{v:.{digits}g}"
     return str(v)
 
 
