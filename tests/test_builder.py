@@ -325,3 +325,24 @@ def test_via_array_from_vias_module_sets_k_z_under_the_footprint():
                          spreading="none").steady_resistance("d")
     assert mk(arr) == pytest.approx(0.8e-3 / (arr.k_z * 16e-6), rel=1e-9)
     assert mk(None) == pytest.approx(0.8e-3 / (0.3 * 16e-6), rel=1e-9)
+
+
+def test_calibrated_path_starts_at_the_source_area():
+    """Calibrated spreading uses the equivalent flow area of the exact series, which is the
+    source area near the source: the early Zth of the copper plate is the semi-infinite
+    surface-flux value, q0 = 1e6 W/m² giving 0.0304 / 0.3039 K at 1 / 100 µs (Carslaw &
+    Jaeger 1959; physics brief §4 [deriv]), within 3 %; the ladder's cumulative resistance
+    to the bottom face is the exact series of the plate over an isothermal plane."""
+    from pulsetherm.network.spreading import circular_series
+    asm = Assembly([Part("d", (1e-2, 1e-2), [Layer(CU, 3e-3, size=(5e-2, 5e-2))])],
+                   mount=Mount(sink=FixedBase()))
+    m = build(asm, spreading="calibrated")
+    z = zth(m, "d", np.array([1e-6, 1e-4]))
+    assert 1e6 * 1e-4 * z == pytest.approx([0.0304, 0.3039], rel=0.03)
+    a, b = 1e-2 / math.sqrt(math.pi), 5e-2 / math.sqrt(math.pi)
+    exact = circular_series(a, b, 390.0, 3e-3, math.inf).total
+    assert m.steady_resistance("d") == pytest.approx(exact, rel=1e-6)
+    res = m.network.steady({"d": 1.0})
+    faces = m.columns["d"].layers[0].nodes
+    drops = [res.T(f) for f in faces]
+    assert np.all(np.diff(drops) < 0)
