@@ -959,12 +959,12 @@ def _profile_sublayers(prof: _Profile, seg: _Seg, zv0: float, z: np.ndarray,
 # --------------------------------------------------------------------------------------
 # calibrated spreading
 # --------------------------------------------------------------------------------------
-def disk_spreading(a: float, b: float, k: Sequence[float], t: Sequence[float],
+def _disk_total(a: float, b: float, k: Sequence[float], t: Sequence[float],
                    h: float) -> float:
     """Mean-source-temperature resistance R_sp + R_1D of an isoflux circle on a compound
     disk, K/W: :func:`pulsetherm.network.spreading.circular_series` (Yovanovich, Culham &
     Teertstra 1998; compound layers: Yovanovich, Muzychka & Culham 1999), average only,
-    rtol 1e-7.  Kept as a short name for the calibration; no series of its own."""
+    rtol 1e-7; a source wider than the disk counts as the whole disk."""
     from .spreading import circular_series
     if a >= b * (1 - 1e-12):
         a = b
@@ -1010,11 +1010,11 @@ def calibrate_angles(segs: list[_Seg], footprint: tuple[float, float], sink,
 
     ``plate="widest"`` (default): every element is taken as wide as the widest sized layer
     of the column and R_ref is the compound-disk series of the whole remaining stack
-    (:func:`disk_spreading`).  Good when the narrow layers on top are thin against their
+    (:func:`_disk_total`).  Good when the narrow layers on top are thin against their
     width (die and attach on a flange: steady within 4 % of the r-z mesh,
     tests/test_fem_crosscheck.py).  ``plate="runs"``: R_ref of a run of consecutive
     elements of one lateral size (the plate) is the
-    compound-disk series (:func:`disk_spreading`, equal-area circles a = √(A/π),
+    compound-disk series (:func:`_disk_total`, equal-area circles a = √(A/π),
     b = √(A_p/π)) over an effective film h = 1/(A_p·R_ref(next run, plate area)) that
     stands for the rest of the stack (a wider layer below sees the run's plate as its
     source): the superposition practice of package spreading estimates.  An area resistance
@@ -1106,7 +1106,7 @@ def calibrate_angles(segs: list[_Seg], footprint: tuple[float, float], sink,
         ks, ts = layer_kt(j, e)
         if reference == "lee" and len(ks) == 1:
             return lee_1995(As, Ap, ks[0], ts[0], h).total
-        return disk_spreading(math.sqrt(As / math.pi), math.sqrt(Ap / math.pi), ks, ts, h)
+        return _disk_total(math.sqrt(As / math.pi), math.sqrt(Ap / math.pi), ks, ts, h)
 
     from scipy.optimize import brentq
     w, l = footprint

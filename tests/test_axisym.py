@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 
 from pulsetherm.network.axisym import build_axisym, compare, radial_grid
-from pulsetherm.network.builder import build, disk_spreading
+from pulsetherm.network.builder import build
 from pulsetherm.network.materials import Material
 from pulsetherm.network.stackup import (Assembly, Film, FixedBase, Layer, Mount, Part,
                                         StackupError)
@@ -64,15 +64,6 @@ def test_slab_transient_matches_series():
     tau = 4 * L * L / ((2 * n + 1) ** 2 * math.pi ** 2 * SI.diffusivity)
     exact = Rn.sum() - np.exp(-np.outer(t, 1 / tau)) @ Rn
     assert np.max(np.abs(m.zth(t) / exact - 1)) < 0.01
-
-
-def test_disk_spreading_fast_form_matches_module_series():
-    """The calibration's fast series equals the exact series of spreading.py (0.14185 for
-    the copper plate of physics brief §3)."""
-    from pulsetherm.network.spreading import circular_series
-    a, b = math.sqrt(1e-4 / math.pi), math.sqrt(25e-4 / math.pi)
-    ref = circular_series(a, b, 390.0, 3e-3, 1e4).total
-    assert disk_spreading(a, b, [390.0], [3e-3], 1e4) == pytest.approx(ref, rel=1e-6)
 
 
 def test_compare_reports_ladder_against_mesh():
