@@ -15,7 +15,8 @@ from .simulate import RunResult, simulate, thermal_impedance
 from .simulate import build as build_scenario
 from .sizing import SizingError, SizingResult, size
 from .solvers import SOLVERS, RawResponse, Solver, SolverError, resolve_solver
-from .spreading import (SpreadingError, SpreadingResult, calibrate_angle, circular_series,
+from .spreading import (SpreadingError, SpreadingResult, calibrate_angle, circular_depth_profile,
+                        circular_series,
                         frustum_resistance, lee_1995, rectangular_series)
 from .stackup import (AreaResistance, Assembly, Board, Film, FixedBase, Layer, LumpedSink,
                       Mount, Part, StackupError)
@@ -32,7 +33,7 @@ __all__ = [
     "MicrostripError", "NetworkError", "PointHeater", "PulsedZth", "RFLine", "Response",
     "SpreadingError", "SpreadingResult", "StructureFunction", "ThermalNetwork",
     "ThermalSystem", "UnitError", "Via", "ViaArray", "ViaError", "ZthCurve",
-    "calibrate_angle", "circular_series", "default_library", "fit_foster", "format_quantity",
+    "calibrate_angle", "circular_depth_profile", "circular_series", "default_library", "fit_foster", "format_quantity",
     "frustum_resistance", "lee_1995", "parse_quantity", "parse_range", "rectangular_series",
     "structure_function", "Scenario", "ScenarioError", "dumps", "load", "loads", "save",
     "RunResult", "simulate", "thermal_impedance", "build_scenario", "SizingError",
