@@ -972,13 +972,15 @@ def _disk_total(a: float, b: float, k: Sequence[float], t: Sequence[float],
 
 
 def _sink_h(sink, plate_area: float) -> float:
-    """The sink as a film coefficient under a plate of ``plate_area`` (m²)."""
-    if isinstance(sink, FixedBase):
+    """The sink as a film coefficient under a plate of ``plate_area`` (m²).
+
+    A fixed base, a lumped sink and a film over a sink body of its own area (a finned sink)
+    all present one node, one temperature, to the plate: its bottom face is isothermal for
+    the spreading calculation (h = ∞) and the sink's own resistance follows in series
+    (:func:`_sink_r`).  Only a film directly on the plate (no body area) spreads as a film.
+    """
+    if isinstance(sink, (FixedBase, LumpedSink)) or sink.area is not None:
         return math.inf
-    if isinstance(sink, LumpedSink):
-        return 1.0 / (sink.resistance * plate_area)
-    if sink.area is not None:
-        return sink.h * sink.area / plate_area
     return sink.h
 
 
