@@ -10,8 +10,8 @@ import pytest
 from pulsetherm.network.axisym import build_axisym, compare, radial_grid
 from pulsetherm.network.builder import build
 from pulsetherm.network.materials import Material
-from pulsetherm.network.stackup import (Assembly, Film, FixedBase, Layer, Mount, Part,
-                                        StackupError)
+from pulsetherm.network.stackup import (Assembly, Film, FixedBase, Layer, LumpedSink, Mount,
+                                        Part, StackupError)
 
 CU = Material(name="cu-390", k=390.0, rho=8933.0, c=385.0)   # physics brief §3
 K150 = Material(name="k150", k=150.0, rho=3210.0, c=690.0)
@@ -88,3 +88,14 @@ def test_datasheet_part_refused():
     asm = Assembly([Part("d", 1e-3, foster=Foster([1.0], [1e-3]))])
     with pytest.raises(StackupError, match="data-sheet"):
         build_axisym(asm)
+
+
+@pytest.mark.parametrize("sink", [FixedBase(), LumpedSink(0.5, 10.0, 25.0)],
+                         ids=["fixed", "lumped"])
+def test_calibrated_ladder_follows_the_mesh_on_one_temperature_sinks(sink):
+    """A lumped sink is one node: the plate's bottom is isothermal and the sink resistance adds
+    in series, in the ladder as in the r-z mesh (common practice, no source)."""
+    asm = Assembly([Part("d", 2e-3, [Layer("sic-4h", 1e-4, size=3e-3),
+                                     Layer(CU, 2e-3, size=2e-2)])], mount=Mount(sink=sink))
+    c = compare(build(asm, spreading="calibrated"), t=np.logspace(-5, 1, 7), radial_cells=8)
+    assert abs(c.steady_difference) < 0.03
