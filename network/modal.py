@@ -86,6 +86,99 @@ def _psi(k: int, lam: np.ndarray, s) -> np.ndarray:
     return s ** (k + 1) * gk(k, lam * s)
 
 
+def _gks(x: np.ndarray, kmax: int) -> list[np.ndarray]:
+    """[g_0(x), ..., g_kmax(x)] in one pass (the same values as :func:`gk`: series for
+    x < 0.1, else the recursion g_{k+1} = (1/(k+1)! − g_k)/x from g₀ = −expm1(−x)/x)."""
+    x = np.asarray(x, dtype=np.float64)
+    small = x < 0.1
+    if not small.any():
+        g = -np.expm1(-x) / x
+        out = [g]
+        for kk in range(kmax):
+            g = (1.0 / _FACT[kk + 1] - g) / x
+            out.append(g)
+        return out
+    if small.all():
+        return [gk(k, x) for k in range(kmax + 1)]
+    out = [np.empty_like(x) for _ in range(kmax + 1)]
+    xs = x[small]
+    for k in range(kmax + 1):
+        out[k][small] = gk(k, xs)
+    big = ~small
+    xb = x[big]
+    g = -np.expm1(-xb) / xb
+    out[0][big] = g
+    for kk in range(kmax):
+        g = (1.0 / _FACT[kk + 1] - g) / xb
+        out[kk + 1][big] = g
+    return out
+
+
+def _phis(lam: np.ndarray, s, kmax: int) -> list[np.ndarray]:
+    """[e^{−λs}, ψ₀(λ, s), ..., ψ_kmax(λ, s)] broadcasting λ against s (one g-pass)."""
+    s = np.asarray(s, dtype=np.float64)
+    x = lam * s
+    g = _gks(x, kmax)
+    out = [np.exp(-x)]
+    sp = s
+    for k in range(kmax + 1):
+        out.append(sp * g[k])
+        sp = sp * s
+    return out
+
+
+def _bracketed_newton(fun, a: np.ndarray, b: np.ndarray, fa: np.ndarray | None = None,
+                      fb: np.ndarray | None = None, xtol=0.0, max_iter: int = 200) -> np.ndarray:
+    """Roots of many scalar functions at once, each bracketed: f(a) > 0 > f(b).
+
+    ``fun(x) -> (f, f')`` evaluates all of them (arrays); ``fa``/``fb`` are f at the
+    bracket ends when known.  The start is the secant point of the bracket; then Newton
+    steps, replaced by bisection whenever a step leaves the bracket or fails to halve the
+    previous one (safeguarded Newton, W. H. Press et al., *Numerical Recipes*, 3rd ed.,
+    2007, §9.4 "rtsafe").  The bracket shrinks every step; iteration stops when a step is
+    below ``xtol`` (absolute, per root) or 4 ulp of x, or f is exactly 0.
+    """
+    a = np.array(a, dtype=np.float64)
+    b = np.array(b, dtype=np.float64)
+    if fa is None:
+        fa, _ = fun(a)
+    if fb is None:
+        fb, _ = fun(b)
+    x = a - fa * (b - a) / (fb - fa)
+    x = np.where(np.isfinite(x) & (x > np.minimum(a, b)) & (x < np.maximum(a, b)), x,
+                 0.5 * (a + b))
+    fx, dfx = fun(x)
+    a = np.where(fx > 0, x, a)
+    b = np.where(fx > 0, b, x)
+    done = fx == 0
+    dx_old = np.abs(b - a)
+    eps4 = 4.0 * np.finfo(np.float64).eps
+    for _ in range(max_iter):
+        if done.all():
+            break
+        with np.errstate(divide="ignore", invalid="ignore"):
+            xn = x - fx / dfx
+        lo, hi = np.minimum(a, b), np.maximum(a, b)
+        bad = ~np.isfinite(xn) | (xn < lo) | (xn > hi) | (np.abs(xn - x) > 0.5 * dx_old)
+        xn = np.where(bad, 0.5 * (a + b), xn)
+        step = np.abs(xn - x)
+        dx_old = np.where(bad, np.abs(b - a), step)
+        tol = np.maximum(eps4 * np.maximum(np.abs(x), 1e-300), xtol)
+        conv = ~done & (step <= tol)
+        done = done | conv
+        xn = np.where(done, x, xn)
+        if done.all():
+            break
+        fn, dfn = fun(xn)
+        pos = fn > 0
+        a = np.where(~done & pos, xn, a)
+        b = np.where(~done & ~pos, xn, b)
+        done = done | (fn == 0) | (np.abs(b - a) <= np.maximum(
+            eps4 * np.maximum(np.abs(xn), 1e-300), xtol))
+        x, fx, dfx = xn, fn, dfn
+    return x
+
+
 class ModalSolver:
     """Exact modal solver for linear networks (registered as ``"modal"``).
 
@@ -321,14 +414,24 @@ class ModalSolver:
         if store and N * INTERIOR_POINTS <= SAMPLE_BUDGET:
             tau_f = self._fast_tau(Pp)
             h = np.diff(edges)
-            for k in range(N):
-                lo = max(tau_f / 4.0, h[k] * 1e-6)
-                if lo < h[k] / 8:
-                    s = np.geomspace(lo, h[k], INTERIOR_POINTS + 1)[:-1]
-                else:
-                    s = np.linspace(0, h[k], INTERIOR_POINTS // 2 + 2)[1:-1]
-                t_list.append(edges[k] + s)
-                v_list.append(self._eval_seg(starts[:, k], s, level[k], slope[k], Pp, Dp))
+            lo = np.maximum(tau_f / 4.0, h * 1e-6)
+            geo = lo < h / 8
+            # log-spaced offsets lo .. h (end excluded) or evenly spaced interior points,
+            # all segments evaluated in one call
+            u = np.arange(INTERIOR_POINTS) / INTERIOR_POINTS
+            with np.errstate(divide="ignore", invalid="ignore"):
+                sg = lo[:, None] * (h / lo)[:, None] ** u[None, :]
+            ne = INTERIOR_POINTS // 2
+            sl = h[:, None] * (np.arange(1, ne + 1) / (ne + 1))[None, :]
+            kg = np.repeat(np.flatnonzero(geo), INTERIOR_POINTS)
+            kl = np.repeat(np.flatnonzero(~geo), ne)
+            ks = np.concatenate([kg, kl])
+            ss = np.concatenate([sg[geo].ravel(), sl[~geo].ravel()])
+            if ks.size:
+                q, _, _ = self._seg_states(starts[:, ks], ss, level[ks], slope[ks])
+                self.n_eval += ks.size
+                t_list.append(edges[ks] + ss)
+                v_list.append((Pp @ q).T + (level[ks] + ss[:, None] * slope[ks]) @ Dp.T)
         # right limits at edges where a massless probe jumps with the power
         if np.any(Dp != 0):
             jump = np.flatnonzero(np.any((level[1:] - (level[:-1] + slope[:-1] *
@@ -359,12 +462,28 @@ class ModalSolver:
         return (np.exp(-lam * s) * q0 + _psi(0, lam, s) * (self.W @ lvl)
                 + _psi(1, lam, s) * (self.W @ slp))
 
+    def _seg_states(self, q0s: np.ndarray, s: np.ndarray, lvl: np.ndarray, slp: np.ndarray):
+        """Modal state and its first two time derivatives inside segments, for many
+        (start state, offset) pairs at once: q0s (modes, c), s (c,), lvl/slp (c, m).
+
+        q(s) = e^{−λs} q₀ + ψ₀ Wa + ψ₁ Wb,  q' = −λ q + Wa + Wb s,  q'' = −λ q' + Wb."""
+        lam = self.lam[:, None]
+        e, p0, p1 = _phis(lam, s[None, :], 1)
+        Wa = self.W @ lvl.T
+        Wb = self.W @ slp.T
+        q = e * q0s + p0 * Wa + p1 * Wb
+        dq = -lam * q + Wa + Wb * s[None, :]
+        return q, dq, -lam * dq + Wb
+
     def _refine(self, t, v, q0, edges, level, slope, starts, store, Pp, Dp, top: int = 2):
         """Locate each probe's maximum and minimum exactly in the segments around its best
         samples: where the closed-form slope changes sign inside a bracket of neighbouring
-        samples, its root (Brent) is the extreme; it is added as a sample for every probe."""
+        samples, its root is the extreme; it is added as a sample for every probe.
+
+        The roots of all brackets (every probe, maximum and minimum) are found together by
+        a safeguarded Newton iteration on the closed-form slope dθ/ds = Pp·q'(s) + Dp·b with
+        its exact derivative Pp·q''(s) (:func:`_bracketed_newton`)."""
         N = edges.size - 1
-        extra_t = []
         cache: dict[int, np.ndarray] = {}
 
         def start(k):
@@ -372,8 +491,10 @@ class ModalSolver:
                 cache[k] = self._segment_start(k, edges, level, slope, starts, store)
             return cache[k]
 
+        kk = np.clip(np.searchsorted(edges, t, side="right") - 1, 0, N - 1)
+        at_edge = (t == edges[kk]) & (kk > 0)
+        cand_j, cand_sign, cand_k, cand_a, cand_b = [], [], [], [], []
         for j in range(v.shape[1]):
-            Pj, Dj = Pp[j], Dp[j]
             for sign in (1.0, -1.0):
                 col = sign * v[:, j]
                 order = np.argsort(col)[::-1]
@@ -381,10 +502,10 @@ class ModalSolver:
                 for i in order[:4 * top]:
                     lo_i, hi_i = max(i - 1, 0), min(i + 1, t.size - 1)
                     segs = set()
-                    for ti in (t[lo_i], t[i], t[hi_i]):
-                        k = int(np.clip(np.searchsorted(edges, ti, side="right") - 1, 0, N - 1))
+                    for ii in (lo_i, i, hi_i):
+                        k = int(kk[ii])
                         segs.add(k)
-                        if ti == edges[k] and k > 0:
+                        if at_edge[ii]:
                             segs.add(k - 1)
                     segs -= seen
                     for k in sorted(segs):
@@ -393,26 +514,44 @@ class ModalSolver:
                         b = min(t[hi_i], edges[k + 1]) - edges[k]
                         if b <= a:
                             a, b = 0.0, edges[k + 1] - edges[k]
-                        q = start(k)
-
-                        def fp(s, q=q, k=k):
-                            return sign * self._slope_seg(q, s, level[k], slope[k], Pj, Dj)
-
-                        fa, fb = fp(a), fp(b)
-                        if fa > 0 > fb:
-                            s_star = brentq(fp, a, b, xtol=max((b - a) * 1e-14, 1e-300),
-                                            rtol=1e-15)
-                            extra_t.append((k, float(s_star)))
+                        cand_j.append(j)
+                        cand_sign.append(sign)
+                        cand_k.append(k)
+                        cand_a.append(a)
+                        cand_b.append(b)
                     if len(seen) >= 2 * top:
                         break
-        if not extra_t:
+        if not cand_k:
             return t, v
-        tt, vv = [], []
-        for k, s in extra_t:
-            tt.append(edges[k] + s)
-            vv.append(self._eval_seg(start(k), s, level[k], slope[k], Pp, Dp)[0])
-        t = np.concatenate([t, tt])
-        v = np.vstack([v, np.array(vv)])
+        cj = np.array(cand_j)
+        sg = np.array(cand_sign)
+        ck = np.array(cand_k)
+        q0s = np.stack([start(int(k)) for k in ck], axis=1)
+        lv, sl = level[ck], slope[ck]
+        Pj, Dj = Pp[cj], Dp[cj]
+        direct = np.sum(Dj * sl, axis=1)
+
+        def fp(sel, s):
+            _, dq, d2q = self._seg_states(q0s[:, sel], s, lv[sel], sl[sel])
+            f = sg[sel] * (np.einsum("cm,mc->c", Pj[sel], dq) + direct[sel])
+            return f, sg[sel] * np.einsum("cm,mc->c", Pj[sel], d2q)
+
+        a = np.array(cand_a)
+        b = np.array(cand_b)
+        allc = np.arange(ck.size)
+        fa, _ = fp(allc, a)
+        fb, _ = fp(allc, b)
+        ok = np.flatnonzero((fa > 0) & (fb < 0))
+        if ok.size == 0:
+            return t, v
+        s_star = _bracketed_newton(lambda s: fp(ok, s), a[ok], b[ok], fa[ok], fb[ok],
+                                   xtol=np.maximum((b[ok] - a[ok]) * 1e-14, 1e-300))
+        k_ok = ck[ok]
+        q, _, _ = self._seg_states(q0s[:, ok], s_star, lv[ok], sl[ok])
+        vv = (Pp @ q).T + (lv[ok] + s_star[:, None] * sl[ok]) @ Dp.T
+        self.n_eval += ok.size
+        t = np.concatenate([t, edges[k_ok] + s_star])
+        v = np.vstack([v, vv])
         order = np.argsort(t, kind="stable")
         return t[order], v[order]
 
@@ -611,48 +750,60 @@ class ModalSolver:
         return z + np.where(t > 0, d, 0.0)
 
     def warmup_crossing(self, edges, level, slope, row: int, target_rise: float,
-                        phase_t: np.ndarray, phase_v: np.ndarray, initial=None) -> float:
+                        phase_t: np.ndarray, phase_v: np.ndarray, initial=None,
+                        q_ps: np.ndarray | None = None) -> float:
         """First time (s) at which the probe's rise over the static field reaches
         ``target_rise`` when the periodic drive starts from ``initial`` (None: ambient).
 
         From the start state the response is the periodic one plus a decaying part,
-        θ(t) = θ_ps(t mod T) + Σ_i Φ_i e^{−λ_i t} (q0 − q_ps)_i, so whole periods are
-        jumped; the first period with a sample over the target is found by bisection (the
-        rise per phase grows monotonically with n for non-negative power from ambient: the
-        system is positive, its matrix exponential has no negative entries), then the
-        crossing time by Brent's method on the closed form.
-        ``phase_t``/``phase_v`` are the periodic samples (times in [0, T], rises in K).
+        θ(t) = θ_ps(t mod T) + Σ_i a_i e^{−λ_i t},  a_i = Φ_i (q0 − q_ps)_i,
+        so whole periods are jumped: at the sample phases s_j of period n the decaying part
+        is Σ_i a_i e^{−λ_i s_j}·(e^{−λ_i T})ⁿ, one matrix product for many n at once.  The
+        first period with a sample over the target is found by a vectorised search over n
+        (doubling, then 64-point grids; the rise per phase grows monotonically with n for
+        non-negative power from ambient: the system is positive, its matrix exponential has
+        no negative entries), then the crossing time by a safeguarded Newton iteration on
+        the closed form, whose time derivative is exact too.
+        ``phase_t``/``phase_v`` are the periodic samples (times in [0, T], rises in K);
+        ``q_ps`` the periodic start state when already known.
         """
-        T = edges[-1]
-        q_ps = self.periodic_start(edges, level, slope)
+        T = float(edges[-1])
+        if q_ps is None:
+            q_ps = self.periodic_start(edges, level, slope)
         dq = self.q_from_state(initial) - q_ps
         a = self.Phi[row] * dq                        # decaying amplitudes
         lam = self.lam
+        phase_t = np.asarray(phase_t, dtype=np.float64)
+        phase_v = np.asarray(phase_v, dtype=np.float64)
+        M = np.exp(-np.multiply.outer(phase_t, lam)) * a[None, :]   # (phases, modes)
 
-        def dev(t):
-            return np.exp(-np.multiply.outer(np.atleast_1d(t), lam)) @ a
+        def first_over(nn: np.ndarray) -> np.ndarray:
+            """Whether period n (float array) has a sample at or over the target."""
+            decay = np.exp(-np.multiply.outer(lam * T, nn))          # (modes, len(nn))
+            return np.max(phase_v[:, None] + M @ decay, axis=0) >= target_rise
 
-        def max_in_period(n):
-            return np.max(phase_v + dev(n * T + phase_t))
-
-        if max_in_period(0) >= target_rise:
+        if first_over(np.array([0.0]))[0]:
             n = 0
         else:
-            # upper bracket
-            hi = 1
-            while max_in_period(hi) < target_rise:
-                hi *= 2
-                if hi > 2 ** 60:
-                    return math.inf
-            lo = hi // 2
+            pw = 2.0 ** np.arange(61)
+            hit = np.flatnonzero(first_over(pw))
+            if hit.size == 0:
+                return math.inf
+            hi = int(pw[hit[0]])
+            lo = hi // 2 if hit[0] > 0 else 0
+            # invariant: period lo is below the target, period hi reaches it
             while hi - lo > 1:
-                mid = (lo + hi) // 2
-                if max_in_period(mid) >= target_rise:
-                    hi = mid
+                grid = np.unique(np.linspace(lo, hi, min(hi - lo + 1, 66)).astype(np.int64))
+                inner = grid[(grid > lo) & (grid < hi)]
+                ok = first_over(inner.astype(np.float64))
+                over = np.flatnonzero(ok)
+                if over.size:
+                    hi = int(inner[over[0]])
+                    lo = int(inner[over[0] - 1]) if over[0] > 0 else lo
                 else:
-                    lo = mid
+                    lo = int(inner[-1])
             n = hi
-        vals = phase_v + dev(n * T + phase_t)
+        vals = phase_v + M @ np.exp(-lam * T * n)
         i = int(np.flatnonzero(vals >= target_rise)[0])
         if i == 0 and n == 0:
             return 0.0
@@ -662,25 +813,38 @@ class ModalSolver:
             ta, tb = n * T + phase_t[i - 1], n * T + phase_t[i]
         if tb <= ta:
             return float(tb)
-        q_hist = {}
+        # the periodic part in closed form inside the segment holding the bracket
+        mid = 0.5 * (ta + tb)
+        ph_mid = mid - math.floor(mid / T) * T
+        k = int(np.clip(np.searchsorted(edges, ph_mid, side="right") - 1, 0, edges.size - 2))
+        t_k = math.floor(mid / T) * T + edges[k]      # absolute start of that segment
+        q_k = self._start_of(q_ps, k, edges, level, slope)[:, None]
+        lv, sl = level[k:k + 1], slope[k:k + 1]
+        P_row, D_row = self.Phi[row], self.Dp[row]
+        d_dir = float(D_row @ level[k]), float(D_row @ slope[k])
 
         def theta(tt):
-            # periodic part in closed form inside its segment, plus the decaying part
-            ph = tt - math.floor(tt / T) * T
-            k = int(np.clip(np.searchsorted(edges, ph, side="right") - 1, 0, edges.size - 2))
-            if k not in q_hist:
-                q = q_ps
-                q_hist[k] = self._start_of(q, k, edges, level, slope)
-            v = self._eval_seg(q_hist[k], ph - edges[k], level[k], slope[k],
-                               self.Phi[row:row + 1], self.Dp[row:row + 1])[0, 0]
-            return v + dev(tt)[0] - target_rise
+            tt = np.atleast_1d(tt)
+            s = tt - t_k
+            q, dq, _ = self._seg_states(np.repeat(q_k, tt.size, axis=1), s,
+                                        np.repeat(lv, tt.size, axis=0),
+                                        np.repeat(sl, tt.size, axis=0))
+            ed = np.exp(-np.multiply.outer(tt, lam)) * a[None, :]
+            f = P_row @ q + d_dir[0] + d_dir[1] * s + ed.sum(axis=1) - target_rise
+            df = P_row @ dq + d_dir[1] - ed @ lam
+            return f, df
 
-        fa, fb = theta(ta), theta(tb)
-        if fa >= 0:
+        fa, _ = theta(ta)
+        fb, _ = theta(tb)
+        if fa[0] >= 0:
             return float(ta)
-        if fb < 0:
+        if fb[0] < 0:
             return float(tb)
-        return float(brentq(theta, ta, tb, xtol=1e-15 * max(tb, 1e-300), rtol=1e-15))
+        # root of −θ + target (positive at ta, negative at tb)
+        root = _bracketed_newton(lambda x: tuple(-y for y in theta(x)),
+                                 np.array([ta]), np.array([tb]), -fa, -fb,
+                                 xtol=1e-15 * max(tb, 1e-300))
+        return float(root[0])
 
     def _start_of(self, q: np.ndarray, k: int, edges, level, slope) -> np.ndarray:
         """State at the start of segment k from the period-start state q (vectorised

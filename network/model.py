@@ -438,14 +438,16 @@ class ThermalNetwork:
                                 method=getattr(solver, "name", str(method)), energy_in=e_in,
                                 span=T, ambient_K=ambient)
         if hasattr(solver, "warmup_crossing"):
-            def warmup():
-                out = {}
-                for j, r in enumerate(rows):
-                    rise = raw.theta[:, j] - ambient[r]
-                    target = warmup_fraction * float(rise.max())
-                    out[sys_.node_names[r]] = solver.warmup_crossing(
-                        edges, level, slope, int(r), target, raw.t, rise)
-                return out
+            q_ps = raw.info.get("q_start")
+
+            def warmup(name):
+                # one probe at a time, on first access (Response.warmup_s is lazy)
+                j = res.probes.index(name)
+                r = int(rows[j])
+                rise = raw.theta[:, j] - ambient[r]
+                target = warmup_fraction * float(rise.max())
+                return solver.warmup_crossing(edges, level, slope, r, target, raw.t, rise,
+                                              q_ps=q_ps)
             res.warmup_fn = warmup
         return res
 

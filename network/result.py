@@ -16,6 +16,7 @@ from __future__ import annotations
 import csv
 import io
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -77,7 +78,8 @@ class Response:
         The period (periodic) or the run duration, s.
     warmup_s
         Probe -> time to reach 99 % of the periodic-steady-state peak rise from ambient, s
-        (periodic responses; ``None`` otherwise).  Computed on first access.
+        (periodic responses; ``None`` otherwise).  A mapping computed per probe on first
+        access (``warmup_fn(probe)``).
     energy_error
         Relative energy imbalance (NaN when the solver gave no full-state mean, or for a
         nonlinear system whose solver does not balance the energy itself).
@@ -137,7 +139,7 @@ class Response:
         if self.warmup_fn is None:
             return None
         if not hasattr(self, "_warmup"):
-            self._warmup = dict(self.warmup_fn())
+            self._warmup = _LazyWarmup(self.probes, self.warmup_fn)
         return self._warmup
 
     def _col(self, name: str) -> int:
@@ -248,3 +250,29 @@ class Response:
         kind = "periodic" if self.periodic else "transient"
         return (f"<Response {kind} {self.span:.4g} s, probes {list(self.probes)[:4]}"
                 f"{'...' if len(self.probes) > 4 else ''}, {self.t.size} samples>")
+
+
+class _LazyWarmup(Mapping):
+    """Probe -> warm-up time, s: each computed on first access by ``fn(probe)`` (a sweep
+    needs only the hottest probe's)."""
+
+    def __init__(self, probes, fn) -> None:
+        self._probes = tuple(dict.fromkeys(probes))
+        self._fn = fn
+        self._done: dict[str, float] = {}
+
+    def __getitem__(self, name: str) -> float:
+        if name not in self._done:
+            if name not in self._probes:
+                raise KeyError(name)
+            self._done[name] = float(self._fn(name))
+        return self._done[name]
+
+    def __iter__(self):
+        return iter(self._probes)
+
+    def __len__(self) -> int:
+        return len(self._probes)
+
+    def __repr__(self) -> str:
+        return repr(dict(self))
