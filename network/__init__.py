@@ -7,6 +7,7 @@ from .lines import BuiltLine, LineError, LineReport, PointHeater, RFLine
 from .materials import Material, MaterialError, MaterialLibrary, default_library
 from .microstrip import HurayRoughness, Microstrip, MicrostripError
 from .modal import ModalSolver
+from .nonlinear import NonlinearSolver, ThermalRunawayError
 from .model import InputSpec, NetworkError, SteadyResult, ThermalNetwork
 from .report import StackReport, stack_report
 from .result import Response
@@ -14,6 +15,7 @@ from .scenario import Scenario, ScenarioError, dumps, load, loads, save
 from .simulate import RunResult, simulate, thermal_impedance
 from .simulate import build as build_scenario
 from .sizing import SizingError, SizingResult, size
+from .sparse import SparseSolver
 from .solvers import SOLVERS, RawResponse, Solver, SolverError, resolve_solver
 from .spreading import (SpreadingError, SpreadingResult, calibrate_angle, circular_depth_profile,
                         circular_series,
@@ -42,5 +44,5 @@ __all__ = [
     "Part", "StackupError", "FIDELITY", "BuiltModel", "Grading", "build", "AxisymModel",
     "Comparison", "build_axisym", "compare", "StackReport", "stack_report",
     "InputSpec", "ModalSolver", "RawResponse", "SOLVERS", "Solver", "SolverError",
-    "SteadyResult", "resolve_solver",
+    "SteadyResult", "resolve_solver", "NonlinearSolver", "ThermalRunawayError", "SparseSolver",
 ]
