@@ -71,3 +71,31 @@ def test_vias_and_thinner_interface_never_raise_a_junction(ks, kv, tim, thin, sp
     r2 = _rises(_assembly(ks, tim * thin, None, spread), spread)
     assert _le(r1, r0)
     assert _le(r2, r0)
+
+
+def _single(ks, tim, vias, spread):
+    """Part ``a`` alone on the board: one heat source, every node temperature, degC."""
+    full = _assembly(ks, tim, vias, spread)
+    asm = Assembly([full.parts[0]], full.board, full.mount)
+    m = build(asm, spreading=spread, t_min=1e-5, fidelity="coarse")
+    return m.network.steady({"a": 1.0}).temperatures
+
+
+@settings(max_examples=5, deadline=None)
+@given(ks=ks, which=st.integers(0, 4), factor=st.floats(1.05, 4.0),
+       tim=st.floats(20e-6, 100e-6), thin=st.floats(0.2, 0.9), kv=st.floats(2.0, 40.0),
+       spread=st.sampled_from(["angle", "none", "calibrated"]))
+def test_one_source_no_node_gets_warmer(ks, which, factor, tim, thin, kv, spread):
+    """With one heated part every steady temperature of its column is the heat times the
+    resistance from that node to the sink, which no added conductance can raise (Rayleigh's
+    monotonicity law, Doyle & Snell 1984, ch. 1.4)."""
+    t0 = _single(ks, tim, None, spread)
+    ks2 = list(ks)
+    ks2[which] *= factor
+    for t1, moved in ((_single(tuple(ks2), tim, None, spread), ""),
+                      (_single(ks, tim, max(kv, ks[4] * 1.01), spread), ""),
+                      (_single(ks, tim * thin, None, spread), "mount-tim")):
+        # nodes inside a thinned layer sit at other depths: compare the rest
+        common = {n for n in t0.keys() & t1.keys() if not (moved and moved in n)}
+        assert len(common) >= 0.75 * len(t0)
+        assert all(t1[n] <= t0[n] + 1e-9 * (1 + abs(t0[n])) for n in common)
