@@ -28,6 +28,7 @@ from functools import cached_property
 import networkx as nx
 import numpy as np
 import scipy.sparse as sp
+import scipy.linalg as sla
 import scipy.sparse.linalg as spla
 
 from .system import KELVIN_OFFSET, ThermalSystem
@@ -126,7 +127,7 @@ def _components(system: ThermalSystem, mask: np.ndarray) -> list[np.ndarray]:
     idx = np.flatnonzero(mask)
     if idx.size == 0:
         return []
-    sub = system.G[idx][:, idx]
+    sub = system.G if idx.size == system.n else system.G[idx][:, idx]
     ncomp, lab = sp.csgraph.connected_components(sub, directed=False)
     return [idx[lab == k] for k in range(ncomp)]
 
@@ -161,6 +162,36 @@ def _cached(system: ThermalSystem) -> dict:
         return d
 
 
+#: Networks up to this many free nodes use dense LU and a plain union-find (scipy's sparse
+#: machinery costs more in set-up than the whole solve below this size).
+SMALL_N = 256
+
+
+def _free_components(system: ThermalSystem) -> list[np.ndarray]:
+    """Connected groups of all free nodes (through free-free conductances): a union-find
+    over the edge list for small networks (R. E. Tarjan, "Efficiency of a good but not
+    linear set union algorithm", J. ACM 22(2), 1975), scipy's csgraph otherwise."""
+    n = system.n
+    if n > SMALL_N:
+        return _components(system, np.ones(n, dtype=bool))
+    parent = list(range(n))
+
+    def find(i):
+        while parent[i] != i:
+            parent[i] = parent[parent[i]]
+            i = parent[i]
+        return i
+
+    ei, ej = system.edge_i, system.edge_j
+    ff = ej < n
+    for i, j in zip(ei[ff].tolist(), ej[ff].tolist()):
+        ri, rj = find(i), find(j)
+        if ri != rj:
+            parent[max(ri, rj)] = min(ri, rj)
+    roots = np.array([find(i) for i in range(n)], dtype=np.int64)
+    return [np.flatnonzero(roots == r) for r in np.unique(roots)]
+
+
 def floating_nodes(system: ThermalSystem) -> list[list[str]]:
     """Groups of free nodes with no conduction path to any boundary (names).
 
@@ -169,9 +200,12 @@ def floating_nodes(system: ThermalSystem) -> list[list[str]]:
     """
     cache = _cached(system)
     if "floating" not in cache:
-        to_boundary = np.asarray(system.Gb.sum(axis=1)).ravel() > 0
+        n = system.n
+        to_boundary = np.zeros(n, dtype=bool)
+        fb = (system.edge_j >= n) & (system.edge_g > 0)
+        to_boundary[system.edge_i[fb]] = True
         out = []
-        for group in _components(system, np.ones(system.n, dtype=bool)):
+        for group in _free_components(system):
             if not to_boundary[group].any():
                 out.append([system.node_names[i] for i in group])
         cache["floating"] = out
@@ -215,8 +249,13 @@ def static_field(system: ThermalSystem, power: np.ndarray | None = None,
     if idx.size:
         cache = _cached(system)
         if "static_lu" not in cache:
-            cache["static_lu"] = spla.splu(system.G.tocsr()[idx][:, idx].tocsc())
-        out[idx] = T0 + cache["static_lu"].solve(rhs[idx])
+            Gs = system.G if idx.size == n else system.G.tocsr()[idx][:, idx]
+            if idx.size <= SMALL_N:
+                lu = sla.lu_factor(Gs.toarray(), check_finite=False)
+                cache["static_lu"] = lambda b, lu=lu: sla.lu_solve(lu, b, check_finite=False)
+            else:
+                cache["static_lu"] = spla.splu(Gs.tocsc()).solve
+        out[idx] = T0 + cache["static_lu"](rhs[idx])
     return out
 
 

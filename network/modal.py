@@ -52,6 +52,9 @@ INTERIOR_POINTS = 10
 #: Largest modes × segments array kept in memory (segment-start states for refinement).
 STORE_LIMIT = 4_000_000
 
+#: Four ulp of 1.0 (the safeguarded Newton's step tolerance relative to x).
+_EPS4 = 4.0 * float(np.finfo(np.float64).eps)
+
 _FACT = np.array([math.factorial(j) for j in range(24)], dtype=np.float64)
 
 
@@ -87,8 +90,9 @@ def _psi(k: int, lam: np.ndarray, s) -> np.ndarray:
 
 
 def _gks(x: np.ndarray, kmax: int) -> list[np.ndarray]:
-    """[g_0(x), ..., g_kmax(x)] in one pass (the same values as :func:`gk`: series for
-    x < 0.1, else the recursion g_{k+1} = (1/(k+1)! − g_k)/x from g₀ = −expm1(−x)/x)."""
+    """[g_0(x), ..., g_kmax(x)] in one pass: the recursion g_{k+1} = (1/(k+1)! − g_k)/x
+    from g₀ = −expm1(−x)/x for x ≥ 0.1, the series Σ_j (−x)^j/(j+k+1)! (12 terms, as in
+    :func:`gk`) below, all orders of the series from one table of powers (x)."""
     x = np.asarray(x, dtype=np.float64)
     small = x < 0.1
     if not small.any():
@@ -98,20 +102,22 @@ def _gks(x: np.ndarray, kmax: int) -> list[np.ndarray]:
             g = (1.0 / _FACT[kk + 1] - g) / x
             out.append(g)
         return out
+    series = (_SERIES[:kmax + 1] @ ((-np.minimum(x, 0.1)).reshape(1, -1)
+                                   ** _POW[:, None])).reshape((kmax + 1,) + x.shape)
     if small.all():
-        return [gk(k, x) for k in range(kmax + 1)]
-    out = [np.empty_like(x) for _ in range(kmax + 1)]
-    xs = x[small]
-    for k in range(kmax + 1):
-        out[k][small] = gk(k, xs)
-    big = ~small
-    xb = x[big]
+        return list(series)
+    xb = np.where(small, 1.0, x)
     g = -np.expm1(-xb) / xb
-    out[0][big] = g
+    out = [np.where(small, series[0], g)]
     for kk in range(kmax):
         g = (1.0 / _FACT[kk + 1] - g) / xb
-        out[kk + 1][big] = g
+        out.append(np.where(small, series[kk + 1], g))
     return out
+
+
+#: Series coefficients 1/(j+k+1)! (row k, column j) and the powers j of the table in _gks.
+_POW = np.arange(12, dtype=np.float64)
+_SERIES = np.array([[1.0 / _FACT[j + k + 1] for j in range(12)] for k in range(4)])
 
 
 def _phis(lam: np.ndarray, s, kmax: int) -> list[np.ndarray]:
@@ -152,7 +158,7 @@ def _bracketed_newton(fun, a: np.ndarray, b: np.ndarray, fa: np.ndarray | None =
     b = np.where(fx > 0, b, x)
     done = fx == 0
     dx_old = np.abs(b - a)
-    eps4 = 4.0 * np.finfo(np.float64).eps
+    eps4 = _EPS4
     for _ in range(max_iter):
         if done.all():
             break
@@ -292,17 +298,14 @@ class ModalSolver:
             inv = np.empty(h.size, dtype=np.int64)
             inv[order] = np.cumsum(new) - 1
             hu = hs[new][None, :]
-            tab = [np.exp(-lam * hu), _psi(0, lam, hu), _psi(1, lam, hu)]
-            if need_p2:
-                tab.append(_psi(2, lam, hu))
+            tab = _phis(lam, hu, 2 if need_p2 else 1)
+            if hu.size == 1:
+                return lambda sel: tuple(np.broadcast_to(t, (t.shape[0], np.size(sel)))
+                                         for t in tab)
             return lambda sel: tuple(t[:, inv[sel]] for t in tab)
 
         def direct(sel):
-            hh = h[sel][None, :]
-            out = [np.exp(-lam * hh), _psi(0, lam, hh), _psi(1, lam, hh)]
-            if need_p2:
-                out.append(_psi(2, lam, hh))
-            return tuple(out)
+            return tuple(_phis(lam, h[sel][None, :], 2 if need_p2 else 1))
         return direct
 
     def _scan(self, q0: np.ndarray, edges: np.ndarray, level: np.ndarray, slope: np.ndarray,
@@ -528,13 +531,27 @@ class ModalSolver:
         ck = np.array(cand_k)
         q0s = np.stack([start(int(k)) for k in ck], axis=1)
         lv, sl = level[ck], slope[ck]
-        Pj, Dj = Pp[cj], Dp[cj]
-        direct = np.sum(Dj * sl, axis=1)
+        Pj = Pp[cj].T * sg[None, :]                      # (modes, c), sign applied
+        lam = self.lam[:, None]
+        Wb = self.W @ sl.T
+        # the slope dθ/ds = Pj·q'(s) + Dj·b with q'(s) = e^{−λs} q'(0) + ψ₀(λ, s) Wb and
+        # q'(0) = −λ q₀ + Wa (q' obeys the same modal equation with forcing Wb); its
+        # derivative is Pj·q''(s), q'' = −λ q' + Wb.  ψ₀ = s·(−expm1(−λs)/(λs)) is accurate
+        # for every λs > 0 (1 at λs = 0), so no series is needed here.
+        A = Pj * (-lam * q0s + self.W @ lv.T)
+        Bw = Pj * Wb
+        ramps = bool(np.any(Bw != 0))
+        direct = sg * np.sum(Dp[cj] * sl, axis=1)
+        c2 = Bw.sum(axis=0)
 
         def fp(sel, s):
-            _, dq, d2q = self._seg_states(q0s[:, sel], s, lv[sel], sl[sel])
-            f = sg[sel] * (np.einsum("cm,mc->c", Pj[sel], dq) + direct[sel])
-            return f, sg[sel] * np.einsum("cm,mc->c", Pj[sel], d2q)
+            x = lam * s[None, :]
+            term = A[:, sel] * np.exp(-x)                 # Pj·q'(s) per mode
+            if ramps:
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    g0 = np.where(x > 0, -np.expm1(-x) / x, 1.0)
+                term = term + Bw[:, sel] * (s[None, :] * g0)
+            return term.sum(axis=0) + direct[sel], c2[sel] - (lam * term).sum(axis=0)
 
         a = np.array(cand_a)
         b = np.array(cand_b)
@@ -760,7 +777,7 @@ class ModalSolver:
         so whole periods are jumped: at the sample phases s_j of period n the decaying part
         is Σ_i a_i e^{−λ_i s_j}·(e^{−λ_i T})ⁿ, one matrix product for many n at once.  The
         first period with a sample over the target is found by a vectorised search over n
-        (doubling, then 64-point grids; the rise per phase grows monotonically with n for
+        (doubling, then 256-point grids; the rise per phase grows monotonically with n for
         non-negative power from ambient: the system is positive, its matrix exponential has
         no negative entries), then the crossing time by a safeguarded Newton iteration on
         the closed form, whose time derivative is exact too.
@@ -793,7 +810,7 @@ class ModalSolver:
             lo = hi // 2 if hit[0] > 0 else 0
             # invariant: period lo is below the target, period hi reaches it
             while hi - lo > 1:
-                grid = np.unique(np.linspace(lo, hi, min(hi - lo + 1, 66)).astype(np.int64))
+                grid = np.unique(np.linspace(lo, hi, min(hi - lo + 1, 258)).astype(np.int64))
                 inner = grid[(grid > lo) & (grid < hi)]
                 ok = first_over(inner.astype(np.float64))
                 over = np.flatnonzero(ok)
@@ -818,7 +835,14 @@ class ModalSolver:
         ph_mid = mid - math.floor(mid / T) * T
         k = int(np.clip(np.searchsorted(edges, ph_mid, side="right") - 1, 0, edges.size - 2))
         t_k = math.floor(mid / T) * T + edges[k]      # absolute start of that segment
-        q_k = self._start_of(q_ps, k, edges, level, slope)[:, None]
+        if k <= 16:
+            q_k = q_ps.copy()
+            for kk in range(k):
+                Wa, Wb = self._forcing(level[kk:kk + 1], slope[kk:kk + 1])
+                q_k = self._advance(q_k[:, None], edges[kk + 1] - edges[kk], Wa, Wb)[:, 0]
+            q_k = q_k[:, None]
+        else:
+            q_k = self._start_of(q_ps, k, edges, level, slope)[:, None]
         lv, sl = level[k:k + 1], slope[k:k + 1]
         P_row, D_row = self.Phi[row], self.Dp[row]
         d_dir = float(D_row @ level[k]), float(D_row @ slope[k])
@@ -834,8 +858,13 @@ class ModalSolver:
             df = P_row @ dq + d_dir[1] - ed @ lam
             return f, df
 
-        fa, _ = theta(ta)
-        fb, _ = theta(tb)
+        if np.any(self.Dp[row] != 0) or i == 0:
+            fa, _ = theta(ta)
+            fb, _ = theta(tb)
+        else:
+            # the samples are exact closed-form values of θ (no jumps at a massive node)
+            fa = np.array([vals[i - 1] - target_rise])
+            fb = np.array([vals[i] - target_rise])
         if fa[0] >= 0:
             return float(ta)
         if fb[0] < 0:

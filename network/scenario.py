@@ -35,6 +35,7 @@ from __future__ import annotations
 
 import dataclasses
 import difflib
+import functools
 import math
 import re
 import tomllib
@@ -339,6 +340,11 @@ QUANTITY_KINDS: dict[str, tuple[str, str]] = {
 }
 
 
+#: Successful unit-string parses, (text, unit kind) -> SI value (sweeps re-read the same
+#: scenario texts for every row).
+_PARSED: dict[tuple[str, str], float] = {}
+
+
 def parse_quantity(text: Any, kind: str, path: str) -> Quantity:
     """Parse a unit string of the scenario ``kind``; :class:`ScenarioError` otherwise.
 
@@ -351,10 +357,16 @@ def parse_quantity(text: Any, kind: str, path: str) -> Quantity:
         if isinstance(text, (int, float)):
             raise ScenarioError(path, text, f"{expected} (a bare number has no unit)")
         raise ScenarioError(path, text, expected)
-    try:
-        value = float(_units_parse(units_kind)(text, kind=units_kind, field=path))
-    except ValueError as exc:
-        raise ScenarioError(path, text, f"{expected} ({_reason(exc, path)})") from None
+    key = (text, units_kind)
+    value = _PARSED.get(key)
+    if value is None:
+        try:
+            value = float(_units_parse(units_kind)(text, kind=units_kind, field=path))
+        except ValueError as exc:
+            raise ScenarioError(path, text, f"{expected} ({_reason(exc, path)})") from None
+        if len(_PARSED) > 8192:   # a sweep reuses a few texts; keep the cache small
+            _PARSED.clear()
+        _PARSED[key] = value
     if not math.isfinite(value):
         raise ScenarioError(path, text, f"{expected} (a finite value)")
     return Quantity(text, value, kind)
@@ -546,6 +558,7 @@ def _check_name(name: Any, path: str) -> str:
     return name
 
 
+@functools.lru_cache(maxsize=None)
 def _schema(cls) -> dict[str, dataclasses.Field]:
     return {f.metadata.get("key") or f.name: f for f in dataclasses.fields(cls)
             if "tag" in f.metadata}

@@ -113,6 +113,37 @@ def make_waveform(spec: WaveformSpec | str, scenario: Scenario, path: str,
     return w
 
 
+#: Waveform objects of recently built scenarios, keyed by the waveform specs (a sweep
+#: rebuilds the same waveforms for every row; the objects are frozen, so they are shared).
+_WAVES: dict[Any, dict[str, Any]] = {}
+
+
+def _waveforms(scn: Scenario) -> dict[str, Any]:
+    """Heat source name -> waveform object of every device, line and heater; the named
+    waveforms of ``[waveforms]`` are all made (and so checked) even when unused."""
+    items = tuple((sec, i, item.name, item.power)
+                  for sec, group in (("devices", scn.devices), ("lines", scn.lines),
+                                     ("heaters", scn.heaters))
+                  for i, item in enumerate(group or ()))
+    key = (items, tuple((scn.waveforms or {}).items()))
+    try:
+        hit = _WAVES.get(key)
+    except TypeError:  # an unhashable spec: no caching
+        key, hit = None, None
+    if hit is not None:
+        return dict(hit)
+    waves: dict[str, Any] = {}
+    for sec, i, name, power in items:
+        waves[name] = make_waveform(power, scn, f"{sec}[{i}].power")
+    for name, spec in (scn.waveforms or {}).items():  # unused ones are checked too
+        make_waveform(spec, scn, f"waveforms.{name}")
+    if key is not None:
+        if len(_WAVES) > 64:
+            _WAVES.clear()
+        _WAVES[key] = dict(waves)
+    return waves
+
+
 def _shortest_feature(waves: Iterable[Any]) -> float:
     """Shortest segment of the compiled waveforms, s (resolves the first sub-layers)."""
     best = math.inf
@@ -335,13 +366,7 @@ def build(scn: Scenario) -> ScenarioModel:
 
     lib = _library(scn)
     used: dict[str, Any] = {}
-    waves: dict[str, Any] = {}
-    for sec, items in (("devices", scn.devices), ("lines", scn.lines),
-                       ("heaters", scn.heaters)):
-        for i, item in enumerate(items or ()):
-            waves[item.name] = make_waveform(item.power, scn, f"{sec}[{i}].power")
-    for name, spec in (scn.waveforms or {}).items():  # unused ones are checked too
-        make_waveform(spec, scn, f"waveforms.{name}")
+    waves = _waveforms(scn)
     asm = to_assembly(scn, lib, used)
     m = scn.model
     fidelity = (m.fidelity if m is not None else None) or "ladder"
