@@ -65,6 +65,7 @@ import numpy as np
 import scipy.linalg as dla
 import scipy.sparse as sp
 import scipy.sparse.linalg as sla
+from scipy.optimize import brentq
 
 from .assemble import NetworkError, floating_nodes
 from .solvers import RawResponse
@@ -77,6 +78,8 @@ __all__ = ["NonlinearSolver", "ThermalRunawayError", "kirchhoff_U", "kirchhoff_i
 T_LIMIT = 5000.0
 #: Largest number of capacitive nodes for periodic shooting (dense monodromy).
 PERIODIC_LIMIT = 3000
+#: Most periods integrated by :meth:`NonlinearSolver.warmup_crossing`.
+WARMUP_MAX_PERIODS = 100_000
 #: Interior samples per segment.
 INTERIOR_POINTS = 8
 #: Up to this many nodes the Radau matrices are factorised dense, above sparse.
@@ -718,6 +721,66 @@ class NonlinearSolver:
                 "energy_J": energy, "success": True,
                 "message": f"Radau IIA (order 5), rtol {self.rtol:g}, atol {self.atol:g} K"}
         return RawResponse(t, v, T0, Tend, mean_full[rows], info)
+
+    def warmup_crossing(self, edges, level, slope, row: int, target_rise: float,
+                        phase_t=None, phase_v=None, initial=None, q_ps=None) -> float:
+        """First time (s) at which the rise of node ``row`` over the zero-power steady state
+        reaches ``target_rise`` (K) when the periodic drive starts from ``initial`` (n,) K
+        absolute (None: the zero-power steady state).
+
+        A nonlinear system has no exact period jump, so the transient is integrated period
+        by period (samples at the same phases as the periodic response); in the segment
+        where a sample first reaches the target the crossing time is located by Brent's
+        method on the re-integrated segment (R. P. Brent, *Algorithms for Minimization
+        without Derivatives*, 1973, ch. 4).  ``math.inf`` when the state settles (period
+        map moves it less than ``atol``) below the target.  ``phase_t``, ``phase_v`` and
+        ``q_ps`` are accepted for the common signature and not used.
+        """
+        edges, level, slope, _ = self._arrays(edges, level, slope, [row])
+        row = int(row)
+        T_amb = self.steady(np.zeros(self.system.m))
+        if initial is None:
+            T = T_amb.copy()
+        else:
+            T = np.asarray(initial, dtype=np.float64).reshape(-1)
+            if T.size != self.n or not np.all(np.isfinite(T)) or np.any(T <= 0):
+                raise ValueError(f"initial: expected {self.n} finite absolute temperatures "
+                                 f"in K, got shape {np.shape(initial)}")
+        target = float(target_rise)
+        if T[row] - T_amb[row] >= target:
+            return 0.0
+        T_per = float(edges[-1])
+        for n_per in range(WARMUP_MAX_PERIODS):
+            T_start = T.copy()
+            for k in range(edges.size - 1):
+                h = float(edges[k + 1] - edges[k])
+                offs = self._offsets(h)
+                vals, T_end = self._segment(T, level[k], slope[k], h, offs)[:2]
+                hit = np.flatnonzero(vals[:, row] - T_amb[row] >= target)
+                if hit.size:
+                    j = int(hit[0])
+                    lo = 0.0 if j == 0 else float(offs[j - 1])
+                    T0, a, s = T, level[k], slope[k]
+
+                    def f(tau):
+                        if tau <= 0.0:
+                            y = self._segment(T0, a, s, h, np.array([0.0]))[0][0] \
+                                if self.mass.size else T0
+                        else:
+                            y = self._segment(T0, a, s, tau, np.array([tau]))[1]
+                        return float(y[row] - T_amb[row] - target)
+
+                    if f(lo) >= 0.0:
+                        tau = lo
+                    else:
+                        tau = brentq(f, lo, float(offs[j]), xtol=1e-12 * T_per, rtol=1e-12)
+                    return n_per * T_per + float(edges[k]) + tau
+                T = T_end
+            if np.max(np.abs(T - T_start)) <= self.atol:
+                return math.inf
+        raise RuntimeError(f"NonlinearSolver.warmup_crossing: the rise at node "
+                           f"{self.system.node_names[row]!r} did not reach {target:.4g} K "
+                           f"within {WARMUP_MAX_PERIODS} periods")
 
     def _period_map(self, Tc0, edges, level, slope, Tz):
         T = np.empty(self.n)
