@@ -99,8 +99,8 @@ def assemble(graph: nx.Graph, inputs: dict) -> ThermalSystem:
     rows = np.concatenate([edge_i[ff], edge_j[ff], edge_i[ff], edge_j[ff], edge_i[fb]])
     cols = np.concatenate([edge_j[ff], edge_i[ff], edge_i[ff], edge_j[ff], edge_i[fb]])
     vals = np.concatenate([-edge_g[ff], -edge_g[ff], edge_g[ff], edge_g[ff], edge_g[fb]])
-    G = sp.csr_matrix((vals, (rows, cols)), shape=(n, n))
-    Gb = sp.csr_matrix((edge_g[fb], (edge_i[fb], edge_j[fb] - n)), shape=(n, nb))
+    G = _csr(vals, rows, cols, (n, n))
+    Gb = _csr(edge_g[fb], edge_i[fb], edge_j[fb] - n, (n, nb))
 
     names = tuple(inputs)
     bi, bj, bv = [], [], []
@@ -109,7 +109,8 @@ def assemble(graph: nx.Graph, inputs: dict) -> ThermalSystem:
             bi.append(index[node])
             bj.append(j)
             bv.append(w)
-    B = sp.csr_matrix((np.array(bv, dtype=np.float64), (bi, bj)), shape=(n, len(names)))
+    B = _csr(np.array(bv, dtype=np.float64), np.array(bi, dtype=np.int64),
+             np.array(bj, dtype=np.int64), (n, len(names)))
     input_tc = np.array([inputs[k].temp_coeff for k in names], dtype=np.float64)
     input_Tref = np.array([inputs[k].t_ref_K for k in names], dtype=np.float64)
 
@@ -120,6 +121,22 @@ def assemble(graph: nx.Graph, inputs: dict) -> ThermalSystem:
         edge_Tref=np.array(er, dtype=np.float64), input_tc=input_tc, input_Tref=input_Tref)
     _check_massless(system)
     return system
+
+
+def _csr(vals: np.ndarray, rows: np.ndarray, cols: np.ndarray,
+         shape: tuple[int, int]) -> sp.csr_matrix:
+    """CSR matrix of (row, col, value) triplets, duplicates summed.  Small matrices are
+    summed densely (np.bincount) and handed to scipy in CSR form directly (scipy's COO
+    conversion costs more in set-up than the whole assembly here); larger ones via COO."""
+    nr, nc = shape
+    if nr * nc > SMALL_N * SMALL_N or nr == 0 or nc == 0:
+        return sp.csr_matrix((vals, (rows, cols)), shape=shape)
+    D = np.bincount(np.asarray(rows, dtype=np.int64) * nc + np.asarray(cols, dtype=np.int64),
+                    weights=vals, minlength=nr * nc).reshape(nr, nc)
+    rr, cc = np.nonzero(D)
+    indptr = np.zeros(nr + 1, dtype=np.int32)
+    np.cumsum(np.bincount(rr, minlength=nr), out=indptr[1:])
+    return sp.csr_matrix((D[rr, cc], cc.astype(np.int32), indptr), shape=shape)
 
 
 def _components(system: ThermalSystem, mask: np.ndarray) -> list[np.ndarray]:
@@ -241,18 +258,32 @@ def static_field(system: ThermalSystem, power: np.ndarray | None = None,
         for g in groups:
             ok[[system.index(v) for v in g]] = False
     T0 = float(system.T_boundary[0]) if system.nb else KELVIN_OFFSET
-    rhs = system.Gb @ (system.T_boundary - T0)
+    cache = _cached(system)
+    if "static_maps" not in cache:
+        # small networks: dense copies of Gb and B (sparse products cost more here)
+        small = n <= SMALL_N
+        cache["static_maps"] = (system.Gb.toarray() if small else system.Gb,
+                                system.B.toarray() if small else system.B)
+    Gb, B = cache["static_maps"]
+    rhs = Gb @ (system.T_boundary - T0)
     if power is not None:
-        rhs = rhs + system.B @ np.asarray(power, dtype=np.float64)
+        rhs = rhs + B @ np.asarray(power, dtype=np.float64)
     out = np.full(n, np.nan)
     idx = np.flatnonzero(ok)
     if idx.size:
-        cache = _cached(system)
         if "static_lu" not in cache:
             Gs = system.G if idx.size == n else system.G.tocsr()[idx][:, idx]
             if idx.size <= SMALL_N:
-                lu = sla.lu_factor(Gs.toarray(), check_finite=False)
-                cache["static_lu"] = lambda b, lu=lu: sla.lu_solve(lu, b, check_finite=False)
+                # dense LU (LAPACK getrf/getrs, partial pivoting)
+                lu, piv, info = sla.lapack.dgetrf(Gs.toarray())
+                if info != 0:
+                    raise NetworkError("the conductance matrix is singular (a part with "
+                                       "no path to a boundary)")
+
+                def solve(b, lu=lu, piv=piv):
+                    x, inf = sla.lapack.dgetrs(lu, piv, b)
+                    return x
+                cache["static_lu"] = solve
             else:
                 cache["static_lu"] = spla.splu(Gs.tocsc()).solve
         out[idx] = T0 + cache["static_lu"](rhs[idx])

@@ -494,29 +494,34 @@ class ModalSolver:
                 cache[k] = self._segment_start(k, edges, level, slope, starts, store)
             return cache[k]
 
-        kk = np.clip(np.searchsorted(edges, t, side="right") - 1, 0, N - 1)
-        at_edge = (t == edges[kk]) & (kk > 0)
+        kk_a = np.clip(np.searchsorted(edges, t, side="right") - 1, 0, N - 1)
+        at_edge = ((t == edges[kk_a]) & (kk_a > 0)).tolist()
+        kk = kk_a.tolist()
+        tl = t.tolist()
+        el = edges.tolist()
+        nt = len(tl)
+        # the best 4·top samples of every probe, highest first (maximum) and lowest first
+        ordr = np.argsort(v, axis=0, kind="stable")
+        best = {1.0: ordr[::-1][:4 * top].T.tolist(), -1.0: ordr[:4 * top].T.tolist()}
         cand_j, cand_sign, cand_k, cand_a, cand_b = [], [], [], [], []
         for j in range(v.shape[1]):
             for sign in (1.0, -1.0):
-                col = sign * v[:, j]
-                order = np.argsort(col)[::-1]
                 seen = set()
-                for i in order[:4 * top]:
-                    lo_i, hi_i = max(i - 1, 0), min(i + 1, t.size - 1)
+                for i in best[sign][j]:
+                    lo_i, hi_i = max(i - 1, 0), min(i + 1, nt - 1)
                     segs = set()
                     for ii in (lo_i, i, hi_i):
-                        k = int(kk[ii])
+                        k = kk[ii]
                         segs.add(k)
                         if at_edge[ii]:
                             segs.add(k - 1)
                     segs -= seen
                     for k in sorted(segs):
                         seen.add(k)
-                        a = max(t[lo_i], edges[k]) - edges[k]
-                        b = min(t[hi_i], edges[k + 1]) - edges[k]
+                        a = max(tl[lo_i], el[k]) - el[k]
+                        b = min(tl[hi_i], el[k + 1]) - el[k]
                         if b <= a:
-                            a, b = 0.0, edges[k + 1] - edges[k]
+                            a, b = 0.0, el[k + 1] - el[k]
                         cand_j.append(j)
                         cand_sign.append(sign)
                         cand_k.append(k)

@@ -6,7 +6,8 @@ records every probe's peak, mean and margin.  Rows are keyed by a hash of the va
 written (CSV or JSON lines) and flushed one complete line at a time as they finish, so an
 interrupted sweep resumes by skipping the keys already in the file.
 
-Workers are processes (``spawn`` or ``forkserver`` start, one BLAS thread each) or a Dask
+Workers are processes (``fork`` when the parent is single-threaded and already pinned to
+one BLAS thread, else ``forkserver`` or ``spawn``; one BLAS thread each) or a Dask
 cluster (``scheduler=``, imported only then).  This module imports no numpy at module level
 so that process workers can pin BLAS threads before numpy loads.
 """
@@ -288,6 +289,17 @@ def _worker_row(values: dict[str, Any]) -> dict[str, Any]:
     return run_row(scn, values)
 
 
+def _worker_chunk(chunk: list[dict[str, Any]]) -> list[dict[str, Any]]:
+    """Several rows in one task (fewer round trips between the parent and a worker)."""
+    return [_worker_row(values) for values in chunk]
+
+
+def chunk_size(rows: int, workers: int) -> int:
+    """Rows per task: about 16 tasks per worker (so that the last ones balance the load and
+    results stream back), at most 32 rows (an interruption loses little), at least 1."""
+    return max(1, min(32, rows // (16 * max(workers, 1))))
+
+
 def _dask_row(base: dict[str, Any], values: dict[str, Any]) -> dict[str, Any]:
     return run_row(Scenario.from_dict(base), values)
 
@@ -473,32 +485,63 @@ def run_sweep(plan: SweepPlan, out: str | os.PathLike | None = None, resume: boo
                        plan.mode, None if out is None else str(out), [CAUTION])
 
 
+def _start_method(env: dict[str, str | None]) -> str:
+    """``fork`` on Linux when it is safe and cheap: this process runs one thread and was
+    already pinned to one BLAS thread (``env``: the variables before the sweep set them),
+    so the workers inherit loaded modules and caches and start at once.  Otherwise
+    ``forkserver`` (``spawn`` where there is none): a fresh interpreter per worker."""
+    import multiprocessing as mp
+    import sys
+    import threading
+
+    methods = mp.get_all_start_methods()
+    if (sys.platform.startswith("linux") and "fork" in methods
+            and threading.active_count() == 1
+            and env.get("OPENBLAS_NUM_THREADS") == "1" and env.get("OMP_NUM_THREADS") in
+            (None, "1") and env.get("MKL_NUM_THREADS") in (None, "1")):
+        return "fork"
+    return "forkserver" if "forkserver" in methods else "spawn"
+
+
 def _run_pool(plan: SweepPlan, todo: list[dict[str, Any]], workers: int,
               finish: Callable[[dict[str, Any]], None]) -> None:
+    """Rows on ``workers`` processes.
+
+    The base scenario goes to each worker once (the pool initializer); a task carries only
+    the varied values of a few rows (:func:`chunk_size`).  The one-thread BLAS environment
+    is set before any worker (or the forkserver) starts; workers are forked directly when
+    that is safe (:func:`_start_method`), else from a forkserver that imports the solver
+    modules once, so each worker starts ready to run."""
     import multiprocessing as mp
     from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 
-    method = "forkserver" if "forkserver" in mp.get_all_start_methods() else "spawn"
-    ctx = mp.get_context(method)
     saved = {k: os.environ.get(k) for k in ONE_THREAD}
-    os.environ.update(ONE_THREAD)  # inherited by the workers at start
+    method = _start_method(saved)
+    ctx = mp.get_context(method)
+    os.environ.update(ONE_THREAD)  # inherited by the workers (and the forkserver) at start
+    if method == "forkserver":
+        ctx.set_forkserver_preload(["pulsetherm.network.sweep", "pulsetherm.network.simulate",
+                                    "pulsetherm.network.modal", "pulsetherm.network.builder"])
+    size = chunk_size(len(todo), workers)
+    chunks = [todo[i:i + size] for i in range(0, len(todo), size)]
     try:
         with ProcessPoolExecutor(max_workers=workers, mp_context=ctx,
                                  initializer=_init_worker,
                                  initargs=(plan.scenario.to_dict(), plan.scenario.source)) as ex:
-            # keep a bounded number of rows in flight so that results stream back in order
-            # of completion and an interruption loses little work
-            it = iter(todo)
+            # a bounded number of tasks in flight: results stream back in order of
+            # completion and an interruption loses little work
+            it = iter(chunks)
             pending = set()
-            for values in itertools.islice(it, 4 * workers):
-                pending.add(ex.submit(_worker_row, values))
+            for chunk in itertools.islice(it, 3 * workers):
+                pending.add(ex.submit(_worker_chunk, chunk))
             while pending:
                 done, pending = wait(pending, return_when=FIRST_COMPLETED)
                 for fut in done:
-                    finish(fut.result())
+                    for row in fut.result():
+                        finish(row)
                     nxt = next(it, None)
                     if nxt is not None:
-                        pending.add(ex.submit(_worker_row, nxt))
+                        pending.add(ex.submit(_worker_chunk, nxt))
     finally:
         for k, v in saved.items():
             if v is None:
