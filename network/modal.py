@@ -185,6 +185,44 @@ def _bracketed_newton(fun, a: np.ndarray, b: np.ndarray, fa: np.ndarray | None =
     return x
 
 
+def _rtsafe(fun, a: float, b: float, fa: float, fb: float, xtol: float,
+            max_iter: int = 200) -> float:
+    """Scalar twin of :func:`_bracketed_newton` (plain floats, for a few small roots where
+    numpy's per-call cost dominates): f(a) > 0 > f(b), ``fun(x) -> (f, f')``."""
+    x = a - fa * (b - a) / (fb - fa)
+    if not (a < x < b):
+        x = 0.5 * (a + b)
+    fx, dfx = fun(x)
+    if fx == 0:
+        return x
+    if fx > 0:
+        a = x
+    else:
+        b = x
+    dx_old = b - a
+    for _ in range(max_iter):
+        xn = x - fx / dfx if dfx != 0 else math.nan
+        bad = not (a <= xn <= b) or abs(xn - x) > 0.5 * dx_old
+        if bad:
+            xn = 0.5 * (a + b)
+        step = abs(xn - x)
+        dx_old = b - a if bad else step
+        tol = max(_EPS4 * max(abs(x), 1e-300), xtol)
+        if step <= tol:
+            return x
+        fn, dfn = fun(xn)
+        if fn == 0:
+            return xn
+        if fn > 0:
+            a = xn
+        else:
+            b = xn
+        x, fx, dfx = xn, fn, dfn
+        if b - a <= max(_EPS4 * max(abs(xn), 1e-300), xtol):
+            return x
+    return x
+
+
 class ModalSolver:
     """Exact modal solver for linear networks (registered as ``"modal"``).
 
@@ -287,12 +325,22 @@ class ModalSolver:
         Pulse trains and bursts have few distinct widths: they are computed once per
         distinct width (widths equal to 1e-12 relative, the precision of the edges
         themselves, share one entry) and gathered; otherwise computed per segment."""
-        lam = self.lam[:, None]
         h = np.asarray(h, dtype=np.float64)
+        key = (h.tobytes(), need_p2)
+        last = getattr(self, "_funcs_last", None)
+        if last is not None and last[0] == key:
+            return last[1]
+        funcs = self._seg_funcs_new(h, need_p2)
+        if h.size <= 4096:
+            self._funcs_last = (key, funcs)
+        return funcs
+
+    def _seg_funcs_new(self, h: np.ndarray, need_p2: bool):
+        lam = self.lam[:, None]
         order = np.argsort(h, kind="stable")
         hs = h[order]
         new = np.ones(h.size, dtype=bool)
-        new[1:] = np.diff(hs) > 1e-12 * hs[1:]
+        new[1:] = (hs[1:] - hs[:-1]) > 1e-12 * hs[1:]
         nu = int(new.sum())
         if nu <= max(64, h.size // 4):
             inv = np.empty(h.size, dtype=np.int64)
@@ -320,7 +368,7 @@ class ModalSolver:
         starts : (modes, N) segment-start states if ``store`` else block starts (modes, nblk)
         """
         N = edges.size - 1
-        h = np.diff(edges)
+        h = edges[1:] - edges[:-1]
         nm = self.lam.size
         Bk = max(1, int(math.ceil(math.sqrt(N))))
         nblk = int(math.ceil(N / Bk))
@@ -416,7 +464,7 @@ class ModalSolver:
         # interior log-spaced points down to the fastest relevant time constant
         if store and N * INTERIOR_POINTS <= SAMPLE_BUDGET:
             tau_f = self._fast_tau(Pp)
-            h = np.diff(edges)
+            h = edges[1:] - edges[:-1]
             lo = np.maximum(tau_f / 4.0, h * 1e-6)
             geo = lo < h / 8
             # log-spaced offsets lo .. h (end excluded) or evenly spaced interior points,
@@ -527,7 +575,7 @@ class ModalSolver:
                         cand_k.append(k)
                         cand_a.append(a)
                         cand_b.append(b)
-                    if len(seen) >= 2 * top:
+                    if len(seen) >= min(2 * top, N):   # no further segment to add
                         break
         if not cand_k:
             return t, v
@@ -566,8 +614,32 @@ class ModalSolver:
         ok = np.flatnonzero((fa > 0) & (fb < 0))
         if ok.size == 0:
             return t, v
-        s_star = _bracketed_newton(lambda s: fp(ok, s), a[ok], b[ok], fa[ok], fb[ok],
-                                   xtol=np.maximum((b[ok] - a[ok]) * 1e-14, 1e-300))
+        xtol = np.maximum((b[ok] - a[ok]) * 1e-14, 1e-300)
+        if A.shape[0] * ok.size <= 256:
+            # few modes and roots: the same iteration on plain floats
+            lam_l = self.lam.tolist()
+            s_star = np.empty(ok.size)
+            for r, c in enumerate(ok.tolist()):
+                Ac, Bc = A[:, c].tolist(), Bw[:, c].tolist()
+                d0, cc2 = float(direct[c]), float(c2[c])
+                terms = list(zip(lam_l, Ac, Bc))
+
+                def f1(x, terms=terms, d0=d0, cc2=cc2):
+                    tot = d0
+                    dtot = cc2
+                    for lm, ai, bi in terms:
+                        y = lm * x
+                        tm = ai * math.exp(-y)
+                        if bi != 0.0:
+                            tm += bi * (x * (-math.expm1(-y) / y if y > 0 else 1.0))
+                        tot += tm
+                        dtot -= lm * tm
+                    return tot, dtot
+                s_star[r] = _rtsafe(f1, float(a[c]), float(b[c]), float(fa[c]),
+                                    float(fb[c]), float(xtol[r]))
+        else:
+            s_star = _bracketed_newton(lambda s: fp(ok, s), a[ok], b[ok], fa[ok], fb[ok],
+                                       xtol=xtol)
         k_ok = ck[ok]
         q, _, _ = self._seg_states(q0s[:, ok], s_star, lv[ok], sl[ok])
         vv = (Pp @ q).T + (lv[ok] + s_star[:, None] * sl[ok]) @ Dp.T
@@ -582,7 +654,7 @@ class ModalSolver:
         """r = Σ_k e^{−λ(T − t_{k+1})} ρ_k: the end-of-period state from a zero start (ρ_k
         the forced increment of segment k), folded block by block as in :meth:`_scan`."""
         N = edges.size - 1
-        h = np.diff(edges)
+        h = edges[1:] - edges[:-1]
         nm = self.lam.size
         Bk = max(1, int(math.ceil(math.sqrt(N))))
         nblk = int(math.ceil(N / Bk))
@@ -590,13 +662,13 @@ class ModalSolver:
         hp = np.concatenate([h, np.zeros(pad)])
         lp = np.concatenate([level, np.zeros((pad, level.shape[1]))]).reshape(nblk, Bk, -1)
         sp_ = np.concatenate([slope, np.zeros((pad, slope.shape[1]))]).reshape(nblk, Bk, -1)
-        funcs = self._seg_funcs(hp, need_p2=False)
+        funcs = self._seg_funcs(hp)
         seg = np.arange(nblk * Bk).reshape(nblk, Bk)
         dec = np.ones((nm, nblk))
         inc = np.zeros((nm, nblk))
         for j in range(Bk):
             Wa, Wb = self._forcing(lp[:, j, :], sp_[:, j, :])
-            d, p0, p1 = funcs(seg[:, j])
+            d, p0, p1, _ = funcs(seg[:, j])
             dec *= d
             inc = d * inc + p0 * Wa + p1 * Wb
         r = np.zeros(nm)
@@ -613,7 +685,7 @@ class ModalSolver:
         return r / (-np.expm1(-self.lam * edges[-1]))
 
     def _mean_power(self, edges, level, slope) -> np.ndarray:
-        h = np.diff(edges)
+        h = edges[1:] - edges[:-1]
         return (h @ level + 0.5 * (h * h) @ slope) / edges[-1]
 
     def periodic(self, edges, level, slope, probes) -> RawResponse:
@@ -875,10 +947,12 @@ class ModalSolver:
         if fb[0] < 0:
             return float(tb)
         # root of −θ + target (positive at ta, negative at tb)
-        root = _bracketed_newton(lambda x: tuple(-y for y in theta(x)),
-                                 np.array([ta]), np.array([tb]), -fa, -fb,
-                                 xtol=1e-15 * max(tb, 1e-300))
-        return float(root[0])
+        def g(x):
+            f, df = theta(x)
+            return -float(f[0]), -float(df[0])
+
+        return float(_rtsafe(g, float(ta), float(tb), -float(fa[0]), -float(fb[0]),
+                             xtol=1e-15 * max(tb, 1e-300)))
 
     def _start_of(self, q: np.ndarray, k: int, edges, level, slope) -> np.ndarray:
         """State at the start of segment k from the period-start state q (vectorised
