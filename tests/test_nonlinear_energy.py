@@ -208,3 +208,37 @@ def test_massless_node_pulsed_transient_against_reduced_reference():
     Ta, Tm, Tb = res.state_end
     assert abs((kirchhoff_U(Ta, 1.3, 300) - kirchhoff_U(Tm, 1.3, 300))
                - (kirchhoff_U(Tm, 1.3, 300) - kirchhoff_U(Tb, 1.3, 300))) < 1e-9
+
+
+# -- periodic shooting: Krylov corrector ------------------------------------------------------
+def test_krylov_shooting_equals_dense_and_lifts_the_size_limit(monkeypatch):
+    """The matrix-free (GMRES) shooting correction reaches the same periodic state as the
+    dense monodromy (both drive the same nonlinear residual Φ(x) − x to zero; common
+    practice, no source): 24-node k(T) chain with a massless node, 1e-7 of the rise.  With
+    the dense limit lowered below the network size, "auto" picks the Krylov path instead of
+    refusing, and "dense" names the limit and the alternatives."""
+    from pulsetherm.network import nonlinear
+
+    N = 24
+    C = np.geomspace(1e-5, 1e-2, N)
+    C[N // 3] = 0.0
+    sysm = chain(C, 10.0, a=1.3, tc=0.003)
+    opts = {"rtol": 1e-7, "atol": 1e-8}
+    pw = Piecewise([0.0, 0.5e-3, 4e-3], [40.0, 0.0])
+    edges, level, slope = align([pw])
+    rows = np.arange(0, N, 4)
+    dense = NonlinearSolver(sysm, shooting="dense", **opts).periodic(edges, level, slope, rows)
+    kry = NonlinearSolver(sysm, shooting="krylov", **opts).periodic(edges, level, slope, rows)
+    assert dense.info["shooting"] == "dense" and kry.info["shooting"] == "krylov"
+    assert kry.info["shooting_iterations"] <= dense.info["shooting_iterations"] + 2
+    rise = float(np.max(dense.theta - 300.0))
+    assert rise > 20.0
+    assert np.max(np.abs(kry.theta - dense.theta)) <= 1e-7 * rise
+    assert kry.info["energy_error"] < 1e-6
+    monkeypatch.setattr(nonlinear, "PERIODIC_LIMIT", 10)
+    auto = NonlinearSolver(sysm, **opts).periodic(edges, level, slope, rows)
+    assert auto.info["shooting"] == "krylov"
+    with pytest.raises(ValueError, match="limited to 10.*krylov"):
+        NonlinearSolver(sysm, shooting="dense").periodic(edges, level, slope, rows)
+    with pytest.raises(ValueError, match="shooting"):
+        NonlinearSolver(sysm, shooting="fast")
