@@ -876,15 +876,17 @@ class ModalSolver:
             decay = np.exp(-np.multiply.outer(lam * T, nn))          # (modes, len(nn))
             return np.max(phase_v[:, None] + M @ decay, axis=0) >= target_rise
 
-        if first_over(np.array([0.0]))[0]:
+        # period 0 and the powers of two 1 .. 2^60 in one product
+        pw = np.concatenate([[0.0], 2.0 ** np.arange(61)])
+        over = first_over(pw)
+        if over[0]:
             n = 0
         else:
-            pw = 2.0 ** np.arange(61)
-            hit = np.flatnonzero(first_over(pw))
+            hit = np.flatnonzero(over)
             if hit.size == 0:
                 return math.inf
             hi = int(pw[hit[0]])
-            lo = hi // 2 if hit[0] > 0 else 0
+            lo = int(pw[hit[0] - 1])
             # invariant: period lo is below the target, period hi reaches it
             while hi - lo > 1:
                 grid = np.unique(np.linspace(lo, hi, min(hi - lo + 1, 258)).astype(np.int64))

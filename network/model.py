@@ -427,13 +427,12 @@ class ThermalNetwork:
 
         sys_ = self.system()
         pieces = self._power_pieces(waveforms)
-        edges, level, slope = align(pieces)
+        edges, level, slope, e_in = _aligned_period(pieces)
         ambient = static_field(sys_)  # raises for adiabatic parts, naming them
         rows = self._probe_rows(probes)
         solver = self._solver(method)
         raw = solver.periodic(edges, level, slope, rows)
         T = float(edges[-1])
-        e_in = float(sum(energy_of(p, T) for p in _tiled(pieces, edges)))
         res = Response.from_raw(raw, sys_, rows, periodic=True,
                                 method=getattr(solver, "name", str(method)), energy_in=e_in,
                                 span=T, ambient_K=ambient)
@@ -581,6 +580,29 @@ class ThermalNetwork:
 
         solver, row, col, _ = self._zth_args(node, input)
         return foster_from_modes(solver, row, col)
+
+
+#: Common-period alignment of recently used pieces, keyed by the pieces' identities (the
+#: pieces are held too, so an identity cannot be reused while its entry lives): a sweep
+#: rebuilds the network for every row but drives it with the same compiled waveforms.
+_ALIGNED: dict[tuple[int, ...], tuple] = {}
+
+
+def _aligned_period(pieces: list[Piecewise]):
+    """``align(pieces)`` (edges, level, slope; fresh copies) and the energy per period, J."""
+    from .result import energy_of
+
+    key = tuple(id(p) for p in pieces)
+    hit = _ALIGNED.get(key)
+    if hit is None or any(a is not b for a, b in zip(hit[0], pieces)):
+        edges, level, slope = align(pieces)
+        T = float(edges[-1])
+        e_in = float(sum(energy_of(p, T) for p in _tiled(pieces, edges)))
+        if len(_ALIGNED) > 32:
+            _ALIGNED.clear()
+        hit = _ALIGNED[key] = (tuple(pieces), edges, level, slope, e_in)
+    _, edges, level, slope, e_in = hit
+    return edges.copy(), level.copy(), slope.copy(), e_in
 
 
 def _tiled(pieces: list[Piecewise], edges: np.ndarray) -> list[Piecewise]:
