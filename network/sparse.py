@@ -41,13 +41,18 @@ operator ``C^{1/2} G⁻¹ C^{1/2}`` applied with one sparse factorisation of G (
 
 ``basis="krylov"``: when the count (or ``n × count`` doubles) exceeds the budget, a rational
 Krylov subspace is built instead — for shifts σ_j log-spaced over the time constants of
-interest (1/τ_max … 1/τ_c, and σ = 0) the chains ``((G + σ_j C)⁻¹ C)^i G⁻¹ B`` (and the same
-from the initial deviation), C-orthonormalised — and the network is projected on it
+interest (1/τ_max … max(τ_c, min C_i/(2G_ii)), and σ = 0) the chains
+``((G + σ_j C)⁻¹ C)^i G⁻¹ B`` (and the same from the initial deviation), each built and
+C-orthonormalised on its own, then together — and the network is projected on it
 (Galerkin / Rayleigh–Ritz: ``Vᵀ G V y = μ y``).  The Ritz pairs (μ, V y) then play the part
 of the modes; S₀, S₁ keep steady values and period means exact.  This is an approximation
 of the dynamics (model order reduction, moment matching at each shift); ``info
-["error_estimate"]`` compares it with the space one chain level smaller, relative to the
-largest probe rise.  The chosen path and its size are in ``info``.
+["error_estimate"]`` compares it with the space of every other shift (σ = 0 kept),
+relative to the largest probe rise, floored at 1e-9 (rounding).  Measured: 1.3e-8 of the
+rise against the modal solver on the 2,000-node cross-section (estimate 1.5e-7), 2e-10 on a
+2,000-node board grid; on the 100k-node board grid its periodic peak is within 3e-10 of
+implicit stepping at tol 1e-6.  With basis="auto" an estimate above ``tol`` hands over to
+stepping.  The chosen path and its size are in ``info``.
 
 ``basis="step"`` (chosen by "auto" when the exact modes do not fit the budget and n ≤
 ``max_step_nodes``): no modes at all; implicit time stepping of the whole network with a
@@ -109,6 +114,9 @@ STEP_LEVEL_FACTOR = 0.185
 STEP_H0_FACTOR = 0.5
 #: GMRES stops at a residual below this fraction of tol × the largest rise.
 GMRES_FRACTION = 0.05
+#: Lowest reported Krylov estimate: below it the two spaces agree to rounding (measured:
+#: 2e-10 of the rise against the modal solver on a 2,000-node board grid, estimate 2e-11).
+ESTIMATE_FLOOR = 1e-9
 #: Segments re-run with halved steps for the transient's error estimate.
 ESTIMATE_SEGMENTS = 4
 
@@ -547,9 +555,15 @@ class SparseSolver:
         if extra is not None:
             start.append(extra.reshape(n, -1))
         X0 = np.hstack(start)
-        decades = max(math.log10(tmax / tau_cut), 0.0)
+        # no mode is faster than min C_i/(2 G_ii) (Gershgorin on C⁻¹G, diagonally
+        # dominant G; the massless rows' Schur complement keeps that), so shifts stop there
+        cap = self.C > 0
+        t_lo = tau_cut
+        if cap.any():
+            t_lo = max(tau_cut, float(np.min(C[cap] / (2.0 * self.G.diagonal()[cap]))))
+        decades = max(math.log10(tmax / t_lo), 0.0)
         nsh = max(1, int(math.ceil(decades * self.shifts_per_decade)) + 1)
-        taus = np.geomspace(tmax, tau_cut, nsh) if tmax > tau_cut else np.array([tau_cut])
+        taus = np.geomspace(tmax, t_lo, nsh) if tmax > t_lo else np.array([t_lo])
         shifts = [0.0] + list(1.0 / taus)
 
         def orth(Y, V):
@@ -699,7 +713,8 @@ class SparseSolver:
         other = fn(small)
         scale = max(float(np.max(np.abs(vals))), 1e-300)
         n = min(len(other), len(vals))
-        return {"error_estimate": float(np.max(np.abs(other[:n] - vals[:n]))) / scale}
+        est = float(np.max(np.abs(other[:n] - vals[:n]))) / scale
+        return {"error_estimate": max(est, ESTIMATE_FLOOR)}
 
 
     # -- implicit stepping path --------------------------------------------------------
