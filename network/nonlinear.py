@@ -82,6 +82,8 @@ T_LIMIT = 5000.0
 PERIODIC_LIMIT = 3000
 #: Backward-Euler steps per period of the linearised propagator in Krylov shooting.
 KRYLOV_STEPS = 32
+#: Tightest integrator tolerance used for the warm-up march (relative, and K absolute).
+WARMUP_RTOL = 1e-6
 #: Most periods integrated by :meth:`NonlinearSolver.warmup_crossing`.
 WARMUP_MAX_PERIODS = 100_000
 #: Interior samples per segment.
@@ -219,6 +221,7 @@ class NonlinearSolver:
         self.mass = np.flatnonzero(self.C == 0)
         self.floating = floating_nodes(system)
         self.n_rhs = 0
+        self.n_reject = 0
         self.n_jac = 0
         self.linear_k = bool(np.all(self.a == 0))
         # Jacobian pattern: entries (i,i) −g·U'(T_i), (i,j) +g·U'(T_j), (j,i) +g·U'(T_i),
@@ -519,7 +522,7 @@ class NonlinearSolver:
         lu = dla.lu_factor(M, check_finite=False)
         return lambda r: dla.lu_solve(lu, r, check_finite=False)
 
-    def _segment(self, Tfull0, a, s, h, t_eval):
+    def _segment(self, Tfull0, a, s, h, t_eval, watch=None):
         """Integrate one segment (nominal power P = a + s·t, 0 <= t <= h) from the full state
         ``Tfull0`` with the 3-stage Radau IIA method (order 5, L-stable, stiffly accurate)
         applied to ``M·dT/dt = F(t, T)``, ``M = diag(C)`` singular at massless nodes (their
@@ -538,7 +541,10 @@ class NonlinearSolver:
         tolerance, which is how the energy terms are accumulated.
 
         Returns the full state at ``t_eval`` (k, n), at the end, ``∫T dt`` (n,), the
-        number of steps, ``∫P_actual dt`` (m,) J and ``∫q_boundary dt`` J.
+        number of steps, ``∫P_actual dt`` (m,) J and ``∫q_boundary dt`` J.  With
+        ``watch = (row, level)`` it stops at the first accepted step whose stage values or
+        end value at ``row`` reach ``level`` K and returns ``("hit", t, y, h)``: the start
+        time, state and size of that step.
         """
         n = self.n
         C = self.C
@@ -627,6 +633,7 @@ class NonlinearSolver:
                     dn_old = dn
                 if not converged:
                     hstep *= 0.5
+                    self.n_reject += 1
                     continue
                 y_new = y + Z[2]
                 if not np.all(np.isfinite(y_new)) or np.any(y_new <= 0):
@@ -645,10 +652,13 @@ class NonlinearSolver:
                 safety = 0.9 * (2 * NEWTON_MAXITER + 1) / (2 * NEWTON_MAXITER + n_iter)
                 if en > 1:
                     hstep *= max(0.2, safety * en ** -0.25)
+                    self.n_reject += 1
                     continue
                 break
             # accepted: energy and ∫T dt by the scheme's own quadrature at the stages
             Y = y[None, :] + Z
+            if watch is not None and float(np.max(Y[:, watch[0]])) >= watch[1]:
+                return ("hit", t, y.copy(), hstep)
             w = hstep * RADAU_B
             integral += w @ Y
             p_act, q_b = self._stage_terms(Y, Pj)
@@ -731,7 +741,8 @@ class NonlinearSolver:
         t, v, Tend, integral, steps, terms = self._sweep(T0, edges, level, slope, rows)
         mean_full = integral / edges[-1]
         err, energy = self._energy(terms, T0, Tend)
-        info = {"method": "nonlinear", "steps": steps, "nfev": self.n_rhs,
+        info = {"method": "nonlinear", "steps": steps, "rejected": self.n_reject,
+                "nfev": self.n_rhs,
                 "njev": self.n_jac, "mean_full": mean_full, "energy_error": err,
                 "energy_J": energy, "success": True,
                 "message": f"Radau IIA (order 5), rtol {self.rtol:g}, atol {self.atol:g} K"}
@@ -744,14 +755,22 @@ class NonlinearSolver:
         absolute (None: the zero-power steady state).
 
         A nonlinear system has no exact period jump, so the transient is integrated period
-        by period (samples at the same phases as the periodic response); in the segment
-        where a sample first reaches the target the crossing time is located by Brent's
-        method on the re-integrated segment (R. P. Brent, *Algorithms for Minimization
-        without Derivatives*, 1973, ch. 4).  ``math.inf`` when the state settles (period
+        by period; the first Radau step whose stage or end values reach the target is
+        re-integrated from its start and the crossing located by Brent's method
+        (R. P. Brent, *Algorithms for Minimization without Derivatives*, 1973, ch. 4).
+        The march runs at tolerances no tighter than ``WARMUP_RTOL`` (relative and K):
+        the warm-up time is a figure quoted to a few digits and the march covers many
+        periods.  ``math.inf`` when the state settles (period
         map moves it less than ``atol``) below the target.  ``phase_t``, ``phase_v`` and
         ``q_ps`` are accepted for the common signature and not used.
         """
         edges, level, slope, _ = self._arrays(edges, level, slope, [row])
+        if self.rtol < WARMUP_RTOL or self.atol < WARMUP_RTOL:
+            loose = NonlinearSolver(self.system, rtol=max(self.rtol, WARMUP_RTOL),
+                                    atol=max(self.atol, WARMUP_RTOL),
+                                    max_newton=self.max_newton)
+            return loose.warmup_crossing(edges, level, slope, row, target_rise,
+                                         initial=initial)
         row = int(row)
         T_amb = self.steady(np.zeros(self.system.m))
         if initial is None:
@@ -765,32 +784,35 @@ class NonlinearSolver:
         if T[row] - T_amb[row] >= target:
             return 0.0
         T_per = float(edges[-1])
+        thr = float(T_amb[row]) + target
         for n_per in range(WARMUP_MAX_PERIODS):
             T_start = T.copy()
             for k in range(edges.size - 1):
                 h = float(edges[k + 1] - edges[k])
-                offs = self._offsets(h)
-                vals, T_end = self._segment(T, level[k], slope[k], h, offs)[:2]
-                hit = np.flatnonzero(vals[:, row] - T_amb[row] >= target)
-                if hit.size:
-                    j = int(hit[0])
-                    lo = 0.0 if j == 0 else float(offs[j - 1])
-                    T0, a, s = T, level[k], slope[k]
+                out = self._segment(T, level[k], slope[k], h, np.array([h]), watch=(row, thr))
+                if isinstance(out[0], str):
+                    _, ts, ys, hs = out
+                    a0, s0 = level[k] + slope[k] * ts, slope[k]
 
                     def f(tau):
-                        if tau <= 0.0:
-                            y = self._segment(T0, a, s, h, np.array([0.0]))[0][0] \
-                                if self.mass.size else T0
-                        else:
-                            y = self._segment(T0, a, s, tau, np.array([tau]))[1]
-                        return float(y[row] - T_amb[row] - target)
+                        y = self._segment(ys, a0, s0, tau, np.array([tau]))[1]
+                        return float(y[row] - thr)
 
+                    lo = 1e-9 * hs
                     if f(lo) >= 0.0:
-                        tau = lo
+                        return n_per * T_per + float(edges[k]) + ts
+                    cands = RADAU_C * hs
+                    vals = [f(c) for c in cands]
+                    up = [i for i, v in enumerate(vals) if v >= 0.0]
+                    if up:
+                        hi = float(cands[up[0]])
+                        lo = float(cands[up[0] - 1]) if up[0] > 0 else lo
+                        tau = brentq(f, lo, hi, xtol=1e-12 * T_per, rtol=1e-12)
                     else:
-                        tau = brentq(f, lo, float(offs[j]), xtol=1e-12 * T_per, rtol=1e-12)
-                    return n_per * T_per + float(edges[k]) + tau
-                T = T_end
+                        # touches the level between stages: take the closest approach
+                        tau = float(cands[int(np.argmax(vals))])
+                    return n_per * T_per + float(edges[k]) + ts + tau
+                T = out[1]
             if np.max(np.abs(T - T_start)) <= self.atol:
                 return math.inf
         raise RuntimeError(f"NonlinearSolver.warmup_crossing: the rise at node "
@@ -929,7 +951,8 @@ class NonlinearSolver:
         info = {"method": "nonlinear", "shooting_iterations": it, "mismatch_K": err,
                 "shooting": "krylov" if krylov else "dense",
                 "propagations": correct.counts["propagations"] if krylov else 0,
-                "steps": steps, "nfev": self.n_rhs, "mean_full": mean_full,
+                "steps": steps, "rejected": self.n_reject, "nfev": self.n_rhs,
+                "mean_full": mean_full,
                 "energy_error": e_err, "energy_J": energy, "success": True,
                 "message": f"shooting converged in {it} periods (mismatch {err:.2g} K)"}
         return RawResponse(t, v, T0, Tend, mean_full[rows], info)
