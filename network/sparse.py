@@ -103,7 +103,7 @@ from .modal import gk
 from .solvers import RawResponse
 from .system import ThermalSystem
 
-__all__ = ["SparseSolver", "ModeBasis", "count_modes_below"]
+__all__ = ["SparseSolver", "ModeBasis", "Stepper", "count_modes_below"]
 
 #: Samples inside a segment (log-spaced), besides its end.
 INTERIOR_POINTS = 8
@@ -697,7 +697,10 @@ class SparseSolver:
         if b.kind == "krylov":
             est = info.get("error_estimate", math.inf)
             info["tol"] = self.tol
-            if not est <= self.tol:
+            if est <= self.tol:
+                info["message"] += (f"; estimated error {est:.2g} of the largest rise "
+                                    f"(tolerance {self.tol:.2g})")
+            else:
                 info["success"] = False
                 info["message"] = (f"WARNING: reduced (rational Krylov) model, {b.lam.size} "
                                    f"Ritz modes: estimated error {est:.2g} of the largest "
