@@ -889,8 +889,10 @@ class ModalSolver:
             lo = int(pw[hit[0] - 1])
             # invariant: period lo is below the target, period hi reaches it
             while hi - lo > 1:
-                grid = np.unique(np.linspace(lo, hi, min(hi - lo + 1, 258)).astype(np.int64))
-                inner = grid[(grid > lo) & (grid < hi)]
+                if hi - lo + 1 <= 258:
+                    inner = np.arange(lo + 1, hi, dtype=np.int64)
+                else:   # 256 interior points, spacing > 1 so strictly increasing
+                    inner = np.linspace(lo, hi, 258)[1:-1].astype(np.int64)
                 ok = first_over(inner.astype(np.float64))
                 over = np.flatnonzero(ok)
                 if over.size:

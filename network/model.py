@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
-from typing import Mapping
+from collections.abc import Mapping
 
 import networkx as nx
 import numpy as np
