@@ -137,6 +137,7 @@ class ThermalNetwork:
         self._inputs: dict[str, InputSpec] = {}
         self._system: ThermalSystem | None = None
         self._solvers: dict = {}
+        self._solver_options: dict[str, dict] = {}
 
     # -- building ---------------------------------------------------------------------
     def _changed(self) -> None:
@@ -351,15 +352,32 @@ class ThermalNetwork:
             raise NetworkError("probes = []: expected at least one node name")
         return np.array(rows, dtype=np.int64)
 
+    def configure_solver(self, method: str, **options) -> None:
+        """Options for a named solver, used from the next analysis on.
+
+        For example ``net.configure_solver("sparse", tol=1e-8, max_modes=500)``; the options
+        are those of the solver class (see :data:`pulsetherm.network.solvers.SOLVERS`).
+        """
+        from .solvers import SOLVERS
+
+        if method not in SOLVERS:
+            raise ValueError(f"configure_solver: method {method!r} is not a solver; expected "
+                             f"one of {', '.join(SOLVERS)}")
+        self._solver_options[method] = dict(options)
+        self._solvers = {}
+
     def _solver(self, method):
         from .solvers import resolve_solver
 
         sys_ = self.system()
         cls = resolve_solver(method, sys_)
-        key = cls
-        if key not in self._solvers:
-            self._solvers[key] = cls(sys_)
-        return self._solvers[key]
+        if cls not in self._solvers:
+            options = self._solver_options.get(getattr(cls, "name", ""), {})
+            try:
+                self._solvers[cls] = cls(sys_, **options)
+            except TypeError as exc:  # an option the solver does not take
+                raise ValueError(f"solver {getattr(cls, 'name', cls)!r}: {exc}") from None
+        return self._solvers[cls]
 
     # -- analyses ---------------------------------------------------------------------
     def steady(self, powers: Mapping[str, float] | None = None, method: str = "auto") -> SteadyResult:

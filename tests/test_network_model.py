@@ -255,3 +255,25 @@ def test_warmup_time_single_rc():
 
     assert abs(theta(w) - 0.99 * pk) < 1e-9
     assert theta(w - 1e-9) < 0.99 * pk
+
+
+def test_solver_options_reach_the_solver_and_bad_ones_are_named():
+    from pulsetherm.waveforms import PulseTrain
+
+    net = ThermalNetwork()
+    net.add_boundary("sink", temperature=25.0)
+    net.add_node("a", capacity=1e-3)
+    net.add_node("b", capacity=1e-1)
+    net.connect("a", "b", resistance=0.5)
+    net.connect("b", "sink", resistance=1.0)
+    net.add_input("p", nodes={"a": 1.0})
+    w = {"p": PulseTrain(peak=10.0, width=1e-4, period=1e-3)}
+    exact = net.periodic(w, method="modal").peak("a")
+    net.configure_solver("sparse", basis="step", tol=1e-7)
+    res = net.periodic(w, method="sparse")
+    assert res.peak("a") == pytest.approx(exact, rel=1e-5)
+    net.configure_solver("sparse", no_such_option=1)
+    with pytest.raises(ValueError, match="(?i)sparse.*no_such_option"):
+        net.periodic(w, method="sparse")
+    with pytest.raises(ValueError, match="not a solver"):
+        net.configure_solver("fast", tol=1)
