@@ -44,13 +44,16 @@ their values are made consistent once by Newton.  Accuracy is that of the tolera
 (``rtol``, ``atol`` options).  Energy balance: the stage quadrature ``h·Σ b_j·(…)`` of the
 actual input ``P·(1 + c·(T̄ − Tref))`` and of the heat into the boundaries through the k(T)
 edges is consistent with the scheme, so ``E_in = ΔE_stored + E_boundaries`` holds to the
-Newton tolerance (reported as ``energy_error``).  Periodic steady
-state: shooting on the start-of-period state, seeded with the steady state at the mean power,
+Newton tolerance (reported as ``energy_error``).
+
+Periodic steady state: shooting on the start-of-period state, seeded with the steady state at the mean power,
 corrected with the linearised monodromy ``(I − e^{T·J_lin})`` (a chord-Newton method) until one
 period maps the state onto itself within ``atol``.  Up to ``PERIODIC_LIMIT`` capacitive nodes
 the monodromy is a dense matrix exponential; above (or with ``shooting="krylov"``) the
-correction is solved matrix-free by preconditioned GMRES with ``expm_multiply`` (see
-:meth:`NonlinearSolver._krylov_correction`).
+correction is solved matrix-free by preconditioned GMRES with a backward-Euler linearised
+propagator (see :meth:`NonlinearSolver._krylov_correction`).  Warm-up time: the transient
+from ambient integrated period by period until the probe first reaches the target
+(:meth:`NonlinearSolver.warmup_crossing`).
 
 References
 ----------
@@ -67,7 +70,7 @@ import numpy as np
 import scipy.linalg as dla
 import scipy.sparse as sp
 import scipy.sparse.linalg as sla
-from scipy.optimize import brentq
+from scipy.optimize import brentq, minimize_scalar
 
 from .assemble import NetworkError, floating_nodes
 from .solvers import RawResponse
@@ -522,7 +525,7 @@ class NonlinearSolver:
         lu = dla.lu_factor(M, check_finite=False)
         return lambda r: dla.lu_solve(lu, r, check_finite=False)
 
-    def _segment(self, Tfull0, a, s, h, t_eval, watch=None):
+    def _segment(self, Tfull0, a, s, h, t_eval, watch=None, track=None):
         """Integrate one segment (nominal power P = a + s·t, 0 <= t <= h) from the full state
         ``Tfull0`` with the 3-stage Radau IIA method (order 5, L-stable, stiffly accurate)
         applied to ``M·dT/dt = F(t, T)``, ``M = diag(C)`` singular at massless nodes (their
@@ -544,7 +547,9 @@ class NonlinearSolver:
         number of steps, ``∫P_actual dt`` (m,) J and ``∫q_boundary dt`` J.  With
         ``watch = (row, level)`` it stops at the first accepted step whose stage values or
         end value at ``row`` reach ``level`` K and returns ``("hit", t, y, h)``: the start
-        time, state and size of that step.
+        time, state and size of that step.  With ``track`` (a dict from :meth:`_sweep`)
+        the largest and smallest stage values of the tracked rows are recorded with the
+        start of their step, for the refinement of the extremes.
         """
         n = self.n
         C = self.C
@@ -659,6 +664,15 @@ class NonlinearSolver:
             Y = y[None, :] + Z
             if watch is not None and float(np.max(Y[:, watch[0]])) >= watch[1]:
                 return ("hit", t, y.copy(), hstep)
+            if track is not None:
+                V = Y[:, track["rows"]]
+                vmax, vmin = V.max(axis=0), V.min(axis=0)
+                for p in np.flatnonzero(vmax > track["hi"]):
+                    track["hi"][p] = vmax[p]
+                    track["hi_at"][p] = (track["seg"], t, y, hstep)
+                for p in np.flatnonzero(vmin < track["lo"]):
+                    track["lo"][p] = vmin[p]
+                    track["lo_at"][p] = (track["seg"], t, y, hstep)
             w = hstep * RADAU_B
             integral += w @ Y
             p_act, q_b = self._stage_terms(Y, Pj)
@@ -691,10 +705,16 @@ class NonlinearSolver:
         steps = 0
         e_in = np.zeros(self.system.m)
         e_bnd = 0.0
+        p = rows.size
+        track = ({"rows": rows, "hi": np.full(p, -np.inf), "lo": np.full(p, np.inf),
+                  "hi_at": [None] * p, "lo_at": [None] * p, "seg": 0} if sample else None)
         for k in range(edges.size - 1):
             h = edges[k + 1] - edges[k]
             offs = self._offsets(h) if sample else np.array([h])
-            vals, T, integ, nf, ei, eb = self._segment(T, level[k], slope[k], h, offs)
+            if track is not None:
+                track["seg"] = k
+            vals, T, integ, nf, ei, eb = self._segment(T, level[k], slope[k], h, offs,
+                                                       track=track)
             integral += integ
             steps += nf
             e_in += ei
@@ -703,10 +723,48 @@ class NonlinearSolver:
             v_out.append(vals[:, rows])
         t = np.concatenate(t_out)
         t[-1] = edges[-1]
+        v = np.vstack(v_out)
+        if track is not None:
+            t, v = self._refine_extremes(t, v, track, edges, level, slope, rows)
         terms = {"input_J": float(e_in.sum()), "to_boundaries_J": e_bnd,
                  "input_by_source_J": {nm: float(v) for nm, v in
                                        zip(self.system.input_names, e_in)}}
-        return t, np.vstack(v_out), T, integral, steps, terms
+        return t, v, T, integral, steps, terms
+
+    def _refine_extremes(self, t, v, track, edges, level, slope, rows):
+        """Add the exact maximum and minimum of every probe as samples: inside the Radau
+        step whose stage values were extreme, the probe temperature is maximised
+        (minimised) over the step by Brent's bounded method on a re-integration from the
+        step start (one short Radau step per evaluation; R. P. Brent 1973, ch. 5)."""
+        new_t, new_v = [], []
+        for p in range(rows.size):
+            for kind, sign, best in (("hi_at", -1.0, np.max(v[:, p])),
+                                     ("lo_at", 1.0, np.min(v[:, p]))):
+                at = track[kind][p]
+                if at is None:
+                    continue
+                k, ts, ys, hs = at
+                a0, s0 = level[k] + slope[k] * ts, slope[k]
+
+                def state(tau):
+                    if tau <= 0.0:
+                        return ys
+                    return self._segment(ys, a0, s0, tau, np.array([tau]))[1]
+
+                res = minimize_scalar(lambda tau: sign * state(tau)[rows[p]],
+                                      bounds=(0.0, hs), method="bounded",
+                                      options={"xatol": 1e-10 * hs})
+                tau = float(res.x)
+                y = state(tau)
+                if sign * (y[rows[p]] - best) < 0.0:   # better than every sample
+                    new_t.append(edges[k] + ts + tau)
+                    new_v.append(y[rows])
+        if not new_t:
+            return t, v
+        t2 = np.concatenate([t, new_t])
+        v2 = np.vstack([v, np.array(new_v)])
+        order = np.argsort(t2, kind="stable")
+        return t2[order], v2[order]
 
     def _energy(self, terms: dict, T_start: np.ndarray, T_end: np.ndarray) -> tuple[float, dict]:
         """Relative imbalance ``|E_in − ΔE_stored − E_boundaries| / max(|terms|)`` with the
@@ -760,11 +818,21 @@ class NonlinearSolver:
         (R. P. Brent, *Algorithms for Minimization without Derivatives*, 1973, ch. 4).
         The march runs at tolerances no tighter than ``WARMUP_RTOL`` (relative and K):
         the warm-up time is a figure quoted to a few digits and the march covers many
-        periods.  ``math.inf`` when the state settles (period
-        map moves it less than ``atol``) below the target.  ``phase_t``, ``phase_v`` and
-        ``q_ps`` are accepted for the common signature and not used.
+        periods.  ``math.inf`` when the state settles (period map moves it less than
+        ``atol``) below the target.  A linear system (constant k, no temperature
+        coefficients) is handed to the exact modal warm-up
+        (:meth:`ModalSolver.warmup_crossing`, which uses the periodic samples ``phase_t``,
+        ``phase_v``); ``q_ps`` is accepted for the common signature and not used.
         """
         edges, level, slope, _ = self._arrays(edges, level, slope, [row])
+        if self.system.is_linear:
+            # nothing depends on temperature: the exact modal period jump applies
+            from .modal import ModalSolver
+
+            return ModalSolver(self.system).warmup_crossing(
+                edges, level, slope, int(row), float(target_rise),
+                np.asarray(phase_t, dtype=np.float64), np.asarray(phase_v, dtype=np.float64),
+                initial=initial)
         if self.rtol < WARMUP_RTOL or self.atol < WARMUP_RTOL:
             loose = NonlinearSolver(self.system, rtol=max(self.rtol, WARMUP_RTOL),
                                     atol=max(self.atol, WARMUP_RTOL),
