@@ -147,6 +147,14 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("pulsetherm: interrupted", file=sys.stderr)
         return EXIT_ERROR
+    except BrokenPipeError:
+        # the reader went away (``pulsetherm run ... | head``): stop quietly; point stdout
+        # at devnull so the interpreter's final flush does not complain again
+        import os
+
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        return EXIT_OK
     except (ValueError, OSError, KeyError) as exc:
         # ScenarioError, the modules' own ValueError subclasses, tomllib.TOMLDecodeError
         # (a ValueError), unreadable files: one short line, no traceback.

@@ -144,14 +144,30 @@ def zth_text(res: Any) -> str:
 
 
 # -- sweep / size ------------------------------------------------------------------------
+#: A grid sweep with at most this many rows is printed row by row.
+GRID_ROWS_SHOWN = 60
+
+
 def sweep_text(res: Any) -> str:
     d = res.to_dict()
     out = [f"sweep of {d['scenario']}: {d['rows']} rows ({d['skipped']} resumed, "
            f"{d['failed']} failed)"]
     if d.get("out"):
         out.append(f"rows written to {d['out']}")
+    if res.mode == "grid" and 0 < len(res.rows) <= GRID_ROWS_SHOWN:
+        heads = list(res.paths) + [f"{p} peak degC" for p in res.probes] + ["limits"]
+        body = []
+        for r in res.rows:
+            if r.get("error"):
+                body.append([r.get(p) for p in res.paths] + ["-"] * len(res.probes)
+                            + [f"error: {r['error']}"])
+                continue
+            body.append([r.get(p) for p in res.paths] + [r.get(f"{p}.peak_C") for p in res.probes]
+                        + ["ok" if r.get("ok") else "broken"])
+        out.append("")
+        out.append(table(heads, body, align="l" * len(res.paths) + "r" * len(res.probes) + "l"))
     stats = d.get("percentiles") or {}
-    if stats:
+    if stats and not (res.mode == "grid" and len(res.rows) <= GRID_ROWS_SHOWN):
         qs = list(next(iter(stats.values())).keys())
         out.append("")
         out.append(table(["probe peak degC"] + qs,
@@ -162,10 +178,19 @@ def sweep_text(res: Any) -> str:
     return "\n".join(out)
 
 
+def _short_quantity(text: str, digits: int = 5) -> str:
+    """``'400.793457 us'`` -> ``'400.79 us'`` for display (the JSON keeps every digit)."""
+    num, _, unit = text.partition(" ")
+    try:
+        return f"{float(num):.{digits}g} {unit}".strip()
+    except ValueError:
+        return text
+
+
 def sizing_text(res: Any) -> str:
     d = res.to_dict()
     out = [f"{d['adjust']}: {d['kind']} value keeping every limit with {d['margin_K']:g} K "
-           f"margin = {d['value_text']}",
+           f"margin = {_short_quantity(d['value_text'])}",
            f"binding probe: {d['binding_probe']} (peak {d['binding_peak_C']:.2f} degC, "
            f"limit {d['binding_limit_C']:.2f} degC)",
            f"evaluations: {d['evaluations']}"]

@@ -1,0 +1,44 @@
+"""Command-line output details: grid sweeps row by row, sizing figures, closed pipes."""
+from __future__ import annotations
+
+import subprocess
+import sys
+from pathlib import Path
+
+from pulsetherm.tui.cli import main
+from pulsetherm.tui.report import _short_quantity
+
+EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
+
+
+def test_grid_sweep_prints_one_line_per_row(capsys):
+    rc = main(["sweep", str(EXAMPLES / "termination_line.toml"), "--no-progress",
+               "--vary", "board.layers[1].material=ptfe-ceramic,ptfe-woven-glass"])
+    out = capsys.readouterr().out
+    assert rc == 0
+    lines = [ln for ln in out.splitlines() if ln.startswith(("ptfe-ceramic", "ptfe-woven"))]
+    assert len(lines) == 2
+    # the poorer conductor runs hotter (common practice, no source)
+    peak = {ln.split()[0]: float(ln.split()[1]) for ln in lines}
+    assert peak["ptfe-woven-glass"] > peak["ptfe-ceramic"]
+
+
+def test_sizing_value_is_shown_with_five_digits():
+    assert _short_quantity("400.793457 us") == "400.79 us"
+    assert _short_quantity("0.1234567 K/W") == "0.12346 K/W"
+    assert _short_quantity("n/a") == "n/a"
+
+
+def test_a_closed_pipe_ends_quietly():
+    # ~300 listings overflow any pipe buffer, so the writer meets the closed pipe
+    code = ("import sys\nfrom pulsetherm.tui.cli import main\n"
+            "rcs = {main(['materials']) for _ in range(300)}\n"
+            "sys.exit(max(rcs))\n")
+    proc = subprocess.Popen([sys.executable, "-P", "-c", code], stdout=subprocess.PIPE,
+                            stderr=subprocess.PIPE)
+    proc.stdout.readline()
+    proc.stdout.close()          # the reader goes away after one line, like `| head -1`
+    err = proc.stderr.read().decode()
+    proc.stderr.close()
+    assert proc.wait(timeout=60) == 0
+    assert "Traceback" not in err and "Broken pipe" not in err
