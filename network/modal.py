@@ -233,6 +233,9 @@ class ModalSolver:
     linearize
         Option: accept a nonlinear system and use its reference conductances (for small-
         signal impedances).
+    linear_points
+        Option: evenly spaced samples added inside every segment (default 0), for plots on
+        a linear time axis; the log-spaced samples and exact extremes are always there.
 
     Attributes
     ----------
@@ -251,6 +254,10 @@ class ModalSolver:
     name = "modal"
 
     def __init__(self, system: ThermalSystem, **options) -> None:
+        unknown = set(options) - {"linearize", "linear_points"}
+        if unknown:
+            raise ValueError(f"ModalSolver: unknown option(s) {sorted(unknown)}; expected "
+                             "linearize, linear_points")
         if not system.is_linear and not options.get("linearize", False):
             raise ValueError("ModalSolver: the system is nonlinear (k(T) exponents or "
                              "temperature coefficients); use the nonlinear solver")
@@ -462,7 +469,8 @@ class ModalSolver:
         t_list = [np.array([0.0]), edges[1:]]
         v_list = [p0[None, :], ends]
         # interior log-spaced points down to the fastest relevant time constant
-        if store and N * INTERIOR_POINTS <= SAMPLE_BUDGET:
+        if store and N * (INTERIOR_POINTS + int(self.options.get("linear_points", 0))) \
+                <= SAMPLE_BUDGET:
             tau_f = self._fast_tau(Pp)
             h = edges[1:] - edges[:-1]
             lo = np.maximum(tau_f / 4.0, h * 1e-6)
@@ -478,6 +486,12 @@ class ModalSolver:
             kl = np.repeat(np.flatnonzero(~geo), ne)
             ks = np.concatenate([kg, kl])
             ss = np.concatenate([sg[geo].ravel(), sl[~geo].ravel()])
+            L = int(self.options.get("linear_points", 0))
+            if L > 0:
+                # evenly spaced points as well (for plots on a linear time axis)
+                ks = np.concatenate([ks, np.repeat(np.arange(N), L)])
+                ss = np.concatenate([ss, (h[:, None] * (np.arange(1, L + 1) / (L + 1))
+                                          [None, :]).ravel()])
             if ks.size:
                 q, _, _ = self._seg_states(starts[:, ks], ss, level[ks], slope[ks])
                 self.n_eval += ks.size

@@ -49,6 +49,31 @@ def _figure(plt, rows: int, cols: int):
                         layout="constrained")
 
 
+def _time_unit(span: float) -> tuple[str, float]:
+    """A readable time unit for an axis spanning ``span`` seconds, and its scale."""
+    for unit, scale in (("ns", 1e9), ("µs", 1e6), ("ms", 1e3)):
+        if span * scale < 2000:
+            return unit, scale
+    return "s", 1.0
+
+
+def _dense_period(res: Any, points: int = 48):
+    """One period again with evenly spaced samples in every segment (modal solver), so a
+    linear time axis shows the shape between the log-spaced samples; the run's own response
+    for the other solvers."""
+    r = res.response
+    if getattr(r, "method", "") != "modal":
+        return r
+    m = res.model
+    net = m.network
+    net.configure_solver("modal", linear_points=points)
+    try:
+        return net.periodic(m.waveforms, probes=list(dict.fromkeys(m.probes.values())),
+                            method="modal")
+    finally:
+        net.configure_solver("modal")
+
+
 def plot_run(res: Any, path: str | Path) -> None:
     """Temperature against time (warm-up from cold, one period, a zoom on the pulse at the
     hottest probe), each layer's share of the mean rise, and the line profile(s)."""
@@ -67,15 +92,16 @@ def plot_run(res: Any, path: str | Path) -> None:
         a.plot(warm.t, warm.T(node), label=n, lw=1.0)
     a.set(title="warm-up from ambient", xlabel="time (s)", ylabel="temperature (degC)")
     a.legend(fontsize=7, loc="lower right")
-    # one period of the periodic steady state
-    r = res.response
+    # one period of the periodic steady state, densely sampled for a linear time axis
+    r = _dense_period(res)
+    unit, scale = _time_unit(float(r.t[-1] - r.t[0]))
     a = ax[0][1]
     for n, node in zip(names, nodes):
-        a.plot(r.t, r.T(node), label=n, lw=1.0)
+        a.plot(r.t * scale, r.T(node), label=n, lw=1.0)
         if res.probes[n].limit_C is not None:
             a.axhline(res.probes[n].limit_C, ls="--", lw=0.7, color="0.4")
-    a.set(title="one period (periodic steady state)", xlabel="time (s)",
-          ylabel="temperature (degC)")
+    a.set(title="one period, periodic state (dashed: limits)",
+          xlabel=f"time ({unit})", ylabel="temperature (degC)")
     # zoom on the pulse at the hottest probe
     hot = max(names, key=lambda n: res.probes[n].peak_C)
     T = r.T(model.probes[hot])
@@ -84,9 +110,12 @@ def plot_run(res: Any, path: str | Path) -> None:
     t0 = max(float(r.t[0]), float(r.t[k]) - 0.05 * span)
     t1 = min(float(r.t[-1]), float(r.t[k]) + 0.05 * span)
     sel = (r.t >= t0) & (r.t <= t1)
+    zunit, zscale = _time_unit(t1 - t0)
     a = ax[1][0]
-    a.plot(r.t[sel], T[sel], lw=1.2)
-    a.set(title=f"zoom on the peak at {hot}", xlabel="time (s)", ylabel="temperature (degC)")
+    a.plot(r.t[sel] * zscale, T[sel], lw=1.2)
+    a.axhline(res.probes[hot].peak_C, ls=":", lw=0.7, color="0.4")
+    a.set(title=f"zoom on the peak at {hot} ({res.probes[hot].peak_C:.2f} degC)",
+          xlabel=f"time ({zunit})", ylabel="temperature (degC)")
     # budget
     a = ax[1][1]
     if res.budget:
@@ -100,7 +129,7 @@ def plot_run(res: Any, path: str | Path) -> None:
     if has_lines:
         a = ax[0][2]
         for name, bl in model.lines.items():
-            rep = bl.report(r)
+            rep = bl.report(res.response)
             a.plot(np.asarray(rep.x) * 1e3, rep.temperature, label=f"{name} peak")
             a.plot(np.asarray(rep.x) * 1e3, rep.mean, ls="--", label=f"{name} mean")
         a.set(title="line profile", xlabel="position along the line (mm)",
