@@ -525,7 +525,7 @@ class NonlinearSolver:
         lu = dla.lu_factor(M, check_finite=False)
         return lambda r: dla.lu_solve(lu, r, check_finite=False)
 
-    def _segment(self, Tfull0, a, s, h, t_eval, watch=None, track=None):
+    def _segment(self, Tfull0, a, s, h, t_eval, watch=None, track=None, first=None):
         """Integrate one segment (nominal power P = a + s·t, 0 <= t <= h) from the full state
         ``Tfull0`` with the 3-stage Radau IIA method (order 5, L-stable, stiffly accurate)
         applied to ``M·dT/dt = F(t, T)``, ``M = diag(C)`` singular at massless nodes (their
@@ -549,7 +549,8 @@ class NonlinearSolver:
         end value at ``row`` reach ``level`` K and returns ``("hit", t, y, h)``: the start
         time, state and size of that step.  With ``track`` (a dict from :meth:`_sweep`)
         the largest and smallest stage values of the tracked rows are recorded with the
-        start of their step, for the refinement of the extremes.
+        start of their step, for the refinement of the extremes.  ``first``: size of the
+        first step to try (re-integrations inside a step accepted before).
         """
         n = self.n
         C = self.C
@@ -582,6 +583,9 @@ class NonlinearSolver:
             if self.cap.size else 0.0
         hs = min(h, 0.01 * d0 / d1 if d1 > 1e-5 else h)
         hs = max(hs, 1e-12 * h)
+        if first is not None:
+            # a step of this size was accepted from this state before (re-integration)
+            hs = min(h, float(first))
         while t < h * (1 - 1e-14):
             while k_stop < stops.size and stops[k_stop] <= t * (1 + 1e-14):
                 out[k_stop] = y
@@ -667,12 +671,17 @@ class NonlinearSolver:
             if track is not None:
                 V = Y[:, track["rows"]]
                 vmax, vmin = V.max(axis=0), V.min(axis=0)
+                # an extreme at the segment's end is a corner (the power changes there):
+                # it is a sample already and needs no refinement
+                corner = t + hstep >= h * (1 - 1e-12)
                 for p in np.flatnonzero(vmax > track["hi"]):
                     track["hi"][p] = vmax[p]
-                    track["hi_at"][p] = (track["seg"], t, y, hstep)
+                    track["hi_at"][p] = (None if corner and V[2, p] >= vmax[p] else
+                                         (track["seg"], t, y, hstep))
                 for p in np.flatnonzero(vmin < track["lo"]):
                     track["lo"][p] = vmin[p]
-                    track["lo_at"][p] = (track["seg"], t, y, hstep)
+                    track["lo_at"][p] = (None if corner and V[2, p] <= vmin[p] else
+                                         (track["seg"], t, y, hstep))
             w = hstep * RADAU_B
             integral += w @ Y
             p_act, q_b = self._stage_terms(Y, Pj)
@@ -749,11 +758,11 @@ class NonlinearSolver:
                 def state(tau):
                     if tau <= 0.0:
                         return ys
-                    return self._segment(ys, a0, s0, tau, np.array([tau]))[1]
+                    return self._segment(ys, a0, s0, tau, np.array([tau]), first=hs)[1]
 
                 res = minimize_scalar(lambda tau: sign * state(tau)[rows[p]],
                                       bounds=(0.0, hs), method="bounded",
-                                      options={"xatol": 1e-10 * hs})
+                                      options={"xatol": 1e-4 * hs})
                 tau = float(res.x)
                 y = state(tau)
                 if sign * (y[rows[p]] - best) < 0.0:   # better than every sample
@@ -863,7 +872,7 @@ class NonlinearSolver:
                     a0, s0 = level[k] + slope[k] * ts, slope[k]
 
                     def f(tau):
-                        y = self._segment(ys, a0, s0, tau, np.array([tau]))[1]
+                        y = self._segment(ys, a0, s0, tau, np.array([tau]), first=hs)[1]
                         return float(y[row] - thr)
 
                     lo = 1e-9 * hs
