@@ -84,11 +84,15 @@ def _single(ks, tim, vias, spread):
 @settings(max_examples=5, deadline=None)
 @given(ks=ks, which=st.integers(0, 4), factor=st.floats(1.05, 4.0),
        tim=st.floats(20e-6, 100e-6), thin=st.floats(0.2, 0.9), kv=st.floats(2.0, 40.0),
-       spread=st.sampled_from(["angle", "none", "calibrated"]))
+       spread=st.sampled_from(["angle", "none"]))
 def test_one_source_no_node_gets_warmer(ks, which, factor, tim, thin, kv, spread):
     """With one heated part every steady temperature of its column is the heat times the
     resistance from that node to the sink, which no added conductance can raise (Rayleigh's
-    monotonicity law, Doyle & Snell 1984, ch. 1.4)."""
+    monotonicity law, Doyle & Snell 1984, ch. 1.4).
+
+    Geometric spreading only: a calibrated column's sub-layer areas follow the exact
+    solution for the given conductivities, so its inner nodes stand for other averages when
+    a k changes (its junction is covered by the tests above)."""
     t0 = _single(ks, tim, None, spread)
     ks2 = list(ks)
     ks2[which] *= factor
