@@ -51,9 +51,9 @@ ks = st.tuples(st.floats(100, 400), st.floats(30, 80), st.floats(100, 400),
                st.floats(300, 400), st.floats(0.2, 1.5))
 
 
-@settings(max_examples=6, deadline=None)
+@settings(max_examples=8, deadline=None)
 @given(ks=ks, which=st.integers(0, 4), factor=st.floats(1.05, 4.0),
-       tim=st.floats(20e-6, 100e-6), spread=st.sampled_from(["angle", "none"]))
+       tim=st.floats(20e-6, 100e-6), spread=st.sampled_from(["angle", "none", "calibrated"]))
 def test_raising_k_never_raises_a_junction(ks, which, factor, tim, spread):
     r0 = _rises(_assembly(ks, tim, None, spread), spread)
     ks2 = list(ks)
@@ -64,7 +64,7 @@ def test_raising_k_never_raises_a_junction(ks, which, factor, tim, spread):
 
 @settings(max_examples=4, deadline=None)
 @given(ks=ks, kv=st.floats(2.0, 40.0), tim=st.floats(20e-6, 100e-6), thin=st.floats(0.2, 0.9),
-       spread=st.sampled_from(["angle", "none"]))
+       spread=st.sampled_from(["angle", "none", "calibrated"]))
 def test_vias_and_thinner_interface_never_raise_a_junction(ks, kv, tim, thin, spread):
     r0 = _rises(_assembly(ks, tim, None, spread), spread)
     r1 = _rises(_assembly(ks, tim, max(kv, ks[4] * 1.01), spread), spread)
