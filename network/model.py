@@ -469,17 +469,20 @@ class ThermalNetwork:
         return res
 
     def warmup_time(self, waveforms: Mapping, node: str, fraction: float = 0.99,
-                    initial=None) -> float:
+                    initial=None, method: str = "auto") -> float:
         """Time (s) from ``initial`` (None: ambient) until the rise at ``node`` first reaches
         ``fraction`` of its periodic-steady-state peak rise (exact, whole periods jumped)."""
         fr = _finite("fraction", fraction, "a fraction in (0, 1]", 0.0, True)
         if fr > 1:
             raise NetworkError(f"fraction = {fraction!r}: expected a fraction in (0, 1]")
-        res = self.periodic(waveforms, probes=[node], method="modal", warmup_fraction=fr)
+        res = self.periodic(waveforms, probes=[node], method=method, warmup_fraction=fr)
         if initial is None:
             return float(res.warmup_s[node])
         sys_ = self.system()
-        solver = self._solver("modal")
+        solver = self._solver(method)
+        if not hasattr(solver, "warmup_crossing"):
+            raise NetworkError(f"warmup_time: the {getattr(solver, 'name', method)!r} solver "
+                               "has no warm-up search; use method='modal' or 'nonlinear'")
         edges, level, slope = align(self._power_pieces(waveforms))
         r = sys_.index(node)
         amb = static_field(sys_)
@@ -652,6 +655,14 @@ def _join(a, b, t0: float):
         info["mean_full"] = (a.info["mean_full"] * d_a + b.info["mean_full"] * d_b) / (d_a + d_b)
     else:
         info.pop("mean_full", None)
+    if "energy_J" in a.info and "energy_J" in b.info:
+        # energy terms of the two parts add; the balance is recomputed from the sums
+        terms = {k: a.info["energy_J"][k] + b.info["energy_J"][k]
+                 for k in ("input_J", "to_boundaries_J", "stored_J")}
+        scale = max(abs(v) for v in terms.values())
+        info["energy_J"] = terms
+        info["energy_error"] = (abs(terms["input_J"] - terms["stored_J"]
+                                    - terms["to_boundaries_J"]) / scale if scale > 0 else 0.0)
     skip = 1 if tb.size and ta.size and abs(tb[0] - ta[-1]) <= 1e-12 * max(t0, 1e-300) else 0
     return RawResponse(np.concatenate([ta, tb[skip:]]), np.vstack([a.theta, b.theta[skip:]]),
                        a.state_start, b.state_end, mean, info)

@@ -591,7 +591,9 @@ def _add_lines(model: ScenarioModel, lib) -> None:
                                h.capacity.value if h.capacity else 0.0) for _, h in heaters]
             rl = RFLine(ms, spec.length.value, lam, copper=copper, heaters=tuple(pts),
                         limit=spec.limit.degC if spec.limit else None)
-            bl = rl.build(net, ground, prefix=spec.name)
+            nonlinear = bool(model.scenario.model and model.scenario.model.nonlinear)
+            # nonlinear: copper loss rises with the line temperature (0.00393 /K, IACS)
+            bl = rl.build(net, ground, prefix=spec.name, temp_coeff=nonlinear)
         except ScenarioError:
             raise
         except ValueError as exc:

@@ -120,3 +120,21 @@ def test_nonlinear_scenario_command_line_prints_no_nan(files, capsys):
     assert "nan" not in raw.lower()
     d = json.loads(raw)
     assert d["probes"]["pa.junction"]["peak_C"] > d["probes"]["pa.junction"]["mean_C"]
+
+
+def test_nonlinear_line_heat_rises_with_copper_temperature():
+    """``nonlinear = true`` turns on the copper-loss temperature coefficient of lines
+    (resistivity +0.393 %/K, International Annealed Copper Standard; skin-effect loss ∝ √ρ):
+    the hot spot runs a little hotter than the linear model, never cooler."""
+    from pathlib import Path
+
+    from pulsetherm.network.scenario import loads
+    from pulsetherm.network.simulate import simulate
+
+    text = (Path(__file__).resolve().parents[1] / "examples" / "termination_line.toml").read_text()
+    assert "[model]" not in text
+    lin = simulate(loads(text)).probes["feed.hottest"]
+    res = simulate(loads(text + "\n[model]\nnonlinear = true\n"))
+    assert res.response.method == "nonlinear"
+    hot = res.probes["feed.hottest"]
+    assert lin.peak_C < hot.peak_C < lin.peak_C + 0.05 * (lin.peak_C - 50.0)
