@@ -363,6 +363,17 @@ def _avg_sum(a: float, b: float, ks: np.ndarray, ts: np.ndarray, h: float,
         / float(ks[0])
 
 
+
+def _disk(a, b, k, t) -> tuple[float, float, np.ndarray, np.ndarray]:
+    """Validated source radius a, disk radius b (0 < a ≤ b) and layer arrays (k, t)."""
+    a = _pos("a", a)
+    b = _pos("b", b)
+    if a > b:
+        raise SpreadingError(f"a = {a!r}: expected a source radius at most the disk radius "
+                             f"b = {b!r}")
+    ks, ts = _layers(k, t)
+    return a, b, ks, ts
+
 def circular_series(a: float, b: float, k, t, h: float, *,
                     rtol: float = 1e-7, terms: int | None = None,
                     centre: bool = True) -> SpreadingResult:
@@ -410,12 +421,7 @@ def circular_series(a: float, b: float, k, t, h: float, *,
     ----------
     Yovanovich, Culham & Teertstra, IEEE Trans. CPMT-A 21(1), 1998.
     """
-    a = _pos("a", a)
-    b = _pos("b", b)
-    if a > b:
-        raise SpreadingError(f"a = {a!r}: expected a source radius at most the disk radius "
-                             f"b = {b!r}")
-    ks, ts = _layers(k, t)
+    a, b, ks, ts = _disk(a, b, k, t)
     h = _pos("h", h, inf_ok=True)
     rtol = _pos("rtol", rtol)
     r_1d = one_d_resistance(math.pi * b * b, ks, ts, h)
@@ -505,12 +511,7 @@ def circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = N
     R, dRdz
         Arrays of the shape of ``z``: K/W and K/(W·m).
     """
-    a = _pos("a", a)
-    b = _pos("b", b)
-    if a > b:
-        raise SpreadingError(f"a = {a!r}: expected a source radius at most the disk radius "
-                             f"b = {b!r}")
-    ks, ts = _layers(k, t)
+    a, b, ks, ts = _disk(a, b, k, t)
     z = np.asarray(z, dtype=float)
     zb = np.concatenate([[0.0], np.cumsum(ts)])
     if z.size and not (np.all(np.isfinite(z)) and z.min() > 0
