@@ -24,7 +24,7 @@ Example
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any, Sequence
 
 from .materials import Material, MaterialError, default_library
@@ -211,12 +211,21 @@ def _elements(where: str, items: Any) -> tuple[Element, ...]:
     for i, e in enumerate(out):
         if not isinstance(e, (Layer, AreaResistance)):
             raise StackupError(f"{where}[{i}] = {e!r}: expected a Layer or AreaResistance")
-    names = [e.name for e in out]
-    for i, n in enumerate(names):
-        if n in names[:i]:
-            raise StackupError(f"{where}[{i}].name = {n!r}: layer names must be unique "
-                               "within a stack (give name='...' to repeated materials)")
+    _unique(where, [e.name for e in out], "layer names must be unique within a stack "
+            "(give name='...' to repeated materials)")
     return out
+
+
+def _unique(where: str, names: Sequence[str], expected: str,
+            reserved: Sequence[str] = ()) -> None:
+    """Refuse the first repeated (or reserved) name: ``<where>[i].name = ...``."""
+    seen: set[str] = set()
+    for i, n in enumerate(names):
+        if n in seen:
+            raise StackupError(f"{where}[{i}].name = {n!r}: {expected}")
+        if n in reserved:
+            raise StackupError(f"{where}[{i}].name = {n!r}: reserved name")
+        seen.add(n)
 
 
 # --------------------------------------------------------------------------------------
@@ -330,8 +339,7 @@ class Board:
         out = []
         for e in layers:
             if isinstance(e, Layer) and e.size is None:
-                e = Layer(e.material, e.thickness, self.size, e.name, e.spreading_angle,
-                          e.void_fraction, e.vias, e.via_area)
+                e = replace(e, size=self.size)
             out.append(e)
         set_(self, "layers", tuple(out))
 
@@ -428,13 +436,8 @@ class Assembly:
         for i, p in enumerate(parts):
             if not isinstance(p, Part):
                 raise StackupError(f"Assembly.parts[{i}] = {p!r}: expected a Part")
-        names = [p.name for p in parts]
-        for i, n in enumerate(names):
-            if n in names[:i]:
-                raise StackupError(f"Assembly.parts[{i}].name = {n!r}: part names must be "
-                                   "unique")
-            if n in ("sink", "ambient", "base", "board"):
-                raise StackupError(f"Assembly.parts[{i}].name = {n!r}: reserved name")
+        _unique("Assembly.parts", [p.name for p in parts], "part names must be unique",
+                reserved=("sink", "ambient", "base", "board"))
         object.__setattr__(self, "parts", parts)
         if self.board is not None and not isinstance(self.board, Board):
             raise StackupError(f"Assembly.board = {self.board!r}: expected a Board or None")
