@@ -55,6 +55,21 @@ class MicrostripError(ValueError):
     """Bad microstrip input; the message names the field, the value and what is expected."""
 
 
+def _arr(name: str, value, unit: str, low: float = 0.0, strict: bool = True) -> np.ndarray:
+    """``value`` as a float array, refused (naming the field) unless every element is finite
+    and above ``low`` (at least ``low`` when not ``strict``): no NaN leaves this module."""
+    try:
+        x = np.asarray(value, dtype=float)
+    except (TypeError, ValueError):
+        raise MicrostripError(f"{name} = {value!r}: expected a number in {unit}") from None
+    ok = np.isfinite(x) & ((x > low) if strict else (x >= low))
+    if not np.all(ok):
+        bad = x[~ok].ravel()[0] if x.ndim else x
+        raise MicrostripError(f"{name} = {bad!r} {unit}: expected a finite value "
+                              f"{'>' if strict else '>='} {low:g}")
+    return x
+
+
 # ======================================================================================
 # Conductor
 # ======================================================================================
@@ -65,12 +80,16 @@ def copper_resistivity(temperature_c, rho20: float = RHO_CU_20,
     ρ(T) = ρ20·[1 + α·(T − 20 °C)], ρ20 = 1.7241e-8 Ω·m, α = 0.00393 /K (International Annealed
     Copper Standard; linear, good from about −50 to 200 °C).
     """
-    return rho20 * (1.0 + alpha * (np.asarray(temperature_c, dtype=float) - 20.0))
+    # ρ must stay > 0: T above 20 − 1/α (−234 °C for copper), far outside the linear range
+    t = _arr("temperature_c", temperature_c, "degC", low=20.0 - 1.0 / alpha)
+    return rho20 * (1.0 + alpha * (t - 20.0))
 
 
 def skin_depth(frequency, rho, mu_r=1.0) -> np.ndarray:
     """Skin depth δ = √(ρ/(π·f·μ0·μr)), m (any text on fields, e.g. Pozar §1.7)."""
-    return np.sqrt(np.asarray(rho, float) / (np.pi * np.asarray(frequency, float) * mu_0 * mu_r))
+    rho = _arr("rho", rho, "Ω·m")
+    f = _arr("frequency", frequency, "Hz")
+    return np.sqrt(rho / (np.pi * f * mu_0 * _arr("mu_r", mu_r, "")))
 
 
 def surface_resistance(frequency, rho, mu_r=1.0, thickness=None) -> np.ndarray:
@@ -87,7 +106,7 @@ def surface_resistance(frequency, rho, mu_r=1.0, thickness=None) -> np.ndarray:
     rs = rho / delta
     if thickness is None:
         return rs
-    x = (1.0 + 1.0j) * np.asarray(thickness, float) / delta
+    x = (1.0 + 1.0j) * _arr("thickness", thickness, "m") / delta
     # coth x = (1 + e^{-2x})/(1 - e^{-2x}); stable for large t/δ
     e2 = np.exp(-2.0 * x)
     return rs * np.real((1.0 + 1.0j) * (1.0 + e2) / (1.0 - e2))
@@ -104,7 +123,7 @@ def hj_z01(u) -> np.ndarray:
     IEEE MTT-S Digest 1980, pp. 407-409, eq. (1)-(2); better than 0.01 % for u ≤ 1, 0.03 % to
     u = 1000.
     """
-    u = np.asarray(u, float)
+    u = _arr("u", u, "(W/h)")
     fu = 6.0 + (2.0 * np.pi - 6.0) * np.exp(-(30.666 / u) ** 0.7528)
     return ETA0 / (2.0 * np.pi) * np.log(fu / u + np.sqrt(1.0 + (2.0 / u) ** 2))
 
@@ -117,8 +136,8 @@ def hj_eps_eff0(u, eps_r) -> np.ndarray:
     b = 0.564·[(εr − 0.9)/(εr + 3)]^0.053.
     Hammerstad & Jensen 1980, eq. (3)-(5); better than 0.2 % for εr ≤ 128, 0.01 ≤ u ≤ 100.
     """
-    u = np.asarray(u, float)
-    eps_r = np.asarray(eps_r, float)
+    u = _arr("u", u, "(W/h)")
+    eps_r = _arr("eps_r", eps_r, "", low=1.0, strict=False)
     a = (1.0 + np.log((u ** 4 + (u / 52.0) ** 2) / (u ** 4 + 0.432)) / 49.0
          + np.log(1.0 + (u / 18.1) ** 3) / 18.7)
     b = 0.564 * ((eps_r - 0.9) / (eps_r + 3.0)) ** 0.053
@@ -138,9 +157,9 @@ def hj_analysis(u, eps_r, t_over_h=0.0) -> tuple[np.ndarray, np.ndarray, np.ndar
     z0, eps_eff, u_r
         Arrays broadcast from the inputs.
     """
-    u = np.asarray(u, float)
-    eps_r = np.asarray(eps_r, float)
-    t = np.asarray(t_over_h, float)
+    u = _arr("u", u, "(W/h)")
+    eps_r = _arr("eps_r", eps_r, "", low=1.0, strict=False)
+    t = _arr("t_over_h", t_over_h, "", strict=False)
     with np.errstate(divide="ignore", invalid="ignore"):
         # 1/coth² = tanh²; written so that t -> 0 gives Δu1 -> 0 without a 0·log(∞)
         du1 = np.where(t > 0.0,
@@ -230,8 +249,8 @@ def pozar_width(z0, eps_r) -> np.ndarray:
     Pozar, *Microwave Engineering*, 3rd ed., 2005, §3.8 eq. (3.197) (after Wheeler 1977 and
     Hammerstad 1975); about 1 % against the analysis.
     """
-    z0 = np.asarray(z0, float)
-    er = np.asarray(eps_r, float)
+    z0 = _arr("z0", z0, "Ω")
+    er = _arr("eps_r", eps_r, "", low=1.0, strict=False)
     a = z0 / 60.0 * np.sqrt((er + 1.0) / 2.0) + (er - 1.0) / (er + 1.0) * (0.23 + 0.11 / er)
     b = 377.0 * np.pi / (2.0 * z0 * np.sqrt(er))
     narrow = 8.0 * np.exp(a) / (np.exp(2.0 * a) - 2.0)
@@ -273,7 +292,7 @@ def synthesize_width(z0_target: float, analysis, u_start: float | None = None) -
 # ======================================================================================
 def current_factor(z0) -> np.ndarray:
     """Hammerstad current-distribution factor K_i = exp[−1.2·(Z0/η0)^0.7] (HJ 1980)."""
-    return np.exp(-1.2 * (np.asarray(z0, float) / ETA0) ** 0.7)
+    return np.exp(-1.2 * (_arr("z0", z0, "Ω") / ETA0) ** 0.7)
 
 
 def hammerstad_roughness(rms, delta) -> np.ndarray:
@@ -281,7 +300,8 @@ def hammerstad_roughness(rms, delta) -> np.ndarray:
 
     E. Hammerstad & Ø. Jensen 1980 (after Morgan 1949); Δ_rms the RMS surface roughness.
     """
-    return 1.0 + 2.0 / np.pi * np.arctan(1.4 * (np.asarray(rms, float) / delta) ** 2)
+    rms = _arr("rms", rms, "m", strict=False)
+    return 1.0 + 2.0 / np.pi * np.arctan(1.4 * (rms / _arr("delta", delta, "m")) ** 2)
 
 
 @dataclass(frozen=True)
@@ -348,8 +368,10 @@ def conductor_loss(z0, width, rs, k_rough=1.0) -> np.ndarray:
     through the Hammerstad current-distribution factor K_i = exp[−1.2(Z0/η0)^0.7], Hammerstad &
     Jensen 1980); K_r roughness factor.
     """
-    z0 = np.asarray(z0, float)
-    return np.asarray(rs, float) * current_factor(z0) * k_rough / (z0 * np.asarray(width, float))
+    z0 = _arr("z0", z0, "Ω")
+    return (_arr("rs", rs, "Ω", strict=False) * current_factor(z0)
+            * _arr("k_rough", k_rough, "", low=1.0, strict=False)
+            / (z0 * _arr("width", width, "m")))
 
 
 def dielectric_loss(frequency, eps_r, eps_eff, tan_delta) -> np.ndarray:
@@ -358,10 +380,16 @@ def dielectric_loss(frequency, eps_r, eps_eff, tan_delta) -> np.ndarray:
     Pozar, *Microwave Engineering*, 3rd ed., §3.8 eq. (3.198); k0 = 2πf/c.  The filling factor
     (ε_eff − 1)/(εr − 1) weights the loss by the share of the field inside the laminate.
     """
-    er = np.asarray(eps_r, float)
-    ee = np.asarray(eps_eff, float)
-    k0 = 2.0 * np.pi * np.asarray(frequency, float) / C0
-    return k0 * er * (ee - 1.0) * np.asarray(tan_delta, float) / (2.0 * np.sqrt(ee) * (er - 1.0))
+    er = _arr("eps_r", eps_r, "", low=1.0, strict=False)
+    ee = _arr("eps_eff", eps_eff, "", low=1.0, strict=False)
+    if np.any(ee > er * (1 + 1e-12)):
+        raise MicrostripError(f"eps_eff = {eps_eff!r}: expected at most eps_r = {eps_r!r}")
+    k0 = 2.0 * np.pi * _arr("frequency", frequency, "Hz") / C0
+    tan_delta = _arr("tan_delta", tan_delta, "", strict=False)
+    # filling factor (ε_eff − 1)/(εr − 1); all the field in the dielectric (1) when εr = 1
+    gap = er - 1.0
+    fill = np.where(gap > 0, (ee - 1.0) / np.where(gap > 0, gap, 1.0), 1.0)
+    return k0 * er * fill * tan_delta / (2.0 * np.sqrt(ee))
 
 
 # ======================================================================================

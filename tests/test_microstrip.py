@@ -6,6 +6,8 @@ import math
 import numpy as np
 import pytest
 
+import pulsetherm.network.microstrip as ms
+
 from pulsetherm.network.microstrip import (
     NP_TO_DB, RHO_CU_20, HurayRoughness, Microstrip, MicrostripError, copper_resistivity,
     hammerstad_roughness, hj_analysis, huray_roughness, pozar_width, skin_depth,
@@ -211,3 +213,31 @@ def test_against_scikit_rf_mline(disp):
                     worst = np.maximum(worst, err)
     assert worst[0] < 0.01 and worst[1] < 0.01
     assert worst[2] < 0.05 and worst[3] < 0.05
+
+
+@pytest.mark.parametrize("call, field", [
+    (lambda: ms.hj_analysis(float("nan"), 4.4), "u"),
+    (lambda: ms.hj_analysis(-1.0, 4.4), "u"),
+    (lambda: ms.hj_analysis(1.0, 0.5), "eps_r"),
+    (lambda: ms.pozar_width(-50.0, 4.4), "z0"),
+    (lambda: ms.skin_depth(-1.0, 1.7e-8), "frequency"),
+    (lambda: ms.surface_resistance(float("nan"), 1.7e-8), "frequency"),
+    (lambda: ms.copper_resistivity(-300.0), "temperature_c"),
+    (lambda: ms.conductor_loss(50.0, 0.0, 0.01), "width"),
+    (lambda: ms.hammerstad_roughness(1e-6, 0.0), "delta"),
+    (lambda: ms.current_factor(float("nan")), "z0"),
+    (lambda: ms.dielectric_loss(1e9, 2.2, 3.0, 1e-3), "eps_eff"),
+])
+def test_formula_functions_refuse_bad_input_by_name(call, field):
+    """No silent NaN (project rule 5): the formula functions name the bad field."""
+    with pytest.raises(ms.MicrostripError, match=rf"^{field} = "):
+        call()
+
+
+def test_dielectric_loss_in_a_homogeneous_medium():
+    """εr = 1 = ε_eff: all the field in the medium, α_d = k0·tanδ/2 (plane-wave loss,
+    Pozar, Microwave Engineering, 3rd ed., eq. (3.198) with filling factor 1)."""
+    f, tand = 1e9, 1e-3
+    k0 = 2 * math.pi * f / 299_792_458.0
+    assert float(ms.dielectric_loss(f, 1.0, 1.0, tand)) == pytest.approx(k0 * tand / 2,
+                                                                         rel=1e-12)
