@@ -89,6 +89,9 @@ def strip_shape_factor(u) -> np.ndarray:
     MTT 2(2), 1954 (the electrostatic–thermal analogy: common practice).
     """
     u = np.asarray(u, dtype=float)
+    if not np.all(np.isfinite(u) & (u > 0)):
+        bad = u[~(np.isfinite(u) & (u > 0))].ravel()[0] if u.ndim else u
+        raise LineError(f"u = {bad!r}: expected a finite width-to-height ratio W/h > 0")
     k = 1.0 / np.cosh(np.pi * u / 4.0)
     m = k * k
     # K(k') with k'^2 = 1 - m: ellipkm1(p) = K(1 - p) keeps precision for wide strips
@@ -102,6 +105,8 @@ def thermal_width(width: float, height: float, k_z: float, k_xy: float) -> float
     Stretching y by √(k_z/k_xy) makes the laminate isotropic with conductivity √(k_xy·k_z)
     (Carslaw & Jaeger 1959, §1.17), so G' = √(k_xy·k_z)·S(u·√(k_z/k_xy)).
     """
+    width, height = _num("width", width, "m"), _num("height", height, "m")
+    k_z, k_xy = _num("k_z", k_z, "W/(m·K)"), _num("k_xy", k_xy, "W/(m·K)")
     r = math.sqrt(k_z / k_xy)
     return height * float(strip_shape_factor(width / height * r)) / r
 

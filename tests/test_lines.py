@@ -8,7 +8,7 @@ import pytest
 
 from pulsetherm.network.lines import (
     LineError, PointHeater, RFLine, bahl_gupta_rise, graded_edges, segment_heat,
-    strip_shape_factor,
+    strip_shape_factor, thermal_width,
 )
 from pulsetherm.network.microstrip import Microstrip
 from pulsetherm.network.model import ThermalNetwork
@@ -396,3 +396,16 @@ def test_library_laminate_and_mismatched_energy_balance():
     rep = built.report(res)
     if lam.t_max_K is not None:
         assert rep.limit == pytest.approx(lam.t_max_K - 273.15)
+
+
+@pytest.mark.parametrize("call, field", [
+    (lambda: thermal_width(float("nan"), 1e-3, 0.3, 0.6), "width"),
+    (lambda: thermal_width(1e-3, 0.0, 0.3, 0.6), "height"),
+    (lambda: thermal_width(1e-3, 1e-3, 0.3, -0.6), "k_xy"),
+    (lambda: strip_shape_factor(-1.0), "u"),
+    (lambda: strip_shape_factor([1.0, float("nan")]), "u"),
+])
+def test_shape_helpers_refuse_bad_input_by_name(call, field):
+    """No silent NaN (project rule 5): the strip helpers name the bad field."""
+    with pytest.raises(LineError, match=rf"^{field} = "):
+        call()
