@@ -589,8 +589,11 @@ def _add_lines(model: ScenarioModel, lib) -> None:
                                h.length.value if h.length else 0.0,
                                h.resistance.value if h.resistance else None,
                                h.capacity.value if h.capacity else 0.0) for _, h in heaters]
+            # segments = N: no segment longer than L/N (finer ones near point heaters)
             rl = RFLine(ms, spec.length.value, lam, copper=copper, heaters=tuple(pts),
-                        limit=spec.limit.degC if spec.limit else None)
+                        limit=spec.limit.degC if spec.limit else None,
+                        max_segment=(spec.length.value / spec.segments
+                                     if spec.segments else None))
             nonlinear = bool(model.scenario.model and model.scenario.model.nonlinear)
             # nonlinear: copper loss rises with the line temperature (0.00393 /K, IACS)
             bl = rl.build(net, ground, prefix=spec.name, temp_coeff=nonlinear)

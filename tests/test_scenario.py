@@ -6,6 +6,7 @@ import math
 import tomllib
 from pathlib import Path
 
+import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
 
@@ -180,3 +181,16 @@ def test_via_field_of_a_laminate_layer():
         spec = _load_section(ViaSpec, {"drill": "0.3 mm", "plating": "25 um", "pitch": pitch},
                              "board.layers[1].vias")
         assert _vias(spec, lib, "v", {}, lib.get("lam03")).k_z == pytest.approx(want, abs=0.05)
+
+
+def test_line_segments_key_sets_the_longest_segment():
+    """``lines[].segments = N`` is honoured: no segment longer than L/N (it was accepted by
+    the schema and ignored).  Common practice, no source."""
+    from pulsetherm.network.simulate import build
+
+    scn = load(EXAMPLES[[p.name for p in EXAMPLES].index("termination_line.toml")])
+    coarse = build(scn).lines["feed"]
+    fine = build(scn.with_value("lines[0].segments", 200)).lines["feed"]
+    L = 25e-3
+    assert max(np.diff(fine.line.edges)) <= L / 200 * (1 + 1e-9)
+    assert len(fine.top_nodes) > len(coarse.top_nodes) >= 24
