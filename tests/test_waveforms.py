@@ -328,3 +328,14 @@ def test_engine_contract_inputs():
     assert level.shape == (edges.size - 1, 3)
     w = np.diff(edges)
     assert np.sum(level[:, 0] * w) / edges[-1] == pytest.approx(tr.mean, rel=1e-12)
+
+
+def test_burst_refuses_an_unbounded_pulse_count():
+    """A burst of 10^8 pulses used to be built in memory (the process was killed); it is
+    refused by name instead.  Common practice, no source."""
+    from pulsetherm.waveforms.pulses import MAX_BURST_PULSES, Burst, PulseTrain
+
+    tr = PulseTrain(10.0, 1e-6, period=1e-5)
+    with pytest.raises(ValueError, match=r"Burst\.pulses = 100000000: expected at most"):
+        Burst(tr, 100_000_000, period=1e4)
+    assert Burst(tr, MAX_BURST_PULSES, period=10.0).pulses == MAX_BURST_PULSES

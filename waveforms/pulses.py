@@ -265,6 +265,11 @@ class PulseTrain(WaveformBase):
         return (self.peak - self.idle) * self.width
 
 
+#: Most pulses in one burst: each pulse is a few exact segments held in memory and walked
+#: by the solvers; a longer burst is better written as a profile (a stretch at its mean).
+MAX_BURST_PULSES = 200_000
+
+
 def _whole(field: str, value, low: int = 1) -> int:
     if isinstance(value, bool) or not isinstance(value, (Integral, np.integer)):
         if isinstance(value, float) and value.is_integer():
@@ -317,6 +322,10 @@ class Burst(WaveformBase):
         if not isinstance(self.train, PulseTrain):
             raise WaveformError(f"Burst.train = {self.train!r}: expected a PulseTrain")
         n = _whole("Burst.pulses", self.pulses)
+        if n > MAX_BURST_PULSES:
+            raise WaveformError(f"Burst.pulses = {n!r}: expected at most {MAX_BURST_PULSES} "
+                                "pulses per burst (every pulse is held as exact segments); "
+                                "for a longer burst use a profile stretch at its mean power")
         tr = self.train
         last_end = (n - 1) * tr.period + tr.width + 0.5 * (tr.rise + tr.fall)
         if (self.period is None) == (gap is None):
