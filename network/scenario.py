@@ -704,6 +704,8 @@ class WaveformSpec(_Section):
                 raise ScenarioError(_join(path, key), None,
                                     f"missing; a {self.kind!r} waveform needs "
                                     f"{', '.join(need)}")
+        if self.stretches is not None and not self.stretches:
+            raise ScenarioError(_join(path, "stretches"), [], "at least one stretch")
         if self.duty is not None and not self.duty <= 1:
             raise ScenarioError(_join(path, "duty"), self.duty, "a duty cycle in (0, 1]")
 

@@ -48,11 +48,21 @@ def _wave_error(exc: ValueError, path: str, spec: WaveformSpec | None) -> Scenar
         if spec is not None and getattr(spec, key, None) is None:
             key = None
     p = _join(path, key) if key else path
-    value = None
-    if key and spec is not None:
-        v = getattr(spec, key)
-        value = v.text if isinstance(v, Quantity) else v
+    value = _as_written(getattr(spec, key)) if key and spec is not None else None
     return ScenarioError(p, value, msg)
+
+
+def _as_written(v: Any) -> Any:
+    """A schema value as the user wrote it: unit strings for quantities (one or a list),
+    plain scalars as they are, None for tables (they are not echoed in a message)."""
+    if isinstance(v, Quantity):
+        return v.text
+    if isinstance(v, (tuple, list)):
+        items = [_as_written(x) for x in v]
+        return None if any(x is None for x in items) else items
+    if isinstance(v, (str, int, float)):
+        return v
+    return None
 
 
 def make_waveform(spec: WaveformSpec | str, scenario: Scenario, path: str,
@@ -213,8 +223,7 @@ def _field_error(exc: ValueError, path: str, spec: Any) -> ScenarioError:
     key = m.group(1) if m else None
     if key is not None and spec is not None and key in getattr(type(spec), "__dataclass_fields__", {}):
         v = getattr(spec, key)
-        value = v.text if isinstance(v, Quantity) else None
-        return ScenarioError(_join(path, key), value, msg)
+        return ScenarioError(_join(path, key), _as_written(v), msg)
     return ScenarioError(path, None, msg)
 
 

@@ -83,6 +83,8 @@ def _sub(old: str, new: str) -> str:
     return GOOD.replace(old, new, 1)
 
 
+WAVE = 'kind = "pulses"\npeak = "50 W"\nwidth = "100 us"\nperiod = "1 ms"'
+
 BROKEN: dict[str, tuple[str, str]] = {
     "syntax_unclosed_string": (_sub('name = "good"', 'name = "good'), ".toml:1: TOML syntax"),
     "syntax_missing_value": (_sub('kind = "fixed"', "kind = "), ".toml:11: TOML syntax"),
@@ -158,6 +160,40 @@ BROKEN: dict[str, tuple[str, str]] = {
     "string_for_table": (_sub("[mount.sink]\nkind = \"fixed\"", "[mount]\nsink = \"cold\""),
                          "mount.sink"),
     "bool_for_quantity": (_sub('limit = "150 degC"', "limit = true"), "devices[0].limit"),
+    # review R1: hostile inputs
+    "burst_of_1e8_pulses": (_sub('kind = "pulses"', 'kind = "burst"').replace(
+        'period = "1 ms"', 'pri = "1 ms"\npulses = 100000000\nperiod = "1e6 s"'),
+        "waveforms.p.pulses = 100000000"),
+    "stagger_widths_mismatch": (_sub(WAVE, 'kind = "stagger"\npeak = "5 W"\nintervals = '
+                                     '["1 ms", "2 ms"]\nwidths = ["1 us", "2 us", "3 us"]'),
+                                "waveforms.p.widths = ['1 us', '2 us', '3 us']"),
+    "stagger_pulse_longer_than_interval": (
+        _sub(WAVE, 'kind = "stagger"\npeak = "5 W"\nintervals = ["1 ms", "2 ms"]\n'
+             'widths = ["1.5 ms"]'), "waveforms.p.intervals = ['1 ms', '2 ms']"),
+    "profile_without_stretches": (_sub(WAVE, 'kind = "profile"\nstretches = []'),
+                                  "waveforms.p.stretches = []: at least one stretch"),
+    "profile_negative_duration": (_sub(WAVE, 'kind = "profile"\nstretches = '
+                                       '[{duration = "-1 s", power = "2 W"}]'),
+                                  "waveforms.p.stretches[0].duration"),
+    "profile_refers_to_itself": (_sub(WAVE, 'kind = "profile"\nstretches = '
+                                      '[{duration = "1 s", power = "p"}]'),
+                                 "waveforms.p.stretches[0].power"),
+    "nan_string_power": (_sub('peak = "50 W"', 'peak = "NaN W"'), "waveforms.p.peak"),
+    "inf_string_power": (_sub('peak = "50 W"', 'peak = "inf W"'), "waveforms.p.peak"),
+    "overflowing_power": (_sub('peak = "50 W"', 'peak = "1e400 W"'), "waveforms.p.peak"),
+    "empty_foster_arrays": (_sub('R = ["0.2 K/W", "0.5 K/W", "1.3 K/W"], tau = ["10 us", '
+                                 '"1 ms", "100 ms"]', "R = [], tau = []"),
+                            "devices[0].foster.R"),
+    "unicode_device_name": (_sub('name = "pa"', 'name = "p\u00e4"'), "devices[0].name"),
+    "duplicate_probe_names": (GOOD + '\n[[probes]]\nname = "x"\nnode = "pa.junction"\n'
+                              '\n[[probes]]\nname = "x"\nnode = "pa.junction"\n',
+                              "probes[1].name"),
+    "probe_on_a_boundary": (GOOD + '\n[[probes]]\nname = "x"\nnode = "base"\n',
+                            "probes[0].node = 'base'"),
+    "period_and_prf": (_sub('period = "1 ms"', 'period = "1 ms"\nprf = "2 kHz"'),
+                       "waveforms.p"),
+    "negative_delay": (_sub('period = "1 ms"', 'period = "1 ms"\ndelay = "-1 ms"'),
+                       "waveforms.p.delay"),
 }
 
 
