@@ -684,8 +684,14 @@ def _add_heaters(model: ScenarioModel) -> None:
 
 
 def _add_probes(model: ScenarioModel) -> None:
+    own = set(model.probes)  # junctions, line hot spots, material limits, heaters
     for i, p in enumerate(model.scenario.probes or ()):
         path = f"probes[{i}]"
+        if p.name in own:
+            raise ScenarioError(_join(path, "name"), p.name,
+                                "a probe name the scenario does not already use (it is one of "
+                                "the scenario's own probes; change its limit at the device, "
+                                "line or heater instead)")
         node = _node(model, p.node or p.name, _join(path, "node" if p.node else "name"))
         if node in model.network.boundaries:
             raise ScenarioError(_join(path, "node"), p.node or p.name,
@@ -815,7 +821,8 @@ def simulate(scn: Scenario | ScenarioModel) -> RunResult:
     extra = [n for group in model.groups.values() for n in group]
     nodes = list(dict.fromkeys(list(model.probes.values()) + extra))
     try:
-        resp = net.periodic(model.waveforms, probes=nodes, method=model.method)
+        with np.errstate(over="ignore", invalid="ignore"):  # refused below, by name
+            resp = net.periodic(model.waveforms, probes=nodes, method=model.method)
     except ValueError as exc:
         raise ScenarioError("model", None, " ".join(str(exc).split())) from None
     for name, group in model.groups.items():  # a line's hot spot: its hottest node
@@ -823,6 +830,9 @@ def simulate(scn: Scenario | ScenarioModel) -> RunResult:
     probes: dict[str, ProbeStats] = {}
     for name, node in model.probes.items():
         pk, mn, lo = float(resp.peak(node)), float(resp.mean(node)), float(resp.min(node))
+        if not all(map(math.isfinite, (pk, mn, lo))):
+            raise ScenarioError("waveforms", None, f"finite temperatures; probe {name!r} gets "
+                                f"peak {pk!r} degC (check the powers: they overflow)")
         lim = model.limits.get(name)
         probes[name] = ProbeStats(pk, mn, lo, pk - lo, lim, None if lim is None else lim - pk)
     amb = s.ambient_C

@@ -192,6 +192,10 @@ BROKEN: dict[str, tuple[str, str]] = {
                             "probes[0].node = 'base'"),
     "period_and_prf": (_sub('period = "1 ms"', 'period = "1 ms"\nprf = "2 kHz"'),
                        "waveforms.p"),
+    "probe_shadows_a_junction": (GOOD + '\n[[probes]]\nname = "pa.junction"\n'
+                                 'limit = "100 degC"\n', "probes[0].name = 'pa.junction'"),
+    "temperatures_overflow": (_sub('peak = "50 W"', 'peak = "1e308 W"'),
+                              "finite temperatures; probe 'pa.junction'"),
     "negative_delay": (_sub('period = "1 ms"', 'period = "1 ms"\ndelay = "-1 ms"'),
                        "waveforms.p.delay"),
 }
