@@ -29,6 +29,29 @@ def test_sizing_value_is_shown_with_five_digits():
     assert _short_quantity("n/a") == "n/a"
 
 
+def test_sized_value_is_rounded_toward_its_passing_side():
+    """The printed sized value keeps the limit: a 'largest' value is rounded down, a
+    'smallest' one up (to the nearest, 0.1234567 K/W printed as 0.12346 K/W lies beyond the
+    value found, on the side that was not checked).  Common practice, no source."""
+    from pulsetherm.tui.report import sizing_text
+
+    class Fake:
+        def __init__(self, kind, text):
+            self.d = {"adjust": "x", "kind": kind, "margin_K": 0.0, "value_text": text,
+                      "binding_probe": "pa.junction", "binding_peak_C": 1.0,
+                      "binding_limit_C": 2.0, "evaluations": 3, "note": "",
+                      "cautions": ["c"]}
+
+        def to_dict(self):
+            return self.d
+
+    assert "= 0.12345 K/W" in sizing_text(Fake("largest", "0.1234567 K/W"))
+    assert "= 0.12346 K/W" in sizing_text(Fake("smallest", "0.1234512 K/W"))
+    assert "= -20.001 degC" in sizing_text(Fake("largest", "-20.00012 degC"))
+    assert _short_quantity("0.1234567 K/W", toward="up") == "0.12346 K/W"
+    assert _short_quantity("0 K/W", toward="up") == "0 K/W"
+
+
 def test_a_closed_pipe_ends_quietly():
     # ~300 listings overflow any pipe buffer, so the writer meets the closed pipe
     code = ("import sys\nfrom pulsetherm.tui.cli import main\n"

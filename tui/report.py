@@ -178,19 +178,39 @@ def sweep_text(res: Any) -> str:
     return "\n".join(out)
 
 
-def _short_quantity(text: str, digits: int = 5) -> str:
-    """``'400.793457 us'`` -> ``'400.79 us'`` for display (the JSON keeps every digit)."""
+def _short_quantity(text: str, digits: int = 5, toward: str | None = None) -> str:
+    """``'400.793457 us'`` -> ``'400.79 us'`` for display (the JSON keeps every digit).
+
+    ``toward`` = ``"down"`` or ``"up"`` rounds in that direction instead of to the nearest
+    (a sized value is shown rounded toward its passing side, so the printed number still
+    keeps every limit).
+    """
+    from decimal import ROUND_CEILING, ROUND_FLOOR, ROUND_HALF_EVEN, Decimal, InvalidOperation
+
     num, _, unit = text.partition(" ")
     try:
-        return f"{float(num):.{digits}g} {unit}".strip()
-    except ValueError:
+        x = Decimal(num)
+    except InvalidOperation:
         return text
+    if not x.is_finite():
+        return text
+    if x == 0:
+        return f"0 {unit}".strip()
+    mode = {"down": ROUND_FLOOR, "up": ROUND_CEILING}.get(toward or "", ROUND_HALF_EVEN)
+    q = Decimal(1).scaleb(x.adjusted() - digits + 1)
+    y = x.quantize(q, rounding=mode)
+    return f"{float(y):.{digits}g} {unit}".strip()
+
+
+def _safe_side(kind: str) -> str | None:
+    """Rounding direction that keeps a sized value on its passing side."""
+    return {"largest": "down", "smallest": "up"}.get(kind)
 
 
 def sizing_text(res: Any) -> str:
     d = res.to_dict()
     out = [f"{d['adjust']}: {d['kind']} value keeping every limit with {d['margin_K']:g} K "
-           f"margin = {_short_quantity(d['value_text'])}",
+           f"margin = {_short_quantity(d['value_text'], toward=_safe_side(d['kind']))}",
            f"binding probe: {d['binding_probe']} (peak {d['binding_peak_C']:.2f} degC, "
            f"limit {d['binding_limit_C']:.2f} degC)",
            f"evaluations: {d['evaluations']}"]
