@@ -128,6 +128,8 @@ def size(scn: Scenario, adjust: str, range_text: str, margin: float = 0.0,
         raise SizingError("--tol", tol, "a bracket width > 0")
     history: list[tuple[str, float]] = []
 
+    cautions: list[str] = []
+
     def g(x: float):
         text = scale.text(x)
         try:
@@ -135,6 +137,9 @@ def size(scn: Scenario, adjust: str, range_text: str, margin: float = 0.0,
         except ScenarioError as exc:
             raise SizingError(adjust, text, f"a value the scenario accepts ({exc})") from None
         history.append((text, out[0]))
+        # the general caution and every material caution met on the way (a sized layer
+        # material can change between evaluations)
+        cautions.extend(c for c in out[4].cautions if c not in cautions)
         return out
 
     g_lo, g_hi = g(lo), g(hi)
@@ -153,7 +158,7 @@ def size(scn: Scenario, adjust: str, range_text: str, margin: float = 0.0,
                             worst[1], worst[2], worst[3], 2, True,
                             f"the whole range {range_text} keeps every limit; the limit is "
                             f"not reached inside it (least slack {worst[0]:.3g} K at "
-                            f"{scale.text(wx)})", history, [CAUTION])
+                            f"{scale.text(wx)})", history, cautions or [CAUTION])
     good, bad = (lo, hi) if g_lo[0] >= 0 else (hi, lo)
     g_good = g_lo if g_lo[0] >= 0 else g_hi
     n = 2
@@ -168,4 +173,4 @@ def size(scn: Scenario, adjust: str, range_text: str, margin: float = 0.0,
     kind_txt = "largest" if good < bad else "smallest"
     return SizingResult(adjust, kind_txt, good, scale.text(good), scale.text(bad), unit,
                         margin, g_good[1], g_good[2], g_good[3], n, False, "", history,
-                        [CAUTION])
+                        cautions or [CAUTION])

@@ -199,6 +199,8 @@ class SweepPlan:
     paths: list[str]
     probes: list[str]
     mode: str  # "grid" | "monte-carlo" | "grid+monte-carlo"
+    #: Cautions of the base scenario: the general one and its materials' (beryllia, ...).
+    cautions: list[str] = field(default_factory=list)
 
     @property
     def size(self) -> int:
@@ -240,7 +242,14 @@ def plan_sweep(scn: Scenario, vary: Sequence[str] = (), mc: Sequence[str] = (),
         for v in vals:
             scn.with_value(path, v)
     model = build(scn)
-    return SweepPlan(scn, rows, paths, list(model.probes), mode)
+    cautions = model.cautions()
+    # a varied material brings its own caution (every value of a material axis is built)
+    for path, vals in axes:
+        if path.rsplit(".", 1)[-1] in ("material", "fill", "dielectric"):
+            for v in vals:
+                cautions += [c for c in build(scn.with_value(path, v)).cautions()
+                             if c not in cautions]
+    return SweepPlan(scn, rows, paths, list(model.probes), mode, cautions)
 
 
 # ======================================================================================
@@ -482,7 +491,8 @@ def run_sweep(plan: SweepPlan, out: str | os.PathLike | None = None, resume: boo
             writer.close()
     failed = sum(1 for r in rows if r.get("error"))
     return SweepResult(plan.scenario.name, plan.paths, plan.probes, rows, skipped, failed,
-                       plan.mode, None if out is None else str(out), [CAUTION])
+                       plan.mode, None if out is None else str(out),
+                       list(plan.cautions) or [CAUTION])
 
 
 def _start_method(env: dict[str, str | None]) -> str:

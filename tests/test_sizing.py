@@ -78,3 +78,14 @@ def test_cli_size(tmp_path, capsys):
     err = capsys.readouterr().err
     assert "even the better end" in err and "Traceback" not in err
     assert main(["size", str(f), "--adjust", "name", "--range", "1..2 K/W"]) == 2
+
+
+def test_sizing_carries_the_material_cautions():
+    """A beryllia layer's caution goes with the sizing answer (it only had the general
+    caution).  Common practice, no source."""
+    scn = loads(TEXT + '\n[[devices.stack]]\nname = "isolator"\nmaterial = "beryllia"\n'
+                       'thickness = "0.5 mm"\n')
+    res = size(scn, "mount.sink.resistance", "0.1..40 K/W", tol=0.5)
+    assert res.cautions[0].startswith("engineering estimates")
+    assert any(c.startswith("Beryllia") for c in res.cautions)
+    assert any(c.startswith("Beryllia") for c in res.to_dict()["cautions"])

@@ -127,3 +127,18 @@ def test_dask_local_cluster_matches_serial(scn):
                                   dashboard_address=None) as cluster:
         res = run_sweep(plan, scheduler=cluster.scheduler_address)
     assert {r["key"]: r for r in res.rows} == serial
+
+
+def test_sweep_carries_the_material_cautions():
+    """Sweeps judge limits, so their output carries the general caution and the cautions of
+    the materials in the scenario, also a material brought in by a --vary axis.  Common
+    practice, no source."""
+    scn = loads(TEXT
+                + '\n[[devices.stack]]\nname = "isolator"\nmaterial = "alumina-96"\n'
+                  'thickness = "0.5 mm"\n')
+    plan = plan_sweep(scn, vary=["devices[0].stack[0].material=alumina-96,beryllia"])
+    res = run_sweep(plan)
+    assert res.cautions[0].startswith("engineering estimates")
+    assert any(c.startswith("Beryllia") for c in res.to_dict()["cautions"])
+    res = run_sweep(plan_sweep(scn, vary=["devices[0].stack[0].thickness=0.4 mm,0.5 mm"]))
+    assert not any(c.startswith("Beryllia") for c in res.cautions)
