@@ -363,16 +363,13 @@ class ModalSolver:
             return tuple(_phis(lam, h[sel][None, :], 2 if need_p2 else 1))
         return direct
 
-    def _scan(self, q0: np.ndarray, edges: np.ndarray, level: np.ndarray, slope: np.ndarray,
-              Pp: np.ndarray, Dp: np.ndarray, store: bool):
-        """Sweep the segments from ``q0``; exact, vectorised as √N blocks of √N segments.
+    def _blocks(self, edges: np.ndarray, level: np.ndarray, slope: np.ndarray):
+        """Split the N segments into nblk blocks of Bk = ⌈√N⌉ (zero-width padding) and fold
+        each block: its decay Π_k e^{−λh_k} and forced increment (the state at the block
+        end from a zero start), both (modes, nblk).
 
-        Returns
-        -------
-        ends : (N, p) probe rises (Pp q + Dp P, left limits) at every segment end
-        q_end : (modes,) state at the last edge
-        integral : (modes,) ∫ q dt over the run
-        starts : (modes, N) segment-start states if ``store`` else block starts (modes, nblk)
+        Returns Bk, nblk, h (nblk, Bk), level and slope (nblk, Bk, m), the per-segment
+        function table (:meth:`_seg_funcs`), segment indices (nblk, Bk), decay, increment.
         """
         N = edges.size - 1
         h = edges[1:] - edges[:-1]
@@ -385,7 +382,6 @@ class ModalSolver:
         sp_ = np.concatenate([slope, np.zeros((pad, slope.shape[1]))]).reshape(nblk, Bk, -1)
         funcs = self._seg_funcs(hp.ravel())
         seg = np.arange(nblk * Bk).reshape(nblk, Bk)
-        # pass 1: per-block decay and forced increment
         dec = np.ones((nm, nblk))
         inc = np.zeros((nm, nblk))
         for j in range(Bk):
@@ -393,6 +389,22 @@ class ModalSolver:
             d, p0, p1, _ = funcs(seg[:, j])
             dec *= d
             inc = d * inc + p0 * Wa + p1 * Wb
+        return Bk, nblk, hp, lp, sp_, funcs, seg, dec, inc
+
+    def _scan(self, q0: np.ndarray, edges: np.ndarray, level: np.ndarray, slope: np.ndarray,
+              Pp: np.ndarray, Dp: np.ndarray, store: bool):
+        """Sweep the segments from ``q0``; exact, vectorised as √N blocks of √N segments.
+
+        Returns
+        -------
+        ends : (N, p) probe rises (Pp q + Dp P, left limits) at every segment end
+        q_end : (modes,) state at the last edge
+        integral : (modes,) ∫ q dt over the run
+        starts : (modes, N) segment-start states if ``store`` else block starts (modes, nblk)
+        """
+        N = edges.size - 1
+        nm = self.lam.size
+        Bk, nblk, hp, lp, sp_, funcs, seg, dec, inc = self._blocks(edges, level, slope)
         # pass 2: block-start states, sequential over blocks
         Qs = np.empty((nm, nblk))
         q = q0.astype(np.float64).copy()
@@ -667,25 +679,8 @@ class ModalSolver:
     def _period_increment(self, edges, level, slope) -> np.ndarray:
         """r = Σ_k e^{−λ(T − t_{k+1})} ρ_k: the end-of-period state from a zero start (ρ_k
         the forced increment of segment k), folded block by block as in :meth:`_scan`."""
-        N = edges.size - 1
-        h = edges[1:] - edges[:-1]
-        nm = self.lam.size
-        Bk = max(1, int(math.ceil(math.sqrt(N))))
-        nblk = int(math.ceil(N / Bk))
-        pad = nblk * Bk - N
-        hp = np.concatenate([h, np.zeros(pad)])
-        lp = np.concatenate([level, np.zeros((pad, level.shape[1]))]).reshape(nblk, Bk, -1)
-        sp_ = np.concatenate([slope, np.zeros((pad, slope.shape[1]))]).reshape(nblk, Bk, -1)
-        funcs = self._seg_funcs(hp)
-        seg = np.arange(nblk * Bk).reshape(nblk, Bk)
-        dec = np.ones((nm, nblk))
-        inc = np.zeros((nm, nblk))
-        for j in range(Bk):
-            Wa, Wb = self._forcing(lp[:, j, :], sp_[:, j, :])
-            d, p0, p1, _ = funcs(seg[:, j])
-            dec *= d
-            inc = d * inc + p0 * Wa + p1 * Wb
-        r = np.zeros(nm)
+        _, nblk, _, _, _, _, _, dec, inc = self._blocks(edges, level, slope)
+        r = np.zeros(self.lam.size)
         for b in range(nblk):
             r = dec[:, b] * r + inc[:, b]
         return r
