@@ -61,7 +61,16 @@ def parse_range(text: str, kind: str, option: str) -> tuple[list[float], UnitSca
             from None
     if lo_unit and lo_unit != unit:
         raise ScenarioError(option, text, f"one unit for both ends ({lo_unit!r} and {unit!r})")
-    scale = UnitScale.of(unit, kind, option) if kind else UnitScale("", "", 0.0, 1.0)
+    try:
+        scale = UnitScale.of(unit, kind, option) if kind else UnitScale("", "", 0.0, 1.0)
+    except ScenarioError as exc:
+        from .scenario import QUANTITY_KINDS
+
+        what = kind.replace("_", " ")
+        ex = QUANTITY_KINDS[kind][1].split(" ", 1)[-1]
+        why = f"{unit!r} is not a {what} unit" if unit else "a bare number has no unit"
+        raise ScenarioError(option, text, f"a range in a {what} unit, e.g. 'LO..HI {ex}' "
+                            f"({why})") from None
     if not (math.isfinite(lo) and math.isfinite(hi)) or lo == hi:
         raise ScenarioError(option, text, "two different finite ends")
     if count:

@@ -142,3 +142,18 @@ def test_sweep_carries_the_material_cautions():
     assert any(c.startswith("Beryllia") for c in res.to_dict()["cautions"])
     res = run_sweep(plan_sweep(scn, vary=["devices[0].stack[0].thickness=0.4 mm,0.5 mm"]))
     assert not any(c.startswith("Beryllia") for c in res.cautions)
+
+
+def test_a_range_in_the_wrong_unit_names_the_option_and_the_range(scn, tmp_path, capsys):
+    """The message showed an internal '0 W' instead of the range the user typed.  Common
+    practice, no source."""
+    with pytest.raises(ValueError) as exc:
+        parse_axis(scn, "devices[0].limit=100..200 W:3")
+    msg = str(exc.value)
+    assert "'100..200 W:3'" in msg and "'W' is not a temperature unit" in msg
+    assert "'0 W'" not in msg
+    f = tmp_path / "s.toml"
+    f.write_text(TEXT)
+    assert main(["size", str(f), "--adjust", "devices[0].limit", "--range", "100..200 W"]) == 2
+    err = capsys.readouterr().err
+    assert "--range = '100..200 W'" in err and "'0 W'" not in err
