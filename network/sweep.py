@@ -226,6 +226,11 @@ def plan_sweep(scn: Scenario, vary: Sequence[str] = (), mc: Sequence[str] = (),
     axes = [parse_axis(scn, v) for v in vary]
     mcs = [parse_mc(scn, m) for m in mc]
     paths = [p for p, _ in axes] + [m.path for m in mcs]
+    for p in paths:
+        if "." in p and p.rsplit(".", 1)[-1] == "name":
+            # a renamed device/line/probe renames the probes: its rows would have no figures
+            raise ScenarioError("--vary", p, "a value to vary, not a name (names make the "
+                                "probe columns of every row)")
     dup = {p for p in paths if paths.count(p) > 1}
     if dup:
         raise ScenarioError("--vary/--mc", sorted(dup)[0], "each path varied once")

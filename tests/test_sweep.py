@@ -157,3 +157,10 @@ def test_a_range_in_the_wrong_unit_names_the_option_and_the_range(scn, tmp_path,
     assert main(["size", str(f), "--adjust", "devices[0].limit", "--range", "100..200 W"]) == 2
     err = capsys.readouterr().err
     assert "--range = '100..200 W'" in err and "'0 W'" not in err
+
+
+def test_varying_a_name_is_refused(scn):
+    """Renaming the device renamed its probe, so every row came back 'ok' without a single
+    figure.  Common practice, no source."""
+    with pytest.raises(ValueError, match=r"--vary = 'devices\[0\]\.name': a value to vary"):
+        plan_sweep(scn, vary=["devices[0].name=a,b"])
