@@ -33,6 +33,7 @@ A minimal file::
 """
 from __future__ import annotations
 
+import contextlib
 import dataclasses
 import difflib
 import functools
@@ -45,7 +46,7 @@ from typing import Any, Iterator
 
 __all__ = [
     "ScenarioError", "Quantity", "Scenario", "load", "loads", "save", "dumps",
-    "dumps_toml", "find_line", "KELVIN_OFFSET",
+    "dumps_toml", "find_line", "KELVIN_OFFSET", "atomic_open",
 ]
 
 #: 0 degC in kelvin (kept here so this module does not need numpy to import).
@@ -1178,14 +1179,24 @@ def dumps(scenario: Scenario) -> str:
 
 def save(scenario: Scenario, path: str | Path) -> None:
     """Write ``scenario`` as TOML (to a temporary file first, then renamed)."""
+    with atomic_open(path) as fh:
+        fh.write(dumps(scenario))
+
+
+@contextlib.contextmanager
+def atomic_open(path: str | Path, mode: str = "w", newline: str | None = None) -> Iterator[Any]:
+    """Open a temporary file beside ``path``; rename it onto ``path`` only when the ``with``
+    block ends without an exception (else the temporary file is removed), so a failed write
+    never leaves a partial file.  ``mode`` is ``"w"`` (UTF-8 text) or ``"wb"``."""
     import os
     import tempfile
 
     p = Path(path)
-    fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".part", dir=p.parent or ".")
+    fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".part", dir=p.parent)
     try:
-        with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            fh.write(dumps(scenario))
+        text = {} if "b" in mode else {"encoding": "utf-8", "newline": newline}
+        with os.fdopen(fd, mode, **text) as fh:
+            yield fh
         os.replace(tmp, p)
     except BaseException:
         try:

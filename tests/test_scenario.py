@@ -194,3 +194,25 @@ def test_line_segments_key_sets_the_longest_segment():
     L = 25e-3
     assert max(np.diff(fine.line.edges)) <= L / 200 * (1 + 1e-9)
     assert len(fine.top_nodes) > len(coarse.top_nodes) >= 24
+
+
+def test_atomic_open_is_all_or_nothing(tmp_path):
+    """One atomic writer for scenario files and command-line outputs: a failure inside the
+    block leaves the old file and no temporary file.  Common practice, no source."""
+    from pulsetherm.network.scenario import atomic_open, save
+    from pulsetherm.tui.cli import atomic_output
+
+    f = tmp_path / "out.csv"
+    f.write_text("old")
+    for opener in (atomic_open, atomic_output):
+        with pytest.raises(RuntimeError):
+            with opener(f) as fh:
+                fh.write("partial")
+                raise RuntimeError("boom")
+        assert f.read_text() == "old" and list(tmp_path.iterdir()) == [f]
+    with atomic_output(f) as fh:
+        fh.write("a\r\nb")
+    assert f.read_bytes() == b"a\r\nb"  # newline="" for csv writers
+    scn = load(EXAMPLES[0])
+    save(scn, tmp_path / "s.toml")
+    assert load(tmp_path / "s.toml") == scn

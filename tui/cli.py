@@ -15,16 +15,11 @@ from __future__ import annotations
 import argparse
 import os
 import sys
-import tempfile
 from contextlib import contextmanager
 from pathlib import Path
 from typing import Iterator, Sequence, TextIO
 
 __all__ = ["main", "build_parser", "CliError", "atomic_output"]
-
-#: Printed under every output that judges limits (and put in the JSON ``cautions``).
-CAUTION = ("engineering estimates; verify by measurement; follow the device maker's ratings "
-           "and derating, local codes and licensed practice")
 
 EXIT_OK, EXIT_LIMIT, EXIT_ERROR = 0, 1, 2
 
@@ -47,18 +42,10 @@ def atomic_output(path: str | os.PathLike, mode: str = "w") -> Iterator[TextIO]:
     folder = target.parent if str(target.parent) else Path(".")
     if not folder.is_dir():
         raise CliError(f"output {str(path)!r}: folder {str(folder)!r} does not exist")
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=folder)
-    try:
-        with os.fdopen(fd, mode, **({} if "b" in mode else {"encoding": "utf-8",
-                                                            "newline": ""})) as fh:
-            yield fh
-        os.replace(tmp, target)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        raise
+    from pulsetherm.network.scenario import atomic_open  # standard library only
+
+    with atomic_open(target, mode, newline="") as fh:
+        yield fh
 
 
 # ======================================================================================
