@@ -40,7 +40,7 @@ import scipy.linalg as sla
 from scipy.optimize import brentq
 
 from .assemble import condense, floating_nodes, static_field
-from .solvers import RawResponse
+from .solvers import RawResponse, as_arrays, segment_energy
 from .system import ThermalSystem
 
 __all__ = ["ModalSolver", "gk"]
@@ -694,14 +694,11 @@ class ModalSolver:
         return r / (-np.expm1(-self.lam * edges[-1]))
 
     def _mean_power(self, edges, level, slope) -> np.ndarray:
-        h = edges[1:] - edges[:-1]
-        return (h @ level + 0.5 * (h * h) @ slope) / edges[-1]
+        """Mean power per input over the run, W, (m,)."""
+        return segment_energy(edges, level, slope) / edges[-1]
 
     def periodic(self, edges, level, slope, probes) -> RawResponse:
-        edges = np.asarray(edges, dtype=np.float64)
-        level = np.atleast_2d(np.asarray(level, dtype=np.float64))
-        slope = np.atleast_2d(np.asarray(slope, dtype=np.float64))
-        rows = np.asarray(probes, dtype=np.int64)
+        edges, level, slope, rows = as_arrays(edges, level, slope, probes)
         q0 = self.periodic_start(edges, level, slope)
         t, theta, q_end, _ = self._sample(q0, edges, level, slope, rows)
         Pbar = self._mean_power(edges, level, slope)
@@ -717,10 +714,7 @@ class ModalSolver:
 
     # -- transients -------------------------------------------------------------------
     def transient(self, edges, level, slope, initial, probes) -> RawResponse:
-        edges = np.asarray(edges, dtype=np.float64)
-        level = np.atleast_2d(np.asarray(level, dtype=np.float64))
-        slope = np.atleast_2d(np.asarray(slope, dtype=np.float64))
-        rows = np.asarray(probes, dtype=np.int64)
+        edges, level, slope, rows = as_arrays(edges, level, slope, probes)
         q0 = self.q_from_state(initial)
         t, theta, q_end, integral = self._sample(q0, edges, level, slope, rows)
         dur = edges[-1]
@@ -741,10 +735,7 @@ class ModalSolver:
         (the first ones, log-spaced ones, the last, and the one where each probe's
         departure from the periodic state is largest); means are exact over all periods.
         """
-        edges = np.asarray(edges, dtype=np.float64)
-        level = np.atleast_2d(np.asarray(level, dtype=np.float64))
-        slope = np.atleast_2d(np.asarray(slope, dtype=np.float64))
-        rows = np.asarray(probes, dtype=np.int64)
+        edges, level, slope, rows = as_arrays(edges, level, slope, probes)
         Nper = int(periods)
         T = edges[-1]
         y = self.lam * T

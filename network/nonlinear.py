@@ -73,7 +73,7 @@ import scipy.sparse.linalg as sla
 from scipy.optimize import brentq, minimize_scalar
 
 from .assemble import NetworkError, floating_nodes
-from .solvers import RawResponse
+from .solvers import RawResponse, as_arrays, segment_energy
 from .system import ThermalSystem
 
 __all__ = ["NonlinearSolver", "ThermalRunawayError", "kirchhoff_U", "kirchhoff_inverse",
@@ -785,17 +785,9 @@ class NonlinearSolver:
         err = abs(e_in - stored - e_b) / scale if scale > 0 else 0.0
         return err, {**terms, "stored_J": stored}
 
-    @staticmethod
-    def _arrays(edges, level, slope, probes):
-        edges = np.asarray(edges, dtype=np.float64)
-        level = np.atleast_2d(np.asarray(level, dtype=np.float64))
-        slope = np.atleast_2d(np.asarray(slope, dtype=np.float64))
-        rows = np.asarray(probes, dtype=np.int64).reshape(-1)
-        return edges, level, slope, rows
-
     def transient(self, edges, level, slope, initial, probes) -> RawResponse:
         """From ``initial`` (n,) K absolute, or the zero-power steady state when None."""
-        edges, level, slope, rows = self._arrays(edges, level, slope, probes)
+        edges, level, slope, rows = as_arrays(edges, level, slope, probes)
         if initial is None:
             T0 = self.steady(np.zeros(self.system.m))
         else:
@@ -833,7 +825,7 @@ class NonlinearSolver:
         (:meth:`ModalSolver.warmup_crossing`, which uses the periodic samples ``phase_t``,
         ``phase_v``); ``q_ps`` is accepted for the common signature and not used.
         """
-        edges, level, slope, _ = self._arrays(edges, level, slope, [row])
+        edges, level, slope, _ = as_arrays(edges, level, slope, [row])
         if self.system.is_linear:
             # nothing depends on temperature: the exact modal period jump applies
             from .modal import ModalSolver
@@ -967,7 +959,7 @@ class NonlinearSolver:
     def periodic(self, edges, level, slope, probes) -> RawResponse:
         """Periodic steady state by shooting (chord Newton with the linearised monodromy),
         seeded with the steady state at the mean power."""
-        edges, level, slope, rows = self._arrays(edges, level, slope, probes)
+        edges, level, slope, rows = as_arrays(edges, level, slope, probes)
         if self.floating:
             raise NetworkError(f"nodes {', '.join(self.floating[0][:6])} have no conduction "
                                "path to a boundary: there is no periodic steady state")
@@ -981,7 +973,7 @@ class NonlinearSolver:
                              "transient over enough periods")
         T_per = edges[-1]
         h = np.diff(edges)
-        Pbar = (h @ level + 0.5 * (h * h) @ slope) / T_per
+        Pbar = segment_energy(edges, level, slope) / T_per
         Ppk = np.max(level + np.maximum(slope * h[:, None], 0.0), axis=0)
         self._check_linear_runaway(Ppk)
         Ts = self.steady(Pbar)

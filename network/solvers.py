@@ -21,10 +21,27 @@ import numpy as np
 from .system import ThermalSystem
 
 __all__ = ["RawResponse", "Solver", "SOLVERS", "SolverError", "MODAL_NODE_LIMIT",
-           "resolve_solver", "solver_names"]
+           "resolve_solver", "solver_names", "as_arrays", "segment_energy"]
 
 #: Largest number of capacitive nodes for which "auto" picks the dense modal solver.
 MODAL_NODE_LIMIT = 3000
+
+
+def as_arrays(edges, level, slope, probes):
+    """The solver arguments as float64 arrays: edges (N+1,) s, level and slope (N, m)
+    (W, W/s), probe rows (p,) int64."""
+    edges = np.asarray(edges, dtype=np.float64)
+    level = np.atleast_2d(np.asarray(level, dtype=np.float64))
+    slope = np.atleast_2d(np.asarray(slope, dtype=np.float64))
+    rows = np.asarray(probes, dtype=np.int64).reshape(-1)
+    return edges, level, slope, rows
+
+
+def segment_energy(edges: np.ndarray, level: np.ndarray, slope: np.ndarray) -> np.ndarray:
+    """∫ P dt over all segments per input, J, (m,): Σ_k (a_k h_k + b_k h_k²/2) for the
+    power a_k + b_k·s on segment k of width h_k (exact for piecewise-linear power)."""
+    h = edges[1:] - edges[:-1]
+    return h @ level + 0.5 * (h * h) @ slope
 
 
 class SolverError(ValueError):

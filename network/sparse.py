@@ -103,7 +103,7 @@ import scipy.sparse.linalg as sla
 
 from .assemble import NetworkError, floating_nodes, static_field
 from .modal import gk
-from .solvers import RawResponse
+from .solvers import RawResponse, as_arrays, segment_energy
 from .system import ThermalSystem
 
 __all__ = ["SparseSolver", "ModeBasis", "Stepper", "count_modes_below"]
@@ -757,14 +757,6 @@ class SparseSolver:
     def _full(self, b: ModeBasis, x: np.ndarray, P: np.ndarray, dP: np.ndarray) -> np.ndarray:
         return self.T_amb + b.Phi @ x + b.S0 @ P - b.S1 @ dP
 
-    @staticmethod
-    def _arrays(edges, level, slope, probes):
-        edges = np.asarray(edges, dtype=np.float64)
-        level = np.atleast_2d(np.asarray(level, dtype=np.float64))
-        slope = np.atleast_2d(np.asarray(slope, dtype=np.float64))
-        rows = np.asarray(probes, dtype=np.int64).reshape(-1)
-        return edges, level, slope, rows
-
     def _info(self, b: ModeBasis, edges, mean_full, extra=None) -> dict:
         info = {"method": "sparse", "basis": b.kind, "modes": int(b.lam.size),
                 "tau_cut": b.tau_cut, "segments": int(edges.size - 1),
@@ -849,8 +841,7 @@ class SparseSolver:
         st = self.stepper()
         n = self.system.n
         T = edges[-1]
-        h = np.diff(edges)
-        Pbar = (h @ level + 0.5 * (h * h) @ slope) / T
+        Pbar = segment_energy(edges, level, slope) / T
         xbar = self.U0 @ Pbar                       # mean-power steady rise (first guess)
         r = st.sweep(np.zeros(n), edges, level, slope, None)[2]
 
@@ -906,8 +897,7 @@ class SparseSolver:
         scale = max(float(np.max(np.abs(vv))), 1e-300)
         est = float(np.max(np.abs(v2[1::2] - v[:nk]))) / scale
         dur = edges[-1]
-        h = np.diff(edges)
-        EP = h @ level + 0.5 * (h * h) @ slope
+        EP = segment_energy(edges, level, slope)
         # ∫θ dt from the balance C Δθ + G ∫θ = B ∫P (exact given the end state)
         integral = self.lu0.solve(self.B @ EP - self.C * (y_end - d0))
         self.n_solves += 1
@@ -934,7 +924,7 @@ class SparseSolver:
 
     def periodic(self, edges, level, slope, probes) -> RawResponse:
         """Periodic steady state (see the module docstring for the three paths)."""
-        edges, level, slope, rows = self._arrays(edges, level, slope, probes)
+        edges, level, slope, rows = as_arrays(edges, level, slope, probes)
         if self.path(self._tau_cut(edges))[0] == "step":
             return self._step_periodic(edges, level, slope, rows)
         raw = self._modes_periodic(edges, level, slope, rows)
@@ -959,8 +949,7 @@ class SparseSolver:
         extra = self._estimate(b, lambda bb: solve(bb)[2], v) if b.kind == "krylov" else {}
         # the start sample (t = 0) takes part: an extreme may follow it closely
         t, v = self._refine(b, x0, edges, level, slope, rows, np.concatenate([[0.0], t]), v)
-        h = np.diff(edges)
-        Pbar = (h @ level + 0.5 * (h * h) @ slope) / T
+        Pbar = segment_energy(edges, level, slope) / T
         mean_full = self.T_amb + self.U0 @ Pbar          # exact: average of the periodic state
         start = self._full(b, x0, P_end, slope[-1])
         theta = v + self.T_amb[rows][None, :]
@@ -969,7 +958,7 @@ class SparseSolver:
 
     def transient(self, edges, level, slope, initial, probes) -> RawResponse:
         """Transient from ``initial`` (n,) K absolute (None: the zero-power static field)."""
-        edges, level, slope, rows = self._arrays(edges, level, slope, probes)
+        edges, level, slope, rows = as_arrays(edges, level, slope, probes)
         n = self.system.n
         if initial is None:
             d0 = np.zeros(n)
@@ -1004,7 +993,7 @@ class SparseSolver:
         t, vv = self._refine(b, x0, edges, level, slope, rows, np.concatenate([[0.0], t]), vv)
         dur = edges[-1]
         h = np.diff(edges)
-        EP = h @ level + 0.5 * (h * h) @ slope              # ∫P dt per input
+        EP = segment_energy(edges, level, slope)              # ∫P dt per input
         dPint = h @ slope                                    # ∫P' dt
         mean_full = self.T_amb + (b.Phi @ integral + b.S0 @ EP - b.S1 @ dPint) / dur
         P_end = level[-1] + slope[-1] * h[-1]
