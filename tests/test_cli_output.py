@@ -65,3 +65,24 @@ def test_a_closed_pipe_ends_quietly():
     proc.stderr.close()
     assert proc.wait(timeout=60) == 0
     assert "Traceback" not in err and "Broken pipe" not in err
+
+
+def test_json_output_never_carries_nan(tmp_path, capsys, monkeypatch):
+    """``--json`` is strict JSON: a non-finite figure is an error (exit 2, one line, nothing
+    on stdout) instead of a bare NaN token.  Common practice, no source (RFC 8259 has no
+    NaN)."""
+    import importlib
+
+    simulate_mod = importlib.import_module("pulsetherm.network.simulate")
+
+    class Bad:
+        def to_dict(self):
+            return {"scenario": "x", "probes": {"pa.junction": {"peak_C": float("nan")}}}
+
+    monkeypatch.setattr(simulate_mod, "simulate", lambda scn: Bad())
+    f = tmp_path / "s.toml"
+    f.write_text((EXAMPLES / "xband_gan_coldplate.toml").read_text())
+    assert main(["run", str(f), "--json"]) == 2
+    cap = capsys.readouterr()
+    assert cap.out == "" and "not a finite number" in cap.err
+    assert "Traceback" not in cap.err and len(cap.err.strip().splitlines()) == 1

@@ -160,6 +160,25 @@ def _out(text: str = "", file: TextIO | None = None) -> None:
     print(text, file=file or sys.stdout)
 
 
+def _emit(res, as_json: bool, text) -> None:
+    """Print a result as one JSON object (``--json``) or as the text ``text(res)``.
+
+    JSON is strict: a NaN or infinity is an error (exit 2), never a bare ``NaN`` token that
+    other JSON readers refuse.
+    """
+    if as_json:
+        import json
+
+        try:
+            body = json.dumps(res.to_dict(), indent=2, allow_nan=False)
+        except ValueError:
+            raise ValueError("result: a value that is not a finite number; expected finite "
+                             "figures only (nothing printed)") from None
+        _out(body)
+    else:
+        _out(text(res))
+
+
 # -- materials ---------------------------------------------------------------------------
 def _cmd_materials(args: argparse.Namespace) -> int:
     from pulsetherm.tui.report import material_table, material_text
@@ -198,8 +217,6 @@ def _literal(text: str):
 
 # -- run ---------------------------------------------------------------------------------
 def _cmd_run(args: argparse.Namespace) -> int:
-    import json
-
     from pulsetherm.network.simulate import simulate
     from pulsetherm.tui.report import run_table
 
@@ -211,10 +228,7 @@ def _cmd_run(args: argparse.Namespace) -> int:
     if args.plot:
         from pulsetherm.tui.plots import plot_run
         plot_run(res, args.plot)
-    if args.json:
-        _out(json.dumps(res.to_dict(), indent=2, sort_keys=False))
-    else:
-        _out(run_table(res))
+    _emit(res, args.json, run_table)
     return EXIT_OK
 
 
@@ -234,8 +248,6 @@ def _cmd_check(args: argparse.Namespace) -> int:
 
 # -- zth ---------------------------------------------------------------------------------
 def _cmd_zth(args: argparse.Namespace) -> int:
-    import json
-
     from pulsetherm.network.simulate import thermal_impedance
     from pulsetherm.tui.report import zth_text
 
@@ -247,17 +259,12 @@ def _cmd_zth(args: argparse.Namespace) -> int:
     if args.plot:
         from pulsetherm.tui.plots import plot_zth
         plot_zth(res, args.plot)
-    if args.json:
-        _out(json.dumps(res.to_dict(), indent=2))
-    else:
-        _out(zth_text(res))
+    _emit(res, args.json, zth_text)
     return EXIT_OK
 
 
 # -- sweep -------------------------------------------------------------------------------
 def _cmd_sweep(args: argparse.Namespace) -> int:
-    import json
-
     from pulsetherm.network.sweep import plan_sweep, run_sweep
     from pulsetherm.tui.report import sweep_text
 
@@ -274,10 +281,7 @@ def _cmd_sweep(args: argparse.Namespace) -> int:
                     scheduler=args.scheduler, progress=progress)
     if progress is not None:
         progress.close()
-    if args.json:
-        _out(json.dumps(res.to_dict(), indent=2))
-    else:
-        _out(sweep_text(res))
+    _emit(res, args.json, sweep_text)
     return EXIT_OK
 
 
@@ -309,8 +313,6 @@ class _Progress:
 
 # -- size --------------------------------------------------------------------------------
 def _cmd_size(args: argparse.Namespace) -> int:
-    import json
-
     from pulsetherm.network.scenario import parse_difference
     from pulsetherm.network.sizing import size
     from pulsetherm.tui.report import sizing_text
@@ -318,10 +320,7 @@ def _cmd_size(args: argparse.Namespace) -> int:
     margin = parse_difference(args.margin, "--margin")
     scn = _load(args)
     res = size(scn, args.adjust, args.range, margin=margin, tol=args.tol)
-    if args.json:
-        _out(json.dumps(res.to_dict(), indent=2))
-    else:
-        _out(sizing_text(res))
+    _emit(res, args.json, sizing_text)
     return EXIT_OK
 
 
