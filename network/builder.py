@@ -691,7 +691,7 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
             R_layer += 1.0 / g
             C_layer += c_top + c_bot
             if profile is not None:
-                ww, ll = profile.path(float(pA[kk + 1]), w0, l0)
+                ww, ll = profile.path(float(pA[kk + 1]), w0, l0, profile.run_of(si).plate)
             else:
                 ww, ll = path_size(z[kk + 1], w, l, tan, seg.cap)
             if kk == len(xi) - 2 and last_seg and merge_bottom:
@@ -705,7 +705,7 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
             faces.append(name)
             current = name
         if profile is not None:
-            w_new, l_new = profile.path(float(pA[-1]), w0, l0)
+            w_new, l_new = profile.path(float(pA[-1]), w0, l0, profile.run_of(si).plate)
             seg.angle = _equivalent_angle(R_layer, t, w, l, seg)
         else:
             w_new, l_new = path_size(t, w, l, tan, seg.cap)
@@ -821,6 +821,41 @@ _GL6_X, _GL6_W = np.polynomial.legendre.leggauss(6)
 
 
 @dataclass
+class _Run:
+    """A run of consecutive column elements of one lateral size (see :func:`depth_profile`).
+
+    Depths are virtual (an area resistance r is a layer of the material below of thickness
+    r·k_below); ``z0`` is where the run starts in that coordinate, ``offset`` the ladder's
+    cumulative resistance at its top (after the jump ``jump``, the extra constriction the
+    rest of the column causes under the run above, lumped at the boundary).
+    """
+
+    first: int
+    last: int
+    a: float                   # source radius (equal-area circle of the heat entry), m
+    b: float                   # plate radius (equal-area circle of the run's size), m
+    plate: tuple[float, float]
+    ks: list[float]
+    ts: list[float]
+    z0: float
+    offset: float = 0.0
+    r_1d: float = 0.0          # 1-D resistance of the run's layers over its plate
+    r_cut: float = 0.0         # R of the run alone over an isothermal plane at its bottom
+    cross: float = 0.0         # coupling with the wider run below (:func:`_cross_term`)
+
+    def local(self, z: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """R and dR/dz of the run alone, cut at local depths ``z`` (0 < z ≤ Σt, or 0)."""
+        from .spreading import circular_depth_profile
+        R = np.zeros(z.shape)
+        dR = np.full(z.shape, 1.0 / (self.ks[0] * math.pi * self.a * self.a))
+        pos = z > 0
+        if np.any(pos):
+            R[pos], dR[pos] = circular_depth_profile(self.a, self.b, self.ks, self.ts,
+                                                     np.minimum(z[pos], sum(self.ts)))
+        return R, dR
+
+
+@dataclass
 class _Profile:
     """Depth profile of a column's exact steady spreading (see :func:`depth_profile`).
 
@@ -833,26 +868,91 @@ class _Profile:
     ks: list[float]
     ts: list[float]
     top: list[float]
-    plate: tuple[float, float]
+    plate: tuple[float, float]  # the last run's plate (what the sink sees)
     r_exact: float            # mean source rise of the whole stack over the real sink, K/W
-    r_stack: float            # the same stack over an isothermal plane at its bottom, K/W
+    r_stack: float            # the ladder's resistance at the column's bottom face, K/W
+    runs: list[_Run] = field(default_factory=list)
+    _cross_tab: dict = field(default_factory=dict, repr=False)
+
+    def run_of(self, j: int) -> _Run:
+        """The run element ``j`` belongs to."""
+        return next(r for r in self.runs if r.first <= j <= r.last)
+
+    def _sp_merged(self, j: int, d: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Spreading part (total minus 1-D) of run j's source over the whole stack below it
+        taken at run j's radius, cut at depth ``d`` below the run's top; and its slope."""
+        from .spreading import circular_depth_profile
+        run = self.runs[j]
+        if run.a >= run.b * (1 - 1e-12):
+            return np.zeros(d.shape), np.zeros(d.shape)
+        ks, ts = self.ks[run.first:], self.ts[run.first:]
+        R, dR = circular_depth_profile(run.a, run.b, ks, ts, d)
+        zb = np.concatenate([[0.0], np.cumsum(ts)])
+        cum = np.concatenate([[0.0], np.cumsum(np.array(ts) / np.array(ks))])
+        i = np.minimum(np.searchsorted(zb, d, side="right") - 1, len(ks) - 1)
+        area = math.pi * run.b * run.b
+        k_at = np.array(ks)[i]
+        return R - (cum[i] + (d - zb[i]) / k_at) / area, dR - 1.0 / (k_at * area)
+
+    def _cross(self, j: int, m: int, z: np.ndarray) -> np.ndarray:
+        """Cross term of run j with the wider run below (:func:`_cross_term`) for the column
+        cut at depth z inside run m (tabulated at 13 depths, interpolated in log z)."""
+        key = (j, m)
+        if key not in self._cross_tab:
+            run, nxt, cut = self.runs[j], self.runs[j + 1], self.runs[m]
+            tm = sum(cut.ts)
+            zq = np.concatenate([[0.0], tm * np.logspace(-4, 0, 12)])
+            vals = np.zeros(zq.size)
+            if run.a < run.b * (1 - 1e-12) and nxt.b > run.b * (1 + 1e-9):
+                for q in range(1, zq.size):
+                    depth = cut.z0 + zq[q] - run.z0
+                    ks, ts = _truncate(self.ks[run.first:], self.ts[run.first:], depth)
+                    vals[q] = _cross_term(run.a, run.b, nxt.b, ks, ts,
+                                          run.last + 1 - run.first, math.inf)
+            self._cross_tab[key] = (zq, vals)
+        zq, vals = self._cross_tab[key]
+        x = np.log(np.maximum(z, 1e-300))
+        xq = np.log(np.maximum(zq, zq[1] * 1e-3))
+        return np.where(z <= 0, 0.0, np.interp(x, xq, vals))
 
     def __call__(self, zv: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """R(z) and dR/dz at virtual depths ``zv`` (R(0) = 0, dR/dz(0) = 1/(k_1 πa²))."""
-        from .spreading import circular_depth_profile
+        """The ladder's cumulative resistance R(z) and dR/dz at virtual depths ``zv``
+        (R(0) = 0): the column cut at z, every run above the cut complete, evaluated by the
+        chain of :func:`depth_profile` over an isothermal cut plane.  For z in run m
+
+            R(z) = R_cut,m(z − z0_m) + Σ_{j<m} [R_1D,j + R_sp,j(z) + X_j(z)]
+
+        with R_cut,m the run alone over the cut, R_sp,j the spreading part of run j's
+        source over the stack below it at run j's radius, cut at z, and X_j the cross term
+        with the wider run below (:func:`_cross_term`).  A depth on a run boundary belongs
+        to the run above; R is continuous there."""
         zv = np.asarray(zv, dtype=float)
         R = np.zeros(zv.shape)
-        dR = np.full(zv.shape, 1.0 / (self.ks[0] * math.pi * self.a * self.a))
-        pos = zv > 0
-        if np.any(pos):
-            R[pos], dR[pos] = circular_depth_profile(self.a, self.b, self.ks, self.ts,
-                                                     zv[pos])
+        dR = np.zeros(zv.shape)
+        bottoms = np.array([r.z0 + sum(r.ts) for r in self.runs])
+        idx = np.minimum(np.searchsorted(bottoms, zv * (1 - 1e-12), side="left"),
+                         len(self.runs) - 1)
+        for m, run in enumerate(self.runs):
+            sel = idx == m
+            if not np.any(sel):
+                continue
+            z = np.maximum(zv[sel] - run.z0, 0.0)
+            Rl, dRl = run.local(z)
+            for j in range(m):
+                up = self.runs[j]
+                sp, dsp = self._sp_merged(j, np.maximum(zv[sel] - up.z0, 1e-300))
+                Rl = Rl + up.r_1d + sp + self._cross(j, m, z)
+                dRl = dRl + dsp
+            R[sel] = Rl
+            dR[sel] = dRl
         return R, dR
 
-    def path(self, area: float, w0: float, l0: float) -> tuple[float, float]:
+    def path(self, area: float, w0: float, l0: float,
+             plate: tuple[float, float] | None = None) -> tuple[float, float]:
         """A w × l rectangle of ``area`` grown from the footprint w0 × l0 as a frustum
-        (both sides out by the same amount, capped by the plate): node bookkeeping only."""
-        W, L = self.plate
+        (both sides out by the same amount, capped by ``plate``, default the last run's):
+        node bookkeeping only."""
+        W, L = plate if plate is not None else self.plate
         if area <= w0 * l0:
             f = math.sqrt(area / (w0 * l0))
             return w0 * f, l0 * f
@@ -865,22 +965,134 @@ class _Profile:
         return w, l
 
 
-def depth_profile(segs: list[_Seg], footprint: tuple[float, float], sink) -> _Profile | None:
-    """The exact steady spreading of a column as a function of depth.
+def _element_plates(segs: list[_Seg]) -> list[tuple[float, float]] | None:
+    """Lateral size of every element: its own; a layer with no size takes the nearest
+    sized layer below (above if none); an area resistance joins the element above it.
+    ``None`` when no layer has a size."""
+    caps = [s.cap for s in segs]
+    if not any(c is not None for c in caps):
+        return None
+    plates = []
+    for j in range(len(segs)):
+        p = next((c for c in caps[j:] if c is not None), None)
+        if p is None:
+            p = next(c for c in reversed(caps[:j]) if c is not None)
+        plates.append(p)
+    for j in range(1, len(segs)):
+        if isinstance(segs[j].element, AreaResistance):
+            plates[j] = plates[j - 1]
+    return plates
 
-    The column (every element as wide as its widest sized layer, radius b = √(W·L/π);
-    source the equal-area circle a = √(w·l/π); an area resistance r as a layer of the
-    material below of thickness r·k_below) is cut at depth z and the cut held at the sink
-    temperature.  R(z), the mean source rise per watt of that cut stack, is the exact
-    compound-disk series (:func:`pulsetherm.network.spreading.circular_depth_profile`:
-    Yovanovich, Culham & Teertstra 1998; Yovanovich, Muzychka & Culham 1999).  Returns
-    ``None`` when no layer has a size (nothing to spread into).
+
+def _transfer(zeta: np.ndarray, ks: Sequence[float], ts: Sequence[float], n_run: int,
+              h: float) -> np.ndarray:
+    """Flux transmission of the first ``n_run`` layers of a stack (top first, over a film h):
+    the ratio q_bottom/q_top of a surface flux mode of wavenumber ζ.
+
+    Layer i over a stack of spreading function φ_{i+1} (:func:`pulsetherm.network.spreading.
+    layer_phi`; transmission-line form of Yovanovich, Muzychka & Culham 1999) passes
+
+        q_b/q_t = 1/[cosh(ζt_i) + (k_i/k_{i+1})·φ_{i+1}·sinh(ζt_i)]
+
+    (written with e^{−ζt} to stay finite)."""
+    from .spreading import layer_phi
+    out = np.ones_like(zeta)
+    for i in range(n_run):
+        if i + 1 < len(ks):
+            ratio = ks[i] / ks[i + 1]
+            phi = layer_phi(zeta, ks[i + 1:], ts[i + 1:], h)
+        else:
+            ratio = 0.0 if math.isinf(h) else ks[i] * zeta / h
+            phi = np.ones_like(zeta)
+            if math.isinf(h):
+                ratio, phi = np.inf, np.ones_like(zeta)
+        e = np.exp(-2.0 * zeta * ts[i])
+        if np.isscalar(ratio) and math.isinf(ratio):
+            out = out * 0.0
+        else:
+            out = out * 2.0 * np.sqrt(e) / ((1.0 + e) + ratio * phi * (1.0 - e))
+    return out
+
+
+def _cross_term(a: float, b: float, b2: float, ks: Sequence[float], ts: Sequence[float],
+                n_run: int, h: float, n_up: int = 400) -> float:
+    """Coupling of a narrow run (radius ``b``) and the wider run below it (radius ``b2``):
+    the resistance the modal split of :func:`depth_profile` leaves out, K/W.
+
+    The run (its ``n_run`` layers at the head of ``ks``, ``ts``; the stack below taken at the
+    run's radius) carries the isoflux source a down: flux mode n of amplitude
+    A_n = 2J1(δ_n a)/(π a b² δ_n J0²(λ_n)) per watt (δ_n = λ_n/b, λ_n roots of J1) is
+    multiplied by its transmission T_n (:func:`_transfer`), so the flux leaving the run is
+    q = q_u + q_n: the uniform part q_u = 1/(πb²) on r < b, and q_n = Σ A_n T_n J0(δ_n r).
+    In the wider run (modes δ'_k = λ'_k/b2, spreading function φ' of its stack) the
+    flux-weighted mean rise of q (the energy the lower region dissipates per W², exact for
+    the given q by reciprocity) is the quadratic form
+
+        R[q] = Σ_k w_k·I_k[q]²,  w_k = 4π·φ'(δ'_k)/(b2²·J0²(λ'_k)·k'·δ'_k),
+        I_k[q_u] = J1(δ'_k b)/(πb δ'_k),
+        I_k[q_n] = Σ_n A_n T_n b δ'_k J0(λ_n) J1(δ'_k b)/(δ'_k² − δ_n²)  (Lommel's integral)
+
+    (Yovanovich, Culham & Teertstra 1998 for the disk modes).  The split counts R[q_u] (the
+    run below, entered isoflux over the whole base) and the part of R[q_n] the stack at the
+    run's radius gives; it leaves out the cross term 2·Σ_k w_k·I_k[q_u]·I_k[q_n], which is
+    returned (positive when the heat leaves the run concentrated under its source: a thin
+    die on a flange).
+    """
+    from scipy.special import j0 as J0, j1 as J1
+    from .spreading import layer_phi, _j1_roots
+    lam = _j1_roots(n_up)
+    d = lam / b
+    A = 2.0 * J1(d * a) / (math.pi * a * b * b * d * J0(lam) ** 2)
+    c = A * _transfer(d, ks, ts, n_run, h)
+    n2 = int(min(4000, max(512, math.ceil(64.0 * b2 / b))))
+    lam2 = _j1_roots(n2)
+    d2 = lam2 / b2
+    j1b = J1(d2 * b)
+    den = d2[:, None] ** 2 - d[None, :] ** 2
+    near = np.abs(den) < 1e-9 * d2[:, None] ** 2
+    M = np.where(near, 0.0, b * d2[:, None] * J0(lam)[None, :] * j1b[:, None]
+                 / np.where(near, 1.0, den))
+    In = M @ c
+    if np.any(near):  # δ'_k = δ_n: ∫_0^b J0²(δr) r dr = b²J0²(δb)/2 (J1(δb) = 0)
+        kk, nn = np.nonzero(near)
+        np.add.at(In, kk, c[nn] * 0.5 * b * b * J0(lam[nn]) ** 2)
+    Iu = j1b / (math.pi * b * d2)
+    phi2 = layer_phi(d2, ks[n_run:], ts[n_run:], h)
+    wgt = 4.0 * math.pi * phi2 / (b2 * b2 * J0(lam2) ** 2 * ks[n_run] * d2)
+    return 2.0 * float(np.sum(wgt * Iu * In))
+
+
+def depth_profile(segs: list[_Seg], footprint: tuple[float, float], sink) -> _Profile | None:
+    """The exact steady spreading of a column as a function of depth, run by run.
+
+    The column is split, top to bottom, into *runs* of consecutive elements of one lateral
+    size (die → flange → board; a layer with no size takes the nearest sized layer below,
+    an area resistance joins the run above; an area resistance r is a layer of the
+    material below of thickness r·k_below).  Run m, plate radius b_m = √(W·L/π), is a
+    compound disk whose heat enters through the equal-area circle a_m: the footprint for
+    the first run, the whole plate of the run above for the next ones, taken as isoflux
+    (approximation: the real flux leaving a narrow run is peaked under the source, so the
+    constriction into the next run is somewhat underestimated; a run narrower than the one
+    above is entered over its whole area, 1-D).  Everything below the run is an equivalent
+    film h_m = 1/(π b_m²·R_m+1), R_m+1 the exact resistance of the rest of the column for
+    the source a_m+1 = b_m (computed bottom up; under the last run the sink as
+    :func:`_sink_h` presents it): the superposition practice of package spreading
+    estimates.  So the column's resistance is
+
+        R_exact = R_1(a_1, b_1, h_1),  R_m = circular_series(a_m, b_m, run layers, h_m)
+
+    (Yovanovich, Culham & Teertstra 1998; compound layers, Yovanovich, Muzychka & Culham
+    1999).  Inside run m the ladder follows the cut profile R_cut,m(z) of the run over an
+    isothermal plane at depth z (:func:`pulsetherm.network.spreading.circular_depth_profile`);
+    at the top of run m + 1 it adds the jump R_m − R_cut,m − 1/(h_m π b_m²) (the extra
+    constriction the film causes, lumped at the boundary), so the ladder's resistance at
+    the bottom of each run equals the exact chain.  Returns ``None`` when no layer has a
+    size (nothing to spread into).
     """
     from .spreading import circular_series
-    sized = [s.cap for s in segs if s.cap is not None]
-    if not segs or not sized:
+    plates = _element_plates(segs) if segs else None
+    if plates is None:
         return None
-    W, L = max(sized, key=lambda c: c[0] * c[1])
     ks, ts = [], []
     for i, s in enumerate(segs):
         if isinstance(s.element, AreaResistance):
@@ -892,20 +1104,83 @@ def depth_profile(segs: list[_Seg], footprint: tuple[float, float], sink) -> _Pr
         else:
             ks.append(s.k_eff)
             ts.append(s.thickness)
-    b = math.sqrt(W * L / math.pi)
-    a = min(math.sqrt(footprint[0] * footprint[1] / math.pi), b)
     top = [0.0] + list(np.cumsum(ts)[:-1])
-    prof = _Profile(a, b, ks, ts, top, (W, L), 0.0, 0.0)
-    r_stack = float(prof(np.array([sum(ts)]))[0][0])
-    h = _sink_h(sink, W * L)
-    if math.isinf(h):
-        r_exact = r_stack
-    elif a >= b:
-        r_exact = r_stack + 1.0 / (h * W * L)
-    else:
-        r_exact = circular_series(a, b, ks, ts, h, rtol=1e-7, centre=False).total
-    prof.r_exact, prof.r_stack = r_exact, r_stack
+    runs: list[_Run] = []
+    j = 0
+    a_in = math.sqrt(footprint[0] * footprint[1] / math.pi)
+    while j < len(segs):
+        e = j
+        while e + 1 < len(segs) and np.allclose(plates[e + 1], plates[j], rtol=1e-9):
+            e += 1
+        P = plates[j]
+        b = math.sqrt(P[0] * P[1] / math.pi)
+        a = min(a_in, b)
+        runs.append(_Run(j, e, a, b, P, ks[j:e + 1], ts[j:e + 1], top[j]))
+        j = e + 1
+        if j < len(segs):
+            Pn = plates[j]
+            b2 = math.sqrt(Pn[0] * Pn[1] / math.pi)
+            if b2 > b * (1 + 1e-9) and a < b * (1 - 1e-12):
+                h_sink = _sink_h(sink, plates[-1][0] * plates[-1][1])
+                runs[-1].cross = _cross_term(a, b, b2, ks[runs[-1].first:],
+                                             ts[runs[-1].first:], e + 1 - runs[-1].first,
+                                             h_sink)
+            a_in = b
+    # exact chain, bottom up
+    r_below = None
+    totals: list[float] = [0.0] * len(runs)
+    films: list[float] = [0.0] * len(runs)
+    for m in range(len(runs) - 1, -1, -1):
+        run = runs[m]
+        Ap = math.pi * run.b * run.b
+        run.r_cut = float(run.local(np.array([sum(run.ts)]))[0][0])
+        if r_below is None:
+            h = _sink_h(sink, run.plate[0] * run.plate[1])
+        else:
+            h = 1.0 / (Ap * r_below)
+        films[m] = 0.0 if math.isinf(h) else 1.0 / (h * Ap)
+        if m == len(runs) - 1:
+            if math.isinf(h):
+                tot = run.r_cut
+            elif run.a >= run.b * (1 - 1e-12):
+                tot = run.r_cut + films[m]
+            else:
+                tot = circular_series(run.a, run.b, run.ks, run.ts, h, rtol=1e-7,
+                                      centre=False).total
+        else:
+            # uniform mode: the run's 1-D resistance plus the film (everything below);
+            # the non-uniform modes of the run see the whole remaining stack at the run's
+            # radius (they are zero-mean patterns that the wider layers below receive
+            # locally, as if unbounded)
+            r1d = sum(t / k for k, t in zip(run.ks, run.ts)) / Ap
+            tot = r1d + films[m] + run.cross
+            if run.a < run.b * (1 - 1e-12):
+                h_sink = _sink_h(sink, runs[-1].plate[0] * runs[-1].plate[1])
+                tot += circular_series(run.a, run.b, ks[run.first:], ts[run.first:],
+                                       h_sink, rtol=1e-7, centre=False).r_spreading
+        totals[m] = tot
+        r_below = tot
+    for run in runs:
+        run.r_1d = sum(t / k for k, t in zip(run.ks, run.ts)) / (math.pi * run.b * run.b)
+    prof = _Profile(runs[0].a, runs[0].b, ks, ts, top, runs[-1].plate, totals[0], 0.0, runs)
+    prof.r_stack = float(prof(np.array([sum(ts)]))[0][0])
     return prof
+
+
+def _truncate(ks: Sequence[float], ts: Sequence[float], depth: float
+              ) -> tuple[list[float], list[float]]:
+    """The layers of a stack (top first) down to ``depth``, the last one cut there."""
+    out_k, out_t, z = [], [], 0.0
+    for k, t in zip(ks, ts):
+        if z + t >= depth * (1 - 1e-12):
+            if depth - z > 0:
+                out_k.append(k)
+                out_t.append(depth - z)
+            break
+        out_k.append(k)
+        out_t.append(t)
+        z += t
+    return out_k, out_t
 
 
 def _equivalent_angle(r_layer: float, t: float, w: float, l: float, seg: _Seg) -> float:
@@ -949,7 +1224,10 @@ def _profile_sublayers(prof: _Profile, seg: _Seg, zv0: float, z: np.ndarray,
     else:
         kv, av = via
         q = seg.k_eff * A + (kv - seg.k_eff) * np.minimum(A, av)
-        g = 1.0 / np.sum(wq * dRq * seg.k_eff * A / q, axis=1)
+        # the slope carries no cross term (a small depth-wise share of R): the via-free
+        # sub-layer resistance is taken from R itself and the via field scales it
+        plain = np.sum(wq * dRq, axis=1)
+        g = plain / (np.diff(Rf) * np.sum(wq * dRq * seg.k_eff * A / q, axis=1))
     xi = (zq - z[:-1, None]) / (z[1:, None] - z[:-1, None])
     c_bot = seg.rho_c * np.sum(wq * A * xi, axis=1)
     c_top = seg.rho_c * np.sum(wq * A, axis=1) - c_bot
