@@ -340,6 +340,9 @@ class _RowWriter:
         self.done: set[str] = set()
         if path.suffix.lower() not in (".csv", ".jsonl", ".ndjson", ".json"):
             raise ScenarioError("--out", str(path), "a .csv or .jsonl file")
+        if not path.parent.is_dir():
+            raise ScenarioError("--out", str(path), f"a file in an existing folder (folder "
+                                f"{str(path.parent)!r} does not exist)")
         if resume and path.exists():
             self._read_done()
             self.fh = open(path, "a", encoding="utf-8", newline="")

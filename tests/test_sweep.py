@@ -164,3 +164,15 @@ def test_varying_a_name_is_refused(scn):
     figure.  Common practice, no source."""
     with pytest.raises(ValueError, match=r"--vary = 'devices\[0\]\.name': a value to vary"):
         plan_sweep(scn, vary=["devices[0].name=a,b"])
+
+
+def test_out_into_a_missing_folder_names_the_option(tmp_path, capsys):
+    """Common practice, no source."""
+    f = tmp_path / "s.toml"
+    f.write_text(TEXT)
+    out = tmp_path / "nodir" / "rows.csv"
+    assert main(["sweep", str(f), "--no-progress", "--vary",
+                 "mount.sink.resistance=0.2 K/W,0.3 K/W", "--out", str(out)]) == 2
+    err = capsys.readouterr().err
+    assert "--out = " in err and "does not exist" in err and "Traceback" not in err
+    assert not (tmp_path / "nodir").exists()
