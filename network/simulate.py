@@ -571,6 +571,7 @@ def _add_lines(model: ScenarioModel, lib) -> None:
     below += [(f"mount.interface[{j}]", lay) for j, lay in enumerate(scn.mount.interface or ())]
     ground = _line_ground(model, lib, below)
     net = model.network
+    W_board, L_board = (q.value for q in scn.board.size)
     for i, spec in enumerate(scn.lines):
         path = f"lines[{i}]"
         if spec.dielectric is not None:
@@ -594,6 +595,12 @@ def _add_lines(model: ScenarioModel, lib) -> None:
                             tan_delta=spec.loss_tangent or 0.0, thickness=t_cu,
                             frequency=spec.frequency.value,
                             roughness=spec.roughness.value if spec.roughness else 0.0)
+            if ms.w * spec.length.value > W_board * L_board:
+                raise ScenarioError(_join(path, "length"), spec.length.text,
+                                    f"a line that fits on the board: its strip covers "
+                                    f"{ms.w * spec.length.value * 1e6:.4g} mm2 ({ms.w * 1e3:.3g}"
+                                    f" mm wide), the board only {W_board * L_board * 1e6:.4g} "
+                                    "mm2 (board.size)")
             pts = [PointHeater(h.name, h.position.value,
                                h.length.value if h.length else 0.0,
                                h.resistance.value if h.resistance else None,

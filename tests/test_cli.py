@@ -196,6 +196,8 @@ BROKEN: dict[str, tuple[str, str]] = {
                                  'limit = "100 degC"\n', "probes[0].name = 'pa.junction'"),
     "temperatures_overflow": (_sub('peak = "50 W"', 'peak = "1e308 W"'),
                               "finite temperatures; probe 'pa.junction'"),
+    "line_larger_than_the_board": ((EX / "termination_line.toml").read_text().replace(
+        'length = "25 mm"', 'length = "2500 mm"'), "lines[0].length = '2500 mm'"),
     "negative_delay": (_sub('period = "1 ms"', 'period = "1 ms"\ndelay = "-1 ms"'),
                        "waveforms.p.delay"),
 }
