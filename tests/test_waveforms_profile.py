@@ -72,3 +72,17 @@ def test_pulses_below_time_resolution_are_refused():
         Profile([Stretch(11.0, 0.0), Stretch(7.5e-7, tr)]).compile()
     with pytest.raises(WaveformError, match=r"pulse width 1e-13 s is below the time resolution"):
         PulseTrain(peak=1.0, width=1e-13, period=1.0).compile()
+
+
+def test_a_stretch_that_would_tile_too_many_segments_is_refused():
+    """One hour of a 10 kHz train is 3.6e7 pulses held segment by segment: refused by name
+    instead of exhausting memory.  Common practice, no source."""
+    from pulsetherm.waveforms.profile import MAX_STRETCH_SEGMENTS, Profile, Stretch
+    from pulsetherm.waveforms.pulses import PulseTrain
+
+    tr = PulseTrain(10.0, 10e-6, prf=10e3)
+    with pytest.raises(ValueError, match=r"Stretch\.duration = 3600\.0 s: plays 36000000 "
+                                         r"periods"):
+        Profile([Stretch(3600.0, tr)]).compile()
+    ok = Profile([Stretch(MAX_STRETCH_SEGMENTS / 2 * 1e-4, tr)]).compile()
+    assert ok.n_segments <= MAX_STRETCH_SEGMENTS

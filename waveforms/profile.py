@@ -17,7 +17,11 @@ import numpy as np
 from .base import WaveformBase, check_power, check_time, from_ends
 from .canonical import TIME_RTOL, Piecewise, WaveformError, as_piecewise
 
-__all__ = ["Stretch", "Profile"]
+__all__ = ["Stretch", "Profile", "MAX_STRETCH_SEGMENTS"]
+
+#: Most exact segments one stretch may tile (a periodic waveform repeated over a long
+#: stretch is held in memory segment by segment).
+MAX_STRETCH_SEGMENTS = 2_000_000
 
 
 @dataclass(frozen=True)
@@ -68,6 +72,12 @@ class Stretch:
         span, n = p.span, p.n_segments
         if p.periodic:
             reps = max(1, math.ceil(d / span * (1 - TIME_RTOL)))
+            if reps * n > MAX_STRETCH_SEGMENTS:
+                raise WaveformError(
+                    f"Stretch.duration = {d!r} s: plays {reps} periods of a {span!r} s "
+                    f"waveform ({reps * n} segments); expected at most "
+                    f"{MAX_STRETCH_SEGMENTS} segments per stretch (for a long stretch use a "
+                    "constant power at the waveform's mean, or a shorter stretch)")
             starts = np.tile(p.edges[:-1], reps) + np.repeat(np.arange(reps) * span, n)
             level = np.tile(p.level, reps)
             end = np.tile(p.end_level, reps)
