@@ -2,7 +2,8 @@
 
 A sweep is a list of *rows*; a row sets some scenario values (``path -> text``, e.g.
 ``mount.sink.resistance -> "0.3 K/W"``) on a base scenario, rebuilds and solves it, and
-records every probe's peak, mean and margin.  Rows are keyed by a hash of the varied values,
+records every probe's peak, mean and margin.  Rows are keyed by a hash of the varied values
+(and of the base scenario),
 written (CSV or JSON lines) and flushed one complete line at a time as they finish, so an
 interrupted sweep resumes by skipping the keys already in the file.
 
@@ -193,10 +194,20 @@ def parse_mc(scn: Scenario, spec: str) -> MonteCarloAxis:
 # ======================================================================================
 # Plan
 # ======================================================================================
-def row_key(values: dict[str, Any]) -> str:
-    """Stable key of a row: a hash of its varied values (path and value as written)."""
+def row_key(values: dict[str, Any], base: Scenario | None = None) -> str:
+    """Stable key of a row: a hash of its varied values (path and value as written) and,
+    given ``base``, of the base scenario too, so that a resumed sweep does not take rows
+    computed from an edited scenario (or other ``--set`` values) for its own."""
     blob = json.dumps(sorted(values.items()), separators=(",", ":"), default=str)
+    if base is not None:
+        blob += _digest(base)
     return hashlib.sha1(blob.encode("utf-8")).hexdigest()[:16]
+
+
+def _digest(scn: Scenario) -> str:
+    """Hash of a scenario's values as written (its source file name left out)."""
+    text = json.dumps(scn.to_dict(), sort_keys=True, separators=(",", ":"), default=str)
+    return hashlib.sha1(text.encode("utf-8")).hexdigest()
 
 
 @dataclass(eq=False)
@@ -286,7 +297,7 @@ def run_row(scn: Scenario, values: dict[str, Any]) -> dict[str, Any]:
     ``peak_C``, ``mean_C``, ``margin_K``; ``ok`` (every limit holds) or ``error``."""
     from .simulate import simulate
 
-    row: dict[str, Any] = {"key": row_key(values), **values}
+    row: dict[str, Any] = {"key": row_key(values, scn), **values}
     try:
         s = scn
         for path, v in values.items():
@@ -479,7 +490,7 @@ def run_sweep(plan: SweepPlan, out: str | os.PathLike | None = None, resume: boo
     writer = _RowWriter(Path(out), columns, resume) if out is not None else None
     todo = plan.rows
     done_keys = writer.done if writer is not None else set()
-    todo = [r for r in plan.rows if row_key(r) not in done_keys]
+    todo = [r for r in plan.rows if row_key(r, plan.scenario) not in done_keys]
     skipped = len(plan.rows) - len(todo)
     rows: list[dict[str, Any]] = []
     count = skipped

@@ -96,7 +96,7 @@ def test_jsonl_rows_and_keys(scn, tmp_path):
     res = run_sweep(plan_sweep(scn, vary=["coolant=20 degC,40 degC"]), out=out)
     recs = [json.loads(x) for x in out.read_text().splitlines()]
     assert [r["key"] for r in recs] == [r["key"] for r in res.rows]
-    assert recs[0]["key"] == row_key({"coolant": "20 degC"})
+    assert recs[0]["key"] == row_key({"coolant": "20 degC"}, scn)
     assert recs[1]["pa.junction.peak_C"] - recs[0]["pa.junction.peak_C"] == pytest.approx(20)
 
 
@@ -176,3 +176,19 @@ def test_out_into_a_missing_folder_names_the_option(tmp_path, capsys):
     err = capsys.readouterr().err
     assert "--out = " in err and "does not exist" in err and "Traceback" not in err
     assert not (tmp_path / "nodir").exists()
+
+
+def test_resume_does_not_reuse_rows_of_an_edited_scenario(scn, tmp_path):
+    """Rows were keyed by the varied values only: after an edit of the base scenario,
+    --resume skipped every row and kept the old figures.  Common practice, no source."""
+    out = tmp_path / "rows.csv"
+    plan = plan_sweep(scn, vary=["mount.sink.resistance=0.2 K/W,0.3 K/W"])
+    run_sweep(plan, out=out)
+    assert run_sweep(plan, out=out, resume=True).skipped == 2
+    edited = plan_sweep(scn.with_value("coolant", "60 degC"),
+                        vary=["mount.sink.resistance=0.2 K/W,0.3 K/W"])
+    again = run_sweep(edited, out=out, resume=True)
+    assert again.skipped == 0 and len(again.rows) == 2
+    single = simulate(scn.with_value("coolant", "60 degC")
+                      .with_value("mount.sink.resistance", "0.2 K/W"))
+    assert again.rows[0]["pa.junction.peak_C"] == single.probes["pa.junction"].peak_C
