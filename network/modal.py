@@ -40,7 +40,7 @@ import scipy.linalg as sla
 from scipy.optimize import brentq
 
 from .assemble import condense, floating_nodes, static_field
-from .solvers import RawResponse, as_arrays, segment_energy
+from .solvers import RawResponse, as_arrays, merge_samples, segment_energy
 from .system import ThermalSystem
 
 __all__ = ["ModalSolver", "gk"]
@@ -670,10 +670,7 @@ class ModalSolver:
         q, _, _ = self._seg_states(q0s[:, ok], s_star, lv[ok], sl[ok])
         vv = (Pp @ q).T + (lv[ok] + s_star[:, None] * sl[ok]) @ Dp.T
         self.n_eval += ok.size
-        t = np.concatenate([t, edges[k_ok] + s_star])
-        v = np.vstack([v, vv])
-        order = np.argsort(t, kind="stable")
-        return t[order], v[order]
+        return merge_samples(t, v, edges[k_ok] + s_star, vv)
 
     # -- periodic steady state --------------------------------------------------------
     def _period_increment(self, edges, level, slope) -> np.ndarray:

@@ -73,7 +73,7 @@ import scipy.sparse.linalg as sla
 from scipy.optimize import brentq, minimize_scalar
 
 from .assemble import NetworkError, floating_nodes
-from .solvers import RawResponse, as_arrays, segment_energy
+from .solvers import RawResponse, as_arrays, merge_samples, segment_energy
 from .system import ThermalSystem
 
 __all__ = ["NonlinearSolver", "ThermalRunawayError", "kirchhoff_U", "kirchhoff_inverse",
@@ -768,12 +768,7 @@ class NonlinearSolver:
                 if sign * (y[rows[p]] - best) < 0.0:   # better than every sample
                     new_t.append(edges[k] + ts + tau)
                     new_v.append(y[rows])
-        if not new_t:
-            return t, v
-        t2 = np.concatenate([t, new_t])
-        v2 = np.vstack([v, np.array(new_v)])
-        order = np.argsort(t2, kind="stable")
-        return t2[order], v2[order]
+        return merge_samples(t, v, new_t, new_v)
 
     def _energy(self, terms: dict, T_start: np.ndarray, T_end: np.ndarray) -> tuple[float, dict]:
         """Relative imbalance ``|E_in − ΔE_stored − E_boundaries| / max(|terms|)`` with the

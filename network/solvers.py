@@ -21,7 +21,7 @@ import numpy as np
 from .system import ThermalSystem
 
 __all__ = ["RawResponse", "Solver", "SOLVERS", "SolverError", "MODAL_NODE_LIMIT",
-           "resolve_solver", "solver_names", "as_arrays", "segment_energy"]
+           "resolve_solver", "solver_names", "as_arrays", "segment_energy", "merge_samples"]
 
 #: Largest number of capacitive nodes for which "auto" picks the dense modal solver.
 MODAL_NODE_LIMIT = 3000
@@ -42,6 +42,17 @@ def segment_energy(edges: np.ndarray, level: np.ndarray, slope: np.ndarray) -> n
     power a_k + b_k·s on segment k of width h_k (exact for piecewise-linear power)."""
     h = edges[1:] - edges[:-1]
     return h @ level + 0.5 * (h * h) @ slope
+
+
+def merge_samples(t: np.ndarray, v: np.ndarray, new_t, new_v):
+    """Samples t (k,), v (k, p) with extra samples new_t (j,), new_v (j, p) merged in time
+    order (stable: an added sample follows an equal existing time)."""
+    if len(new_t) == 0:
+        return t, v
+    t2 = np.concatenate([t, np.asarray(new_t, dtype=np.float64)])
+    v2 = np.vstack([v, np.asarray(new_v, dtype=np.float64).reshape(len(new_t), -1)])
+    order = np.argsort(t2, kind="stable")
+    return t2[order], v2[order]
 
 
 class SolverError(ValueError):

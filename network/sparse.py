@@ -103,7 +103,7 @@ import scipy.sparse.linalg as sla
 
 from .assemble import NetworkError, floating_nodes, static_field
 from .modal import gk
-from .solvers import RawResponse, as_arrays, segment_energy
+from .solvers import RawResponse, as_arrays, merge_samples, segment_energy
 from .system import ThermalSystem
 
 __all__ = ["SparseSolver", "ModeBasis", "Stepper", "count_modes_below"]
@@ -739,12 +739,7 @@ class SparseSolver:
                 x = np.exp(-lam * s0) * xk + _psi(0, lam, s0) * Wa + _psi(1, lam, s0) * Wb
                 new_t.append(edges[k] + s0)
                 new_v.append(Pp @ x + S0p @ (a + s0 * s_) - S1p @ s_)
-        if not new_t:
-            return t, v
-        t2 = np.concatenate([t, new_t])
-        v2 = np.vstack([v, np.array(new_v)])
-        o = np.argsort(t2, kind="stable")
-        return t2[o], v2[o]
+        return merge_samples(t, v, new_t, new_v)
 
     def _run_increment(self, b: ModeBasis, edges, level, slope) -> np.ndarray:
         """End-of-period modal state from a zero start (vectorised over segments)."""
