@@ -270,3 +270,21 @@ size = ["5 mm", "5 mm"]
     h.write_text(text + text[text.index("[[devices]]"):].replace('name = "die"', 'name = "d2"'))
     assert main(["run", str(h)]) == 2
     assert "model.fidelity" in capsys.readouterr().err
+
+
+def test_errors_found_after_loading_carry_the_file_and_line(tmp_path, capsys):
+    """Build-time errors (a waveform the waveform classes refuse, a probe on a boundary)
+    name the file and the line of their key like load-time ones.  Common practice, no
+    source."""
+    text, _ = BROKEN["stagger_widths_mismatch"]
+    f = tmp_path / "s.toml"
+    f.write_text(text)
+    assert main(["run", str(f)]) == 2
+    line = text.splitlines().index('widths = ["1 us", "2 us", "3 us"]') + 1
+    assert f"s.toml:{line}: waveforms.p.widths" in capsys.readouterr().err
+    f.write_text(BROKEN["probe_on_a_boundary"][0])
+    assert main(["run", str(f)]) == 2
+    assert "s.toml:" in capsys.readouterr().err
+    f.write_text(GOOD)
+    assert main(["zth", str(f), "--probe", "nothing"]) == 2
+    assert "error: --probe = 'nothing'" in capsys.readouterr().err

@@ -145,8 +145,26 @@ def main(argv: Sequence[str] | None = None) -> int:
     except (ValueError, OSError, KeyError) as exc:
         # ScenarioError, the modules' own ValueError subclasses, tomllib.TOMLDecodeError
         # (a ValueError), unreadable files: one short line, no traceback.
-        print(f"pulsetherm {args.verb}: error: {_short(exc)}", file=sys.stderr)
+        print(f"pulsetherm {args.verb}: error: {_short(_located(exc, args))}",
+              file=sys.stderr)
         return EXIT_ERROR
+
+
+def _located(exc: BaseException, args: argparse.Namespace) -> BaseException:
+    """A scenario error raised after loading (building, solving) carries no line: add the
+    file and the line of its key, as the loader does."""
+    from pulsetherm.network.scenario import ScenarioError
+
+    file = getattr(args, "file", None)
+    if (not isinstance(exc, ScenarioError) or exc.line is not None or exc.source
+            or not exc.path or exc.path.startswith("-") or not file):
+        return exc
+    try:
+        text = Path(file).read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError):
+        return exc
+    located = exc.located(text, file)
+    return located if located.line is not None else exc
 
 
 def _short(exc: BaseException) -> str:
