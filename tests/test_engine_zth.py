@@ -128,3 +128,33 @@ def test_foster_driving_point_roundtrip():
     f = foster_net().foster("j", input="die")
     assert not f.transfer
     assert np.allclose(f.R, R_F, rtol=1e-6) and np.allclose(f.tau, TAU_F, rtol=1e-6)
+
+
+@pytest.mark.parametrize("massless", [False, True])
+def test_pulsed_zth_against_brute_force_periodic_runs(massless):
+    """Z(t_p, D) at every node of a branched network (transfer impedances with negative
+    residues; the heated node massless or not) equals the peak rise per watt of an explicit
+    periodic run of the network under the rectangular train (D > 0) and of a single-pulse
+    transient (D = 0), to 1e-12 K/W (two computations; common practice, no source)."""
+    from pulsetherm.waveforms.canonical import Piecewise
+
+    net = ThermalNetwork()
+    net.add_boundary("sink", temperature=25.0)
+    net.add_node("j", capacity=0.0 if massless else 1e-4)
+    net.add_node("k", capacity=1e-3)
+    net.add_node("m", capacity=1e-5)
+    net.connect("j", "k", resistance=2.0)
+    net.connect("k", "sink", resistance=1.0)
+    net.connect("j", "m", resistance=0.5)
+    net.add_input("die", nodes={"j": 1.0})
+    widths = np.array([1e-6, 1e-4, 1e-2])
+    for node in ("j", "k", "m"):
+        pz = net.pulsed_zth(node, widths=widths, duties=(0.0, 0.1, 0.5))
+        for w_i, tp in enumerate(widths):
+            for D in (0.1, 0.5):
+                run = net.periodic({"die": Piecewise([0.0, tp, tp / D], [1.0, 0.0])},
+                                   probes=[node])
+                assert abs(pz.Z(D)[w_i] - (run.peak(node) - 25.0)) <= 1e-12
+            one = net.transient({"die": Piecewise([0.0, tp], [1.0], periodic=False)},
+                                duration=tp + 0.1, probes=[node])
+            assert abs(pz.Z(0.0)[w_i] - (one.peak(node) - 25.0)) <= 1e-12
