@@ -896,7 +896,8 @@ class _Profile:
 
     def _cross(self, j: int, m: int, z: np.ndarray) -> np.ndarray:
         """Cross term of run j with the wider run below (:func:`_cross_term`) for the column
-        cut at depth z inside run m (tabulated at 13 depths, interpolated in log z)."""
+        cut at depth z inside run m (tabulated at the run's top and 12 depths, interpolated
+        in log z; 0 at the top of the run right below run j, where nothing lies under it)."""
         key = (j, m)
         if key not in self._cross_tab:
             run, nxt, cut = self.runs[j], self.runs[j + 1], self.runs[m]
@@ -904,7 +905,7 @@ class _Profile:
             zq = np.concatenate([[0.0], tm * np.logspace(-4, 0, 12)])
             vals = np.zeros(zq.size)
             if run.a < run.b * (1 - 1e-12) and nxt.b > run.b * (1 + 1e-9):
-                for q in range(1, zq.size):
+                for q in range(0 if m > j + 1 else 1, zq.size):
                     depth = cut.z0 + zq[q] - run.z0
                     ks, ts = _truncate(self.ks[run.first:], self.ts[run.first:], depth)
                     vals[q] = _cross_term(run.a, run.b, nxt.b, ks, ts,
@@ -913,7 +914,7 @@ class _Profile:
         zq, vals = self._cross_tab[key]
         x = np.log(np.maximum(z, 1e-300))
         xq = np.log(np.maximum(zq, zq[1] * 1e-3))
-        return np.where(z <= 0, 0.0, np.interp(x, xq, vals))
+        return np.interp(x, xq, vals)
 
     def __call__(self, zv: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """The ladder's cumulative resistance R(z) and dR/dz at virtual depths ``zv``
