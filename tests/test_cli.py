@@ -288,3 +288,15 @@ def test_errors_found_after_loading_carry_the_file_and_line(tmp_path, capsys):
     f.write_text(GOOD)
     assert main(["zth", str(f), "--probe", "nothing"]) == 2
     assert "error: --probe = 'nothing'" in capsys.readouterr().err
+
+
+def test_a_negative_margin_is_refused(tmp_path, capsys):
+    """'check --margin -200 K' passed a junction 1 K over its limit ('every limit holds',
+    exit 0).  Common practice, no source."""
+    f = tmp_path / "s.toml"
+    f.write_text(GOOD)
+    for verb in (["check", str(f), "--set", "devices[0].limit=60 degC"],
+                 ["size", str(f), "--adjust", "devices[0].limit", "--range", "60..200 degC"]):
+        assert main(verb + ["--margin", "-200 K"]) == 2
+        cap = capsys.readouterr()
+        assert "--margin = '-200 K': expected a margin >= 0 K" in cap.err and cap.out == ""

@@ -250,13 +250,24 @@ def _cmd_run(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
+def _margin(text: str) -> float:
+    """``--margin``: a temperature difference >= 0 K (a negative one would pass a broken
+    limit)."""
+    from pulsetherm.network.scenario import parse_difference
+
+    margin = parse_difference(text, "--margin")
+    if margin < 0:
+        raise CliError(f"--margin = {text!r}: expected a margin >= 0 K (a negative margin "
+                       "would let a broken limit pass)")
+    return margin
+
+
 # -- check -------------------------------------------------------------------------------
 def _cmd_check(args: argparse.Namespace) -> int:
-    from pulsetherm.network.scenario import parse_difference
     from pulsetherm.network.simulate import simulate
     from pulsetherm.tui.report import check_text
 
-    margin = parse_difference(args.margin, "--margin")
+    margin = _margin(args.margin)
     scn = _load(args)
     res = simulate(scn)
     broken = res.violations(margin)
@@ -331,11 +342,10 @@ class _Progress:
 
 # -- size --------------------------------------------------------------------------------
 def _cmd_size(args: argparse.Namespace) -> int:
-    from pulsetherm.network.scenario import parse_difference
     from pulsetherm.network.sizing import size
     from pulsetherm.tui.report import sizing_text
 
-    margin = parse_difference(args.margin, "--margin")
+    margin = _margin(args.margin)
     scn = _load(args)
     res = size(scn, args.adjust, args.range, margin=margin, tol=args.tol)
     _emit(res, args.json, sizing_text)
