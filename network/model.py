@@ -39,6 +39,18 @@ def _finite(name: str, value, what: str, low: float | None = None, strict: bool 
     return v
 
 
+def _warmup_fraction(name: str, value) -> float:
+    """A warm-up fraction f in (0, 1): the rise approaches its periodic peak only
+    asymptotically (every mode decays as e^{−t/τ}), so f = 1 has no finite warm-up time
+    and any answer would be set by rounding."""
+    f = _finite(name, value, "a fraction in (0, 1) (1 is reached only asymptotically)",
+                0.0, True)
+    if f >= 1.0:
+        raise NetworkError(f"{name} = {value!r}: expected a fraction in (0, 1) (1 is reached "
+                           "only asymptotically)")
+    return f
+
+
 def _name(kind: str, name) -> str:
     if not isinstance(name, str) or not name.strip():
         raise NetworkError(f"{kind} name = {name!r}: expected a non-empty string")
@@ -443,6 +455,7 @@ class ThermalNetwork:
         """
         from .result import Response, energy_of
 
+        warmup_fraction = _warmup_fraction("warmup_fraction", warmup_fraction)
         sys_ = self.system()
         pieces = self._power_pieces(waveforms)
         edges, level, slope, e_in = _aligned_period(pieces)
@@ -472,9 +485,7 @@ class ThermalNetwork:
                     initial=None, method: str = "auto") -> float:
         """Time (s) from ``initial`` (None: ambient) until the rise at ``node`` first reaches
         ``fraction`` of its periodic-steady-state peak rise (exact, whole periods jumped)."""
-        fr = _finite("fraction", fraction, "a fraction in (0, 1]", 0.0, True)
-        if fr > 1:
-            raise NetworkError(f"fraction = {fraction!r}: expected a fraction in (0, 1]")
+        fr = _warmup_fraction("fraction", fraction)
         res = self.periodic(waveforms, probes=[node], method=method, warmup_fraction=fr)
         if initial is None:
             return float(res.warmup_s[node])

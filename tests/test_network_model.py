@@ -257,6 +257,20 @@ def test_warmup_time_single_rc():
     assert theta(w - 1e-9) < 0.99 * pk
 
 
+@pytest.mark.parametrize("fraction", [1.0, 1.5, 0.0, float("nan")])
+def test_warmup_fraction_outside_open_interval_is_refused(fraction):
+    """The rise reaches its periodic peak only asymptotically: fraction 1 (was 37 ms, set by
+    rounding) and fractions above 1 (was inf) are refused by name, in warmup_time and in
+    periodic(warmup_fraction=...)."""
+    net = base()
+    net.connect("j", "sink", resistance=1.0)
+    net.add_input("die", nodes={"j": 1.0})
+    with pytest.raises(NetworkError, match="fraction"):
+        net.warmup_time({"die": TRAIN}, "j", fraction=fraction)
+    with pytest.raises(NetworkError, match="warmup_fraction"):
+        net.periodic({"die": TRAIN}, warmup_fraction=fraction)
+
+
 def test_solver_options_reach_the_solver_and_bad_ones_are_named():
     from pulsetherm.waveforms import PulseTrain
 
