@@ -199,6 +199,10 @@ def foster_from_modes(solver, row: int, col: int):
                            "(a massless node heated directly), which no Foster term can "
                            "represent; give the node a heat capacity")
     scale = np.abs(r).sum()
+    if not scale > 0:
+        raise NetworkError("foster: the impedance is zero at every time (no heat from this "
+                           "input reaches the node: it is held by boundaries); there is no "
+                           "Foster network")
     keep = np.abs(r) > 1e-14 * scale
     r, lam = r[keep], lam[keep]
     transfer = bool(np.any(r < -1e-12 * scale))

@@ -158,3 +158,22 @@ def test_pulsed_zth_against_brute_force_periodic_runs(massless):
             one = net.transient({"die": Piecewise([0.0, tp], [1.0], periodic=False)},
                                 duration=tp + 0.1, probes=[node])
             assert abs(pz.Z(0.0)[w_i] - (one.peak(node) - 25.0)) <= 1e-12
+
+
+def test_foster_of_a_node_no_heat_reaches_is_a_clear_error():
+    """A node held between boundaries, not on the heat path: Zth = 0 at every time, the
+    Foster request is refused by name (was an empty-array message from the Foster class)."""
+    from pulsetherm.network.assemble import NetworkError
+
+    net = ThermalNetwork()
+    net.add_boundary("a", temperature=25.0)
+    net.add_boundary("b", temperature=80.0)
+    net.add_node("j", capacity=1e-3)
+    net.add_node("x", capacity=1e-3)
+    net.connect("j", "a", resistance=1.0)
+    net.connect("x", "a", resistance=1.0)
+    net.connect("x", "b", resistance=1.0)
+    net.add_input("P", nodes={"j": 1.0})
+    assert net.zth("x").R_th == 0.0
+    with pytest.raises(NetworkError, match="no heat from this input reaches the node"):
+        net.foster("x")
