@@ -86,3 +86,14 @@ def test_json_output_never_carries_nan(tmp_path, capsys, monkeypatch):
     cap = capsys.readouterr()
     assert cap.out == "" and "not a finite number" in cap.err
     assert "Traceback" not in cap.err and len(cap.err.strip().splitlines()) == 1
+
+
+def test_check_without_limits_does_not_claim_they_hold(tmp_path, capsys):
+    """Common practice, no source."""
+    f = tmp_path / "s.toml"
+    f.write_text('name = "no limits"\n[mount.sink]\nkind = "fixed"\n[[devices]]\n'
+                 'name = "pa"\npower = "2 W"\nfootprint = "2 mm"\nrth = "3 K/W"\n')
+    assert main(["check", str(f)]) == 0
+    out = capsys.readouterr().out
+    assert "every limit holds" not in out and "nothing checked" in out
+    assert "Caution: engineering estimates" in out

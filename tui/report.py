@@ -122,7 +122,8 @@ def check_text(res: Any, margin: float, broken: Sequence[str]) -> str:
         out.append("no probe has a limit")
     out.append("")
     out.append(f"{len(broken)} limit(s) broken: {', '.join(broken)}" if broken
-               else "every limit holds")
+               else "every limit holds" if rows else "nothing checked (give a device, line, "
+               "heater or probe limit)")
     out += _cautions(d["cautions"])
     return "\n".join(out)
 
