@@ -92,7 +92,8 @@ def test_check_without_limits_does_not_claim_they_hold(tmp_path, capsys):
     """Common practice, no source."""
     f = tmp_path / "s.toml"
     f.write_text('name = "no limits"\n[mount.sink]\nkind = "fixed"\n[[devices]]\n'
-                 'name = "pa"\npower = "2 W"\nfootprint = "2 mm"\nrth = "3 K/W"\n')
+                 'name = "pa"\npower = "2 W"\nfootprint = "2 mm"\n'
+                 'foster = { R = ["3 K/W"], tau = ["1 ms"] }\n')
     assert main(["check", str(f)]) == 0
     out = capsys.readouterr().out
     assert "every limit holds" not in out and "nothing checked" in out
