@@ -825,6 +825,11 @@ def simulate(scn: Scenario | ScenarioModel) -> RunResult:
     model = scn if isinstance(scn, ScenarioModel) else build(scn)
     s = model.scenario
     net = model.network
+    graph = net.graph
+    if not any(graph.nodes[n].get("capacity", 0.0) > 0 for n in net.nodes):
+        raise ScenarioError("devices", None, "at least one heat capacity for a transient "
+                            "answer: a device 'foster' network or die 'stack', a sink "
+                            "'capacity' or a 'mass' element ('rth' alone has none)")
     extra = [n for group in model.groups.values() for n in group]
     nodes = list(dict.fromkeys(list(model.probes.values()) + extra))
     try:

@@ -198,6 +198,9 @@ BROKEN: dict[str, tuple[str, str]] = {
                               "finite temperatures; probe 'pa.junction'"),
     "line_larger_than_the_board": ((EX / "termination_line.toml").read_text().replace(
         'length = "25 mm"', 'length = "2500 mm"'), "lines[0].length = '2500 mm'"),
+    "no_heat_capacity_anywhere": (GOOD.split("[[devices.stack]]")[0].replace(
+        'foster = { R = ["0.2 K/W", "0.5 K/W", "1.3 K/W"], tau = ["10 us", "1 ms", "100 ms"] }',
+        'rth = "2 K/W"'), "devices: at least one heat capacity"),
     "negative_delay": (_sub('period = "1 ms"', 'period = "1 ms"\ndelay = "-1 ms"'),
                        "waveforms.p.delay"),
 }
