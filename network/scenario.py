@@ -47,6 +47,7 @@ from typing import Any, Iterator
 __all__ = [
     "ScenarioError", "Quantity", "Scenario", "load", "loads", "save", "dumps",
     "dumps_toml", "find_line", "KELVIN_OFFSET", "atomic_open",
+    "parse_literal",
 ]
 
 #: 0 degC in kelvin (kept here so this module does not need numpy to import).
@@ -1210,6 +1211,15 @@ def atomic_open(path: str | Path, mode: str = "w", newline: str | None = None) -
 # Numbers in the user's unit (sweeps, sizing, Monte Carlo)
 # ======================================================================================
 _NUM = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+
+
+def parse_literal(text: str) -> Any:
+    """A value typed on the command line (``--set``, ``--vary``): a TOML literal when it is
+    one (numbers, true/false, quoted strings, lists), else the plain text (``30 degC``)."""
+    try:
+        return tomllib.loads(f"v = {text}")["v"]
+    except tomllib.TOMLDecodeError:
+        return text
 
 
 def split_unit(text: str) -> tuple[float, str]:

@@ -26,8 +26,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Callable, Iterable, Sequence
 
-from .scenario import (Scenario, ScenarioError, UnitScale, field_kind, parse_quantity,
-                       split_unit)
+from .scenario import (Scenario, ScenarioError, UnitScale, field_kind, parse_literal,
+                       parse_quantity, split_unit)
 
 __all__ = ["SweepPlan", "SweepResult", "plan_sweep", "run_sweep", "parse_axis",
            "parse_mc", "run_row", "row_key", "sweep"]
@@ -123,19 +123,10 @@ def parse_axis(scn: Scenario, spec: str) -> tuple[str, list[Any]]:
                 pass
             out.append(item)
         else:
-            out.append(_literal(item))
+            out.append(parse_literal(item))
     if not out:
         raise ScenarioError("--vary", spec, "at least one value")
     return path, out
-
-
-def _literal(text: str) -> Any:
-    import tomllib
-
-    try:
-        return tomllib.loads(f"v = {text}")["v"]
-    except tomllib.TOMLDecodeError:
-        return text
 
 
 @dataclass(frozen=True)

@@ -216,3 +216,13 @@ def test_atomic_open_is_all_or_nothing(tmp_path):
     scn = load(EXAMPLES[0])
     save(scn, tmp_path / "s.toml")
     assert load(tmp_path / "s.toml") == scn
+
+
+def test_command_line_literals():
+    """One reader for --set and --vary values.  Common practice, no source."""
+    from pulsetherm.network.scenario import parse_literal
+
+    assert parse_literal("30 degC") == "30 degC"
+    assert parse_literal('["2 mm", "3 mm"]') == ["2 mm", "3 mm"]
+    assert parse_literal("true") is True and parse_literal("4") == 4
+    assert parse_literal('"pa"') == "pa" and parse_literal("fr4-class") == "fr4-class"

@@ -211,26 +211,15 @@ def _cmd_materials(args: argparse.Namespace) -> int:
 
 
 def _load(args: argparse.Namespace):
-    from pulsetherm.network.scenario import load
+    from pulsetherm.network.scenario import load, parse_literal
 
     scn = load(args.file)
     for item in getattr(args, "set", []) or []:
         path, sep, value = item.partition("=")
         if not sep or not path.strip():
             raise CliError(f"--set {item!r}: expected PATH=VALUE, e.g. coolant=30 degC")
-        scn = scn.with_value(path.strip(), _literal(value.strip()))
+        scn = scn.with_value(path.strip(), parse_literal(value.strip()))
     return scn
-
-
-def _literal(text: str):
-    """A command-line value: a TOML literal when it is one (numbers, true/false, quoted
-    strings, lists), else the plain text (``30 degC``)."""
-    import tomllib
-
-    try:
-        return tomllib.loads(f"v = {text}")["v"]
-    except tomllib.TOMLDecodeError:
-        return text
 
 
 # -- run ---------------------------------------------------------------------------------
