@@ -794,7 +794,11 @@ class ModalSolver:
         p_end = level[-1] + slope[-1] * (edges[-1] - edges[-2])
         t = np.concatenate(ts)
         th = np.vstack(vs)
-        keep = np.concatenate([[True], np.diff(t) > 0]) if t.size else np.ones(0, bool)
+        # drop repeated samples (a period's end = the next one's start) but keep the right
+        # limits of massless probes at power jumps (same time, another value)
+        keep = (np.concatenate([[True], (np.diff(t) > 0) | np.any(np.diff(th, axis=0) != 0,
+                                                                   axis=1)])
+                if t.size else np.ones(0, bool))
         info = {"method": "modal", "modes": int(self.lam.size), "segments": int(edges.size - 1),
                 "periods": Nper, "periods_sampled": len(sel), "mean_full": mean_full,
                 "evaluations": self.n_eval}

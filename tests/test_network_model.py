@@ -161,6 +161,34 @@ def test_massless_node_heated_directly():
         net.foster("m", input="p")
 
 
+@pytest.mark.parametrize("first_on", [True, False])
+def test_massless_right_limits_kept_in_long_transients(first_on):
+    """Massless j (1 K/W) on k (1 mJ/K, 1 K/W to the sink): input a on j and input b on k
+    swap 10 W every 0.5 ms, so k sees 10 W throughout, k(t) = 25 + 10(1 − e^{−t/1 ms}),
+    and j = k + P_a·1 K/W drops by 10 K at every drop of a (lumped RC and a resistive
+    divider).  At each drop both the left limit k + 10 and the right limit k are samples
+    (the whole-period jump and the join of the remainder at 2 ms used to drop the second:
+    with a on first, the minimum after t = 0, k(0.5 ms), was reported as 29.42 degC)."""
+    net = ThermalNetwork()
+    net.add_boundary("sink", temperature=25.0)
+    net.add_node("j", capacity=0.0)
+    net.add_node("k", capacity=1e-3)
+    net.connect("j", "k", resistance=1.0)
+    net.connect("k", "sink", resistance=1.0)
+    net.add_input("a", nodes={"j": 1.0})
+    net.add_input("b", nodes={"k": 1.0})
+    on, off = ([10.0, 0.0], [0.0, 10.0]) if first_on else ([0.0, 10.0], [10.0, 0.0])
+    wf = {"a": Piecewise([0.0, 5e-4, 1e-3], on), "b": Piecewise([0.0, 5e-4, 1e-3], off)}
+    res = net.transient(wf, duration=2.25e-3, probes=["j"], method="modal")
+    drops = [5e-4, 1.5e-3] if first_on else [1e-3, 2e-3]      # 2 ms: the join point
+    for td in drops:
+        k = 25 + 10 * (1 - math.exp(-td / 1e-3))
+        vals = res.T("j")[np.abs(res.t - td) <= 1e-15]
+        assert np.min(np.abs(vals - k)) <= 1e-9 and np.min(np.abs(vals - k - 10)) <= 1e-9
+    if first_on:
+        assert res.min("j") == pytest.approx(25 + 10 * (1 - math.exp(-0.5)), abs=1e-9)
+
+
 def test_isolated_massless_group_is_an_error():
     net = base()
     net.connect("j", "sink", resistance=1.0)
