@@ -70,11 +70,14 @@ def test_runs_split_by_lateral_size():
 @pytest.mark.parametrize("flange", [3e-3, 10e-3, 30e-3])
 def test_flange_on_board_against_rz_mesh(flange):
     """Axisymmetric r-z finite volumes (network/axisym.py; Patankar 1980, ch. 4), same
-    stack: steady within 10 % (measured +6.0 % / +6.6 % / +0.1 % for 3 / 10 / 30 mm, the
-    mesh counting the laminate's in-plane conductivity the series leaves out)."""
+    stack: steady within 10 % (measured +6.3 % / +5.9 % / +0.6 % for 3 / 10 / 30 mm, the
+    mesh counting the laminate's in-plane conductivity the series leaves out); Zth from
+    1e-4 s to 100 s within 25 % (measured worst 9 / 10 / 19 %, the flange rim filling
+    through three rings; without them 30 / 79 / 29 %)."""
     c = compare(build(_flanged(flange), spreading="calibrated", t_min=1e-4),
-                t=np.logspace(-4, 1, 6), t_min=1e-4, radial_cells=8)
+                t=np.logspace(-4, 2, 13), t_min=1e-4, radial_cells=8)
     assert abs(c.steady_difference) < 0.10, c.summary()
+    assert c.max_zth_difference < 0.25, c.summary()
 
 
 @pytest.mark.parametrize("src", [1e-3, 3e-3, 6e-3])
