@@ -51,3 +51,20 @@ def test_unknown_plot_suffix_leaves_nothing(tmp_path):
     with pytest.raises(ValueError, match="png or .svg"):
         plot_zth(thermal_impedance(res.model, "ch1.junction"), tmp_path / "x.pdf")
     assert list(tmp_path.iterdir()) == []
+
+
+def test_run_plot_carries_the_cautions(tmp_path, monkeypatch):
+    """The run figure shows limits, so it carries the general and the material cautions
+    (beryllia).  Common practice, no source."""
+    import pulsetherm.tui.plots as plots
+
+    seen = {}
+    monkeypatch.setattr(plots, "save_figure", lambda fig, path: seen.setdefault("fig", fig))
+    res = simulate(load(EX / "xband_gan_coldplate.toml"))
+    res.cautions.append("Beryllia: test caution")
+    plot_run(res, tmp_path / "a.png")
+    fig = seen["fig"]
+    text = fig.get_supxlabel()
+    assert "Caution: engineering estimates" in text and "Caution: Beryllia" in text
+    import matplotlib.pyplot as plt
+    plt.close(fig)

@@ -137,6 +137,9 @@ def plot_run(res: Any, path: str | Path) -> None:
         a.legend(fontsize=7)
         ax[1][2].set_axis_off()
     fig.suptitle(res.scenario, fontsize=10)
+    # the figure judges limits (dashed lines): it carries the cautions like the text output
+    fig.supxlabel("\n".join(f"Caution: {c}" for c in res.cautions), fontsize=6, ha="left",
+                  x=0.01)
     save_figure(fig, path)
 
 
