@@ -62,6 +62,7 @@ Lee, Song, Au & Moran, ASME/JSME Thermal Eng. Joint Conf. 1995, vol. 4, 199-206.
 """
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass, field
 from functools import cached_property
@@ -1064,6 +1065,20 @@ def _transfer(zeta: np.ndarray, ks: Sequence[float], ts: Sequence[float], n_run:
 
 def _cross_term(a: float, b: float, b2: float, ks: Sequence[float], ts: Sequence[float],
                 n_run: int, h: float, n_up: int = 400) -> float:
+    """Cached :func:`_cross_term_uncached` (a pure function of its numbers): sweeps that
+    vary power, timing or the sink rebuild the same columns, and this series is the costly
+    part of a calibrated build."""
+    return _cross_term_cached(float(a), float(b), float(b2), tuple(map(float, ks)),
+                              tuple(map(float, ts)), int(n_run), float(h), int(n_up))
+
+
+@functools.lru_cache(maxsize=4096)
+def _cross_term_cached(a, b, b2, ks, ts, n_run, h, n_up) -> float:
+    return _cross_term_uncached(a, b, b2, ks, ts, n_run, h, n_up)
+
+
+def _cross_term_uncached(a: float, b: float, b2: float, ks: Sequence[float],
+                         ts: Sequence[float], n_run: int, h: float, n_up: int = 400) -> float:
     """Coupling of a narrow run (radius ``b``) and the wider run below it (radius ``b2``):
     the resistance the modal split of :func:`depth_profile` leaves out, K/W.
 

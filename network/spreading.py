@@ -474,6 +474,25 @@ def circular_series(a: float, b: float, k, t, h: float, *,
 
 def circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = None
                            ) -> tuple[np.ndarray, np.ndarray]:
+    """Cached front of :func:`_circular_depth_profile` (same arguments and results; the
+    arrays returned are fresh copies).  Sweeps rebuild the same columns many times."""
+    zz = np.asarray(z, dtype=np.float64)
+    key = (float(a), float(b), tuple(np.atleast_1d(np.asarray(k, dtype=np.float64)).tolist()),
+           tuple(np.atleast_1d(np.asarray(t, dtype=np.float64)).tolist()),
+           zz.shape, tuple(zz.ravel().tolist()), terms)
+    R, dR = _depth_profile_cached(key)
+    return R.copy(), dR.copy()
+
+
+@functools.lru_cache(maxsize=2048)
+def _depth_profile_cached(key):
+    a, b, k, t, shape, z, terms = key
+    return _circular_depth_profile(a, b, list(k), list(t), np.array(z).reshape(shape),
+                                   terms=terms)
+
+
+def _circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = None
+                            ) -> tuple[np.ndarray, np.ndarray]:
     """Mean source rise R(z) of the compound disk cut at depth z over an isothermal plane,
     and its depth derivative dR/dz.
 
