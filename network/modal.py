@@ -704,10 +704,13 @@ class ModalSolver:
         # q̄ = W P̄/λ; solved directly (sparse LU), which is more accurate than summing modes.
         mean_full = static_field(self.system, Pbar)
         start = self.state(q0, level[0])
+        # the state propagated through the period (not a copy of the start): the energy
+        # balance of the response then checks the periodicity q(T) = q(0) as well
+        end = self.state(q_end, level[-1] + slope[-1] * (edges[-1] - edges[-2]))
         info = {"method": "modal", "modes": int(self.lam.size), "segments": int(edges.size - 1),
                 "mean_full": mean_full, "evaluations": self.n_eval, "q_start": q0,
                 "tau_min": float(self.tau.min()), "tau_max": float(self.tau.max())}
-        return RawResponse(t, theta, start, start.copy(), mean_full[rows], info)
+        return RawResponse(t, theta, start, end, mean_full[rows], info)
 
     # -- transients -------------------------------------------------------------------
     def transient(self, edges, level, slope, initial, probes) -> RawResponse:

@@ -120,10 +120,11 @@ class Response:
             err = float(info.pop("energy_error"))
             terms = {"input_J": energy_in, **info.pop("energy_J", {})}
         elif mean_full is not None and system.is_linear:
-            # linear conductances: heat to the boundaries from the exact mean temperatures
-            end = raw.state_start if periodic else raw.state_end
-            err, terms = energy_balance(system, energy_in, span, raw.state_start, end,
-                                        np.asarray(mean_full))
+            # linear conductances: heat to the boundaries from the exact mean temperatures;
+            # periodic: the stored term is the periodicity defect C·(T(T) − T(0)), so a
+            # start state that is not periodic shows up here
+            err, terms = energy_balance(system, energy_in, span, raw.state_start,
+                                        raw.state_end, np.asarray(mean_full))
         else:
             err, terms = math.nan, {"input_J": energy_in}
         amb = (np.full(len(rows), np.nan) if ambient_K is None else ambient_K[rows]) - KELVIN_OFFSET

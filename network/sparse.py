@@ -938,17 +938,18 @@ class SparseSolver:
             x0 = r / (-np.expm1(-bb.lam * T))
             t, v, x_end, _ = self._run(bb, x0, edges, level, slope, rows)
             v0 = bb.Phi[rows] @ x0 + bb.S0[rows] @ P_end - bb.S1[rows] @ slope[-1]
-            return x0, t, np.vstack([v0[None, :], v])
+            return x0, t, np.vstack([v0[None, :], v]), x_end
 
-        x0, t, v = solve(b)
+        x0, t, v, x_end = solve(b)
         extra = self._estimate(b, lambda bb: solve(bb)[2], v) if b.kind == "krylov" else {}
         # the start sample (t = 0) takes part: an extreme may follow it closely
         t, v = self._refine(b, x0, edges, level, slope, rows, np.concatenate([[0.0], t]), v)
         Pbar = segment_energy(edges, level, slope) / T
         mean_full = self.T_amb + self.U0 @ Pbar          # exact: average of the periodic state
         start = self._full(b, x0, P_end, slope[-1])
+        end = self._full(b, x_end, P_end, slope[-1])     # propagated: checks periodicity
         theta = v + self.T_amb[rows][None, :]
-        return RawResponse(t, theta, start, start.copy(), mean_full[rows],
+        return RawResponse(t, theta, start, end, mean_full[rows],
                            self._info(b, edges, mean_full, extra))
 
     def transient(self, edges, level, slope, initial, probes) -> RawResponse:

@@ -309,3 +309,23 @@ def test_long_burst_period_many_identical_segments():
                net.transient({"die": wf}, duration=0.5, probes=["j"]))
         ref = foster_reference_ends(wf.edges, wf.level, periodic)
         assert abs(res.peak("j") - 25.0 - ref.max()) <= 1e-6 * ref.max()
+
+
+def test_periodic_energy_balance_checks_periodicity(monkeypatch):
+    """The periodic response's energy balance uses the state propagated through the period:
+    exact start -> imbalance at rounding level (and end = start); a start 1 % off the
+    periodic one (injected) -> the stored-energy term C·(T(T) − T(0)) is no longer zero
+    and the imbalance is flagged (before, the end was a copy of the start and the check
+    passed whatever the start)."""
+    from pulsetherm.network.modal import ModalSolver
+
+    net = rc_network()
+    res = net.periodic({"die": train(100.0, 1e-4, 1e-3)}, probes=["j"], method="modal")
+    assert res.energy_error <= 1e-12
+    assert np.allclose(res.state_end, res.state_start, rtol=0, atol=1e-9)
+    good = ModalSolver.periodic_start
+    monkeypatch.setattr(ModalSolver, "periodic_start",
+                        lambda self, *a: 1.01 * good(self, *a))
+    bad = rc_network().periodic({"die": train(100.0, 1e-4, 1e-3)}, probes=["j"],
+                                method="modal")
+    assert bad.energy_error > 1e-3
