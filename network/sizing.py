@@ -18,7 +18,7 @@ import math
 from dataclasses import dataclass, field
 from typing import Any
 
-from .scenario import Scenario, ScenarioError, field_kind
+from .scenario import Scenario, ScenarioError, field_kind, split_unit
 
 __all__ = ["size", "SizingResult", "SizingError"]
 
@@ -118,7 +118,7 @@ def size(scn: Scenario, adjust: str, range_text: str, margin: float = 0.0,
     if tol is None:
         width = 1e-4 * abs(hi - lo)
     elif isinstance(tol, str):
-        from .scenario import parse_quantity, split_unit
+        from .scenario import parse_quantity
 
         q = parse_quantity(tol, "difference" if kind == "temperature" else kind, "--tol")
         width = abs(q.value / scale.factor)
@@ -171,6 +171,10 @@ def size(scn: Scenario, adjust: str, range_text: str, margin: float = 0.0,
         else:
             bad = mid
     kind_txt = "largest" if good < bad else "smallest"
-    return SizingResult(adjust, kind_txt, good, scale.text(good), scale.text(bad), unit,
+    # the value reported is the one simulated: the number of its text (10 digits), not the
+    # unrounded midpoint, which may lie a rounding step beyond it
+    good_text = scale.text(good)
+    return SizingResult(adjust, kind_txt, split_unit(good_text)[0], good_text,
+                        scale.text(bad), unit,
                         margin, g_good[1], g_good[2], g_good[3], n, False, "", history,
                         cautions or [CAUTION])

@@ -89,3 +89,11 @@ def test_sizing_carries_the_material_cautions():
     assert res.cautions[0].startswith("engineering estimates")
     assert any(c.startswith("Beryllia") for c in res.cautions)
     assert any(c.startswith("Beryllia") for c in res.to_dict()["cautions"])
+
+
+def test_reported_value_is_the_simulated_text():
+    """``value`` is the number of ``value_text`` (the value simulated and found to pass), not
+    the unrounded bisection midpoint.  Common practice, no source."""
+    res = size(loads(TEXT), "mount.sink.resistance", "0.1..40 K/W")
+    assert res.value == float(res.value_text.split()[0])
+    assert res.history[-1][0] == res.value_text or res.value_text in [h[0] for h in res.history]
