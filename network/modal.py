@@ -314,6 +314,7 @@ class ModalSolver:
         return self.T_ref + self.Phi @ q + self.Dp @ power
 
     def steady(self, power: np.ndarray) -> np.ndarray:
+        """Static field G T = Gb T_b + B P (sparse solve), K absolute, (n,) from P (m,) W."""
         return static_field(self.system, np.asarray(power, dtype=np.float64))
 
     def _forcing(self, level: np.ndarray, slope: np.ndarray):
@@ -695,6 +696,12 @@ class ModalSolver:
         return segment_energy(edges, level, slope) / edges[-1]
 
     def periodic(self, edges, level, slope, probes) -> RawResponse:
+        """Exact periodic steady state over one period ``edges[-1]``.
+
+        Start q(0) = r/(1 − e^{−λT}) (module docstring), samples and extremes from the
+        closed-form segment advance, period mean from G T̄ = Gb T_b + B P̄ (exact).
+        edges (N+1,) s, level/slope (N, m) W and W/s, probes (p,) rows; theta (k, p) K.
+        """
         edges, level, slope, rows = as_arrays(edges, level, slope, probes)
         q0 = self.periodic_start(edges, level, slope)
         t, theta, q_end, _ = self._sample(q0, edges, level, slope, rows)
@@ -714,6 +721,9 @@ class ModalSolver:
 
     # -- transients -------------------------------------------------------------------
     def transient(self, edges, level, slope, initial, probes) -> RawResponse:
+        """Exact transient over ``edges[-1]`` from ``initial`` (n,) K (None: the static
+        field); mean = T_ref + Φ·(∫q dt)/t_end + D·P̄ with ∫q from ψ₀, ψ₁, ψ₂ per segment
+        (module docstring).  Shapes as in :meth:`periodic`."""
         edges, level, slope, rows = as_arrays(edges, level, slope, probes)
         q0 = self.q_from_state(initial)
         t, theta, q_end, integral = self._sample(q0, edges, level, slope, rows)

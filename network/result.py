@@ -113,6 +113,9 @@ class Response:
     def from_raw(cls, raw: RawResponse, system: ThermalSystem, rows: np.ndarray, *,
                  periodic: bool, method: str, energy_in: float, span: float,
                  ambient_K: np.ndarray | None = None) -> "Response":
+        """Response (degC) from a solver's raw response (K), with the energy balance of the
+        module docstring (the solver's own for a nonlinear system; NaN when neither is
+        available).  ``rows`` (p,) probe rows, ``span`` the period or run length, s."""
         info = dict(raw.info)
         mean_full = info.pop("mean_full", None)
         if "energy_error" in info:

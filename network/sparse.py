@@ -750,6 +750,7 @@ class SparseSolver:
         return np.sum(np.exp(-lam * (T - edges[1:])[None, :]) * rho, axis=1)
 
     def _full(self, b: ModeBasis, x: np.ndarray, P: np.ndarray, dP: np.ndarray) -> np.ndarray:
+        """Full state T = T_amb + Φ x + S₀ P − S₁ P′ (module docstring), K absolute, (n,)."""
         return self.T_amb + b.Phi @ x + b.S0 @ P - b.S1 @ dP
 
     def _info(self, b: ModeBasis, edges, mean_full, extra=None) -> dict:
