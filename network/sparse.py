@@ -686,7 +686,8 @@ class SparseSolver:
         1973, ch. 4) and added as a sample for every probe.  The extremes of a transfer
         response (negative residues) often lie just after an edge, before the first
         log-spaced sample.  The candidate segments' start states come from one forward
-        sweep (memory: one state per candidate segment).
+        sweep (memory: one state per candidate segment).  Right limits at power jumps of
+        massless probes are added too when every mode is tracked.
         """
         from scipy.optimize import brentq
 
@@ -703,7 +704,15 @@ class SparseSolver:
                 cand.add((int(seg[i]), j))
                 if seg[i] + 1 < N:
                     cand.add((int(seg[i]) + 1, j))
-        ks = sorted({k for k, _ in cand})
+        # right limits at power jumps of probes with an instantaneous response (massless
+        # nodes heated directly): exact when every mode is tracked (S₀ is then the direct
+        # map, zero at capacitive rows); with a truncated basis the quasi-static remainder
+        # is not valid right at a jump, so none are added
+        jumps = np.zeros(0, dtype=np.int64)
+        if self._complete(b) and N > 1:
+            dP = level[1:] - (level[:-1] + slope[:-1] * np.diff(edges)[:-1, None])
+            jumps = np.flatnonzero(np.any(np.abs(dP @ S0p.T) > 0.0, axis=1)) + 1
+        ks = sorted({k for k, _ in cand} | set(jumps.tolist()))
         # segment starts for the candidate segments (one forward sweep)
         starts, x, k_next = {}, x0.copy(), 0
         for k in ks:
@@ -716,8 +725,11 @@ class SparseSolver:
         for k, j in cand:
             by_seg.setdefault(k, []).append(j)
         lam2 = lam[:, None]
-        new_t, new_v = [], []
+        new_t = [edges[k] for k in jumps.tolist()]
+        new_v = [Pp @ starts[k] + S0p @ level[k] - S1p @ slope[k] for k in jumps.tolist()]
         for k in ks:
+            if k not in by_seg:
+                continue
             js = np.array(sorted(by_seg[k]))
             xk, a, s_ = starts[k], level[k], slope[k]
             Wa, Wb = b.W @ a, b.W @ s_
@@ -748,6 +760,11 @@ class SparseSolver:
         h = np.diff(edges)[None, :]
         rho = _psi(0, lam, h) * (b.W @ level.T) + _psi(1, lam, h) * (b.W @ slope.T)
         return np.sum(np.exp(-lam * (T - edges[1:])[None, :]) * rho, axis=1)
+
+    def _complete(self, b: ModeBasis) -> bool:
+        """Whether ``b`` tracks every mode (then S₀ is the exact direct map of massless
+        nodes and S₁ vanishes: right limits at power jumps are exact)."""
+        return b.kind == "eig" and b.lam.size == int(np.count_nonzero(self.C > 0))
 
     def _full(self, b: ModeBasis, x: np.ndarray, P: np.ndarray, dP: np.ndarray) -> np.ndarray:
         """Full state T = T_amb + Φ x + S₀ P − S₁ P′ (module docstring), K absolute, (n,)."""
@@ -983,7 +1000,14 @@ class SparseSolver:
             return x0, t, v, x_end, integral
 
         x0, t, v, x_end, integral = solve(b)
-        v0 = d0[rows]
+        if self._complete(b):
+            # massless probes follow the power at once: their value at t = 0 is the right
+            # limit (as in the modal solver), not the given initial value
+            start = self._full(b, x0, level[0], slope[0])
+            v0 = start[rows] - self.T_amb[rows]
+        else:
+            start = self.T_amb + d0
+            v0 = d0[rows]
         vv = np.vstack([v0[None, :], v])
         extra = (self._estimate(b, lambda bb: np.vstack([v0[None, :], solve(bb)[2]]), vv)
                  if b.kind == "krylov" else {})
@@ -996,6 +1020,5 @@ class SparseSolver:
         P_end = level[-1] + slope[-1] * h[-1]
         end = self._full(b, x_end, P_end, slope[-1])
         theta = vv + self.T_amb[rows][None, :]
-        start = self.T_amb + d0
         return RawResponse(t, theta, start, end, mean_full[rows],
                            self._info(b, edges, mean_full, extra))
