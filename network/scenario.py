@@ -959,8 +959,10 @@ class ElementSpec(_Section):
 @dataclass(frozen=True)
 class ModelSpec(_Section):
     """How to model: ``fidelity`` ladder (columns of graded sub-layers) or axisymmetric;
-    ``grading`` coarse/normal/fine; ``spreading`` angle/calibrated/none; ``nonlinear``
-    k(T) of the materials; ``method`` solver name; ``periods`` shown in the warm-up plot."""
+    ``grading`` coarse/normal/fine; ``spreading`` calibrated (the default: each column
+    matched to the exact layered spreading series), angle (a fixed frustum angle) or none;
+    ``nonlinear`` k(T) of the materials; ``method`` solver name; ``periods`` shown in the
+    warm-up plot."""
 
     _what = "model"
     fidelity: str | None = _f("choice", choices=("ladder", "axisymmetric"))

@@ -384,7 +384,7 @@ def build(scn: Scenario) -> ScenarioModel:
     if asm is not None:
         t_min = min(_shortest_feature(waves[d.name] for d in scn.devices), 1e3)
         opts = dict(t_min=t_min, fidelity=(m.grading if m and m.grading else "normal"),
-                    spreading=(m.spreading if m and m.spreading else "angle"),
+                    spreading=(m.spreading if m and m.spreading else "calibrated"),
                     nonlinear=bool(m and m.nonlinear), library=lib)
         if fidelity == "axisymmetric":
             built, net, ambient, probes, limits = _axisymmetric(scn, asm, opts)
