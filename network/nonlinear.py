@@ -780,16 +780,22 @@ class NonlinearSolver:
         err = abs(e_in - stored - e_b) / scale if scale > 0 else 0.0
         return err, {**terms, "stored_J": stored}
 
+    def _initial(self, initial, T_amb: np.ndarray | None = None) -> np.ndarray:
+        """Start state (n,) K absolute: ``initial`` checked (finite, > 0 K), or the
+        zero-power steady state ``T_amb`` (computed when not given) for None."""
+        if initial is None:
+            return (self.steady(np.zeros(self.system.m)) if T_amb is None
+                    else np.array(T_amb, dtype=np.float64))
+        T0 = np.asarray(initial, dtype=np.float64).reshape(-1)
+        if T0.size != self.n or not np.all(np.isfinite(T0)) or np.any(T0 <= 0):
+            raise ValueError(f"initial: expected {self.n} finite absolute temperatures "
+                             f"in K, got shape {np.shape(initial)}")
+        return T0
+
     def transient(self, edges, level, slope, initial, probes) -> RawResponse:
         """From ``initial`` (n,) K absolute, or the zero-power steady state when None."""
         edges, level, slope, rows = as_arrays(edges, level, slope, probes)
-        if initial is None:
-            T0 = self.steady(np.zeros(self.system.m))
-        else:
-            T0 = np.asarray(initial, dtype=np.float64).reshape(-1)
-            if T0.size != self.n or not np.all(np.isfinite(T0)) or np.any(T0 <= 0):
-                raise ValueError(f"initial: expected {self.n} finite absolute temperatures "
-                                 f"in K, got shape {np.shape(initial)}")
+        T0 = self._initial(initial)
         if self.mass.size:
             T0 = self._condense(T0[self.cap], level[0], T0[self.mass])
         t, v, Tend, integral, steps, terms = self._sweep(T0, edges, level, slope, rows)
@@ -837,13 +843,7 @@ class NonlinearSolver:
                                          initial=initial)
         row = int(row)
         T_amb = self.steady(np.zeros(self.system.m))
-        if initial is None:
-            T = T_amb.copy()
-        else:
-            T = np.asarray(initial, dtype=np.float64).reshape(-1)
-            if T.size != self.n or not np.all(np.isfinite(T)) or np.any(T <= 0):
-                raise ValueError(f"initial: expected {self.n} finite absolute temperatures "
-                                 f"in K, got shape {np.shape(initial)}")
+        T = self._initial(initial, T_amb)
         target = float(target_rise)
         if T[row] - T_amb[row] >= target:
             return 0.0
