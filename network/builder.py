@@ -1014,6 +1014,32 @@ class _Profile:
         return w, l
 
 
+def _smeared_k(seg: _Seg, j: int, plates: list[tuple[float, float]],
+               footprint: tuple[float, float]) -> float:
+    """Conductivity of layer ``j`` for the layered spreading series, W/(m·K).
+
+    The series needs one uniform conductivity per layer across its plate.  A via field
+    covers only part of it: its own area (``via_area``), or by default the area where the
+    heat enters the board (the base of the nearest narrower element above, else the
+    footprint).  Its conductivity is smeared over the plate by area fraction,
+    k = k_lam + (k_via − k_lam)·A_via/A_plate (parallel paths, common practice, no source):
+    an approximation that spreads the vias' benefit too widely and keeps too little of it
+    under the source; cross-check with ``fidelity = "axisymmetric"`` where vias matter.
+    """
+    if seg.k_via is None:
+        return seg.k_eff
+    plate = plates[j][0] * plates[j][1]
+    if seg.via_area is not None:
+        area = seg.via_area
+    else:
+        above = [plates[i][0] * plates[i][1] for i in range(j) if
+                 plates[i][0] * plates[i][1] < plate * (1 - 1e-9)]
+        area = above[-1] if above else footprint[0] * footprint[1]
+    frac = min(1.0, area / plate)
+    k_via = seg.k_via * (1.0 - seg.element.void_fraction)
+    return seg.k_eff + (k_via - seg.k_eff) * frac
+
+
 def _element_plates(segs: list[_Seg]) -> list[tuple[float, float]] | None:
     """Lateral size of every element: its own; a layer with no size takes the nearest
     sized layer below (above if none); an area resistance joins the element above it.
@@ -1176,7 +1202,7 @@ def depth_profile(segs: list[_Seg], footprint: tuple[float, float], sink) -> _Pr
             ks.append(kb)
             ts.append(s.element.r_area * kb)
         else:
-            ks.append(s.k_eff)
+            ks.append(_smeared_k(s, i, plates, footprint))
             ts.append(s.thickness)
     top = [0.0] + list(np.cumsum(ts)[:-1])
     runs: list[_Run] = []

@@ -116,3 +116,25 @@ def test_capacity_counted_once(spreading):
             mat = lib.get(lay.material)
             assert lay.capacity == pytest.approx(mat.rho * mat.c * 1e-6 * lay.thickness,
                                                  rel=1e-12)
+
+
+def test_calibrated_via_field_counts_by_its_area():
+    """Calibrated spreading smears a via field over its layer by area fraction (parallel
+    paths, common practice, no source): vias lower the junction, and a via field over a
+    larger area lowers it further."""
+    from pulsetherm.network.materials import default_library
+
+    lam = default_library().get("hydrocarbon-ceramic")
+    field = ViaArray(Via(0.3e-3, 25e-6, fill="copper"), 0.6e-3, lam)
+
+    def rth(vias, area=None):
+        part = Part("pa", (1e-3, 2e-3), [Layer("cuw-85-15", 1e-3, size=(6e-3, 8e-3))])
+        board = Board([Layer("pcb-copper", 35e-6, name="top"),
+                       Layer(lam, 0.508e-3, name="lam", vias=vias, via_area=area),
+                       Layer("pcb-copper", 35e-6, name="gnd")], size=(0.04, 0.03))
+        m = build(Assembly([part], board, Mount(sink=FixedBase(25.0))), spreading="calibrated")
+        return m.steady_resistance("pa")
+
+    r0, r1, r2 = rth(None), rth(field), rth(field, area=(12e-3, 12e-3))
+    assert r1 < 0.8 * r0
+    assert r2 < r1
