@@ -786,6 +786,8 @@ class RunResult:
                                                f"{p.margin_K:.1f} K"
             from_lines.append(f"  {n}: peak {p.peak_C:.2f}, mean {p.mean_C:.2f}, min "
                               f"{p.min_C:.2f} degC{lim}")
+        if any(p.limit_C is not None for p in self.probes.values()):
+            from_lines += [f"Caution: {c}" for c in self.cautions]
         return "\n".join(from_lines)
 
     # -- time series -------------------------------------------------------------------

@@ -226,3 +226,15 @@ def test_command_line_literals():
     assert parse_literal('["2 mm", "3 mm"]') == ["2 mm", "3 mm"]
     assert parse_literal("true") is True and parse_literal("4") == 4
     assert parse_literal('"pa"') == "pa" and parse_literal("fr4-class") == "fr4-class"
+
+
+def test_run_summary_carries_the_caution_when_it_judges_limits():
+    """Output that judges limits carries the cautions (product rule 5)."""
+    from pathlib import Path
+
+    from pulsetherm.network.scenario import load
+    from pulsetherm.network.simulate import CAUTION, simulate
+
+    res = simulate(load(Path(__file__).resolve().parents[1] / "examples" /
+                        "xband_gan_coldplate.toml"))
+    assert CAUTION in res.summary()

@@ -10,7 +10,6 @@ file beside the original (the original is never overwritten), ``j`` write the JS
 from __future__ import annotations
 
 import json
-import os
 import tomllib
 from pathlib import Path
 from typing import Any
@@ -52,10 +51,11 @@ def free_path(path: Path, suffix: str) -> Path:
 
 
 def _write_new(path: Path, text: str) -> None:
-    """Write ``text`` to a new file via a temporary file and an atomic rename."""
-    tmp = path.with_name(f".{path.name}.part")
-    tmp.write_text(text, encoding="utf-8")
-    os.replace(tmp, path)
+    """Write ``text`` to a new file through the project's atomic writer (no partial file)."""
+    from pulsetherm.network.scenario import atomic_open
+
+    with atomic_open(path) as fh:
+        fh.write(text)
 
 
 class ScenarioApp(App):

@@ -66,12 +66,13 @@ def _dense_period(res: Any, points: int = 48):
         return r
     m = res.model
     net = m.network
-    net.configure_solver("modal", linear_points=points)
+    before = dict(net._solver_options.get("modal", {}))
+    net.configure_solver("modal", **{**before, "linear_points": points})
     try:
         return net.periodic(m.waveforms, probes=list(dict.fromkeys(m.probes.values())),
                             method="modal")
     finally:
-        net.configure_solver("modal")
+        net.configure_solver("modal", **before)  # the user's own options come back
 
 
 def plot_run(res: Any, path: str | Path) -> None:
