@@ -652,6 +652,7 @@ WAVEFORM_KEYS: dict[str, tuple[str, ...]] = {
               "fall"),
     "stagger": ("peak", "intervals", "widths", "idle", "rise", "fall"),
     "profile": ("stretches", "periodic", "after"),
+    "table": ("file", "interp", "periodic", "period"),
 }
 
 
@@ -690,6 +691,9 @@ class WaveformSpec(_Section):
     widths: tuple = _f("qlist", kind="time")
     stretches: tuple = _f("list", cls=StretchSpec)
     periodic: bool = _f("bool")
+    file: str | None = _f("str", doc="CSV power envelope, relative to the scenario file "
+                          "(header with units, e.g. 'time_us,power_W')")
+    interp: str | None = _f("choice", choices=("step", "linear"))
 
     def check(self, path: str) -> None:
         allowed = set(WAVEFORM_KEYS[self.kind]) | {"kind", "delay"}
@@ -700,7 +704,7 @@ class WaveformSpec(_Section):
                                     f"{', '.join(sorted(allowed))}")
         need = {"constant": ("power",), "pulses": ("peak", "width"),
                 "burst": ("peak", "width", "pulses"), "stagger": ("peak", "intervals", "widths"),
-                "profile": ("stretches",)}[self.kind]
+                "profile": ("stretches",), "table": ("file",)}[self.kind]
         for key in need:
             if getattr(self, key) is None:
                 raise ScenarioError(_join(path, key), None,

@@ -112,6 +112,8 @@ def make_waveform(spec: WaveformSpec | str, scenario: Scenario, path: str,
                 stretches.append(Stretch(s.duration.value, p, s.label or ""))
             periodic = True if spec.periodic is None else spec.periodic
             w = Profile(tuple(stretches), periodic=periodic, after=v("after") or 0.0)
+        elif k == "table":
+            w = _table_waveform(spec, scenario, path)
         else:  # pragma: no cover - the schema restricts kind
             raise AssertionError(k)
         if spec.delay is not None and spec.delay.value > 0:
@@ -122,6 +124,37 @@ def make_waveform(spec: WaveformSpec | str, scenario: Scenario, path: str,
     except ValueError as exc:
         raise _wave_error(exc, path, spec) from None
     return w
+
+
+def _table_waveform(spec: WaveformSpec, scenario: Scenario, path: str):
+    """A measured power envelope: ``file`` (CSV with a units header, read by
+    :meth:`pulsetherm.waveforms.table.Table.from_csv`) relative to the scenario file."""
+    from pathlib import Path
+
+    from pulsetherm.waveforms.table import Table
+
+    base = Path(scenario.source).parent if scenario.source else Path.cwd()
+    f = (base / spec.file).resolve()
+    if not f.is_file():
+        raise ScenarioError(_join(path, "file"), spec.file,
+                            f"a CSV power envelope that exists (looked for {f})")
+    try:
+        return Table.from_csv(f, interp=spec.interp, periodic=spec.periodic,
+                              period=None if spec.period is None else spec.period.value)
+    except OSError as exc:
+        raise ScenarioError(_join(path, "file"), spec.file,
+                            f"a readable CSV file ({exc.strerror or exc})") from None
+
+
+def _reads_files(specs) -> bool:
+    """True when any waveform spec (profiles included) reads a CSV envelope."""
+    for sp in specs:
+        if isinstance(sp, WaveformSpec):
+            if sp.kind == "table":
+                return True
+            if sp.stretches and _reads_files([st.power for st in sp.stretches]):
+                return True
+    return False
 
 
 #: Waveform objects of recently built scenarios, keyed by the waveform specs (a sweep
@@ -137,8 +170,12 @@ def _waveforms(scn: Scenario) -> dict[str, Any]:
                                      ("heaters", scn.heaters))
                   for i, item in enumerate(group or ()))
     key = (items, tuple((scn.waveforms or {}).items()))
+    specs = [p for *_, p in items] + list((scn.waveforms or {}).values())
     try:
-        hit = _WAVES.get(key)
+        # envelopes read from files are read afresh (the file may have changed)
+        hit = None if _reads_files(specs) else _WAVES.get(key)
+        if hit is None and _reads_files(specs):
+            key = None
     except TypeError:  # an unhashable spec: no caching
         key, hit = None, None
     if hit is not None:

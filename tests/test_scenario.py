@@ -238,3 +238,30 @@ def test_run_summary_carries_the_caution_when_it_judges_limits():
     res = simulate(load(Path(__file__).resolve().parents[1] / "examples" /
                         "xband_gan_coldplate.toml"))
     assert CAUTION in res.summary()
+
+
+def test_table_waveform_equals_the_same_pulse_train(tmp_path):
+    """A measured envelope read from CSV (step, periodic) that draws the same pulses as a
+    ``pulses`` waveform gives the same temperatures (the same piecewise-constant power)."""
+    from pathlib import Path
+
+    from pulsetherm.network.scenario import ScenarioError, dumps, load
+    from pulsetherm.network.simulate import simulate
+
+    base = (Path(__file__).resolve().parents[1] / "examples" /
+            "xband_gan_coldplate.toml").read_text()
+    (tmp_path / "env.csv").write_text("time_us,power_W\n0,120\n100,0\n1000,0\n")
+    table = base.replace('[waveforms.radar]\nkind = "pulses"', '[waveforms.radar_pulses]\nkind = "pulses"')
+    table += ('\n[waveforms.radar]\nkind = "table"\nfile = "env.csv"\ninterp = "step"\n'
+              'periodic = true\nperiod = "1 ms"\n')
+    (tmp_path / "pulses.toml").write_text(base)
+    (tmp_path / "table.toml").write_text(table)
+    a = simulate(load(tmp_path / "pulses.toml")).probes["pa.junction"]
+    scn = load(tmp_path / "table.toml")
+    assert 'file = "env.csv"' in dumps(scn)
+    b = simulate(scn).probes["pa.junction"]
+    assert b.peak_C == pytest.approx(a.peak_C, rel=1e-9)
+    assert b.mean_C == pytest.approx(a.mean_C, rel=1e-9)
+    (tmp_path / "env.csv").unlink()
+    with pytest.raises(ScenarioError, match=r"waveforms\.radar\.file"):
+        simulate(load(tmp_path / "table.toml"))
