@@ -192,6 +192,22 @@ def _linear_roots(a0: float, slope: float, cap: float, lo: float, hi: float) -> 
 def frustum_sublayer(z0: float, z1: float, w0: float, l0: float, tan_theta: float,
                      cap: tuple[float, float] | None, k: float, rho_c: float,
                      via: tuple[float, float] | None = None) -> tuple[float, float, float]:
+    """Cached front of :func:`_frustum_sublayer` (a pure function of its numbers: sweeps
+    rebuild the same columns row after row)."""
+    return _frustum_cached(float(z0), float(z1), float(w0), float(l0), float(tan_theta),
+                           None if cap is None else (float(cap[0]), float(cap[1])),
+                           float(k), float(rho_c),
+                           None if via is None else (float(via[0]), float(via[1])))
+
+
+@functools.lru_cache(maxsize=65536)
+def _frustum_cached(z0, z1, w0, l0, tan_theta, cap, k, rho_c, via):
+    return _frustum_sublayer(z0, z1, w0, l0, tan_theta, cap, k, rho_c, via)
+
+
+def _frustum_sublayer(z0: float, z1: float, w0: float, l0: float, tan_theta: float,
+                      cap: tuple[float, float] | None, k: float, rho_c: float,
+                      via: tuple[float, float] | None = None) -> tuple[float, float, float]:
     """Conductance and capacities of one sub-layer of a spreading frustum.
 
     The heat path at depth z (from the layer top) is w(z) × l(z),
