@@ -378,6 +378,10 @@ class ThermalNetwork:
         self._solver_options[method] = dict(options)
         self._solvers = {}
 
+    def solver_options(self, method: str) -> dict:
+        """The options set with :meth:`configure_solver` for a named solver (a copy)."""
+        return dict(self._solver_options.get(method, {}))
+
     def _solver(self, method):
         from .solvers import resolve_solver
 

@@ -66,7 +66,7 @@ def _dense_period(res: Any, points: int = 48):
         return r
     m = res.model
     net = m.network
-    before = dict(net._solver_options.get("modal", {}))
+    before = net.solver_options("modal")
     net.configure_solver("modal", **{**before, "linear_points": points})
     try:
         return net.periodic(m.waveforms, probes=list(dict.fromkeys(m.probes.values())),
