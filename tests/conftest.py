@@ -12,7 +12,26 @@ os.environ.setdefault("OMP_NUM_THREADS", "1")
 os.environ.setdefault("MKL_NUM_THREADS", "1")
 os.environ.setdefault("MPLBACKEND", "Agg")
 
+import importlib.util  # noqa: E402
+import sys  # noqa: E402
+from pathlib import Path  # noqa: E402
+
 import pytest  # noqa: E402
+
+
+def _register_helpers() -> None:
+    """Make tests/_systems.py importable as ``pulsetherm_test_systems`` (the tests are not
+    a package, and the import mode keeps their folder off sys.path)."""
+    name = "pulsetherm_test_systems"
+    if name in sys.modules:
+        return
+    spec = importlib.util.spec_from_file_location(name, Path(__file__).with_name("_systems.py"))
+    mod = importlib.util.module_from_spec(spec)
+    sys.modules[name] = mod
+    spec.loader.exec_module(mod)
+
+
+_register_helpers()
 
 
 def pytest_addoption(parser: pytest.Parser) -> None:
