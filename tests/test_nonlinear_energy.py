@@ -6,14 +6,12 @@ import math
 
 import numpy as np
 import pytest
-import scipy.sparse as sp
 from scipy.integrate import solve_ivp
 from scipy.optimize import brentq
 
 from pulsetherm.network.model import ThermalNetwork
 from pulsetherm.network.nonlinear import (RADAU_A, RADAU_B, RADAU_C, RADAU_E, RADAU_MU,
                                           NonlinearSolver, kirchhoff_U)
-from pulsetherm.network.system import ThermalSystem
 from pulsetherm_test_systems import chain  # tests/_systems.py, registered by conftest
 from pulsetherm.waveforms.canonical import Piecewise, align
 
