@@ -227,16 +227,21 @@ def _cmd_run(args: argparse.Namespace) -> int:
     from pulsetherm.network.simulate import simulate
     from pulsetherm.tui.report import run_table
 
-    scn = _load(args)
-    res = simulate(scn)
+    res = simulate(_load(args))
+    _files(res, args, "plot_run")
+    _emit(res, args.json, run_table)
+    return EXIT_OK
+
+
+def _files(res, args: argparse.Namespace, plotter: str) -> None:
+    """Write ``--csv`` (the result's own table) and ``--plot`` (``tui.plots.<plotter>``),
+    each atomically."""
     if args.csv:
         with atomic_output(args.csv) as fh:
             res.to_csv(fh)
     if args.plot:
-        from pulsetherm.tui.plots import plot_run
-        plot_run(res, args.plot)
-    _emit(res, args.json, run_table)
-    return EXIT_OK
+        from pulsetherm.tui import plots
+        getattr(plots, plotter)(res, args.plot)
 
 
 def _margin(text: str) -> float:
@@ -269,14 +274,8 @@ def _cmd_zth(args: argparse.Namespace) -> int:
     from pulsetherm.network.simulate import thermal_impedance
     from pulsetherm.tui.report import zth_text
 
-    scn = _load(args)
-    res = thermal_impedance(scn, args.probe)
-    if args.csv:
-        with atomic_output(args.csv) as fh:
-            res.to_csv(fh)
-    if args.plot:
-        from pulsetherm.tui.plots import plot_zth
-        plot_zth(res, args.plot)
+    res = thermal_impedance(_load(args), args.probe)
+    _files(res, args, "plot_zth")
     _emit(res, args.json, zth_text)
     return EXIT_OK
 
