@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from fractions import Fraction
 from numbers import Real
 
 import numpy as np
@@ -164,12 +165,28 @@ class Scaled(WaveformBase):
         return as_piecewise(self.waveform, "Scaled.waveform").scaled(self.factor)
 
 
+def delay_phase(delay: float, period: float) -> float:
+    """``delay`` modulo ``period``, s, in [0, period).
+
+    Both numbers are taken as the shortest decimals that round-trip to them (what was
+    written: ``100 s`` and ``1 ms``) and reduced exactly with rational arithmetic, so a
+    delay of a whole number of periods is no delay at all; ``math.fmod`` on the binary
+    values would leave a sliver (100 mod 0.001 = 0.000999999999998 in binary) that the
+    solvers and the ladder builder then resolve as a feature of 2e-15 s.
+    """
+    d, p = float(delay), float(period)
+    if d < p:
+        return d
+    return float(Fraction(repr(d)) % Fraction(repr(p)))
+
+
 def rotate(pw: Piecewise, delay: float) -> Piecewise:
     """Shift a canonical form later by ``delay`` s.
 
     Periodic: ``q(t) = p(t - delay)`` with the pattern wrapped within its period (the
-    segment crossing the wrap point is split, so the result is exact).  Single shot: zero
-    power on ``[0, delay)``, then the pattern.
+    segment crossing the wrap point is split, so the result is exact).  The delay is taken
+    modulo the period (:func:`delay_phase`), so ``delay`` and ``delay + k·period`` give the
+    same form.  Single shot: zero power on ``[0, delay)``, then the pattern.
     """
     d = check_time("delay", delay, positive=False)
     if d == 0:
@@ -179,8 +196,9 @@ def rotate(pw: Piecewise, delay: float) -> Piecewise:
         return Piecewise(edges, np.concatenate([[0.0], pw.level]),
                          np.concatenate([[0.0], pw.slope]), False, pw.after)
     span = pw.span
-    d = math.fmod(d, span)
-    tol = TIME_RTOL * span
+    d = delay_phase(d, span)
+    # times within the rounding of the delay itself (a few ulp of d) are one time
+    tol = max(TIME_RTOL * span, 8.0 * math.ulp(float(delay)))
     if d <= tol or span - d <= tol:
         return pw
     cut = span - d  # the old time that moves to t = 0
