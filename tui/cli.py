@@ -5,8 +5,9 @@
 matplotlib and the network modules are imported inside the verb handlers, so
 ``pulsetherm --help`` answers at once.
 
-Exit status: 0 success (``check``: every limit holds), 1 ``check`` found a broken limit,
-2 any error (bad scenario, bad option, unreadable file).  Errors print one short message
+Exit status (:mod:`pulsetherm.tui.exit_status`): 0 success (``check``: every limit holds),
+1 ``check`` found a broken limit (``sweep``: rows failed), 2 an input error (bad scenario,
+bad option, unreadable file), 3 an internal error (please report it).  Errors print one short message
 naming the key or option, never a traceback, and leave no partial output file behind
 (outputs go to a temporary file in the target folder and are renamed at the end).
 """
@@ -21,7 +22,8 @@ from typing import Iterator, Sequence, TextIO
 
 __all__ = ["main", "build_parser", "CliError", "atomic_output"]
 
-EXIT_OK, EXIT_LIMIT, EXIT_ERROR = 0, 1, 2
+from pulsetherm.tui.exit_status import (EXIT_ERROR, EXIT_INTERNAL, EXIT_LIMIT, EXIT_OK,
+                                        guarded, message_of, one_line)
 
 
 class CliError(ValueError):
@@ -36,15 +38,13 @@ def atomic_output(path: str | os.PathLike, mode: str = "w") -> Iterator[TextIO]:
     """Open a temporary file beside ``path``; rename it onto ``path`` only on success.
 
     An exception inside the ``with`` block removes the temporary file, so a failed command
-    never leaves a partial output.  ``mode`` is ``"w"`` (text) or ``"wb"`` (bytes).
+    never leaves a partial output.  ``mode`` is ``"w"`` (text) or ``"wb"`` (bytes).  Only
+    regular files are written (a device, FIFO or directory at ``path`` is refused; a
+    symbolic link to a regular file is followed), with the user's umask.
     """
-    target = Path(path)
-    folder = target.parent if str(target.parent) else Path(".")
-    if not folder.is_dir():
-        raise CliError(f"output {str(path)!r}: folder {str(folder)!r} does not exist")
-    from pulsetherm.network.scenario import atomic_open  # standard library only
+    from pulsetherm.network.safe_io import atomic_open
 
-    with atomic_open(target, mode, newline="") as fh:
+    with atomic_open(path, mode, newline="") as fh:
         yield fh
 
 
@@ -55,7 +55,8 @@ def build_parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(
         prog="pulsetherm",
         description="Pulsed and periodic thermal analysis of RF boards, devices and lines.",
-        epilog="Exit status: 0 ok, 1 a limit is broken (check), 2 error.")
+        epilog="Exit status: 0 ok, 1 a limit is broken (check) or rows failed (sweep), "
+               "2 input error, 3 internal error (please report it).")
     sub = p.add_subparsers(dest="verb", metavar="VERB")
     sub.required = True
 
@@ -129,25 +130,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     except SystemExit as exc:  # argparse: --help (0) or a usage error (2)
         return int(exc.code or 0) if exc.code in (0, None) else EXIT_ERROR
     handler = _HANDLERS[args.verb]
-    try:
-        return handler(args)
-    except KeyboardInterrupt:
-        print("pulsetherm: interrupted", file=sys.stderr)
-        return EXIT_ERROR
-    except BrokenPipeError:
-        # the reader went away (``pulsetherm run ... | head``): stop quietly; point stdout
-        # at devnull so the interpreter's final flush does not complain again
-        import os
-
-        devnull = os.open(os.devnull, os.O_WRONLY)
-        os.dup2(devnull, sys.stdout.fileno())
-        return EXIT_OK
-    except (ValueError, OSError, KeyError) as exc:
-        # ScenarioError, the modules' own ValueError subclasses, tomllib.TOMLDecodeError
-        # (a ValueError), unreadable files: one short line, no traceback.
-        print(f"pulsetherm {args.verb}: error: {_short(_located(exc, args))}",
-              file=sys.stderr)
-        return EXIT_ERROR
+    # every verb runs through one guard: exit 2 for input errors (one line naming the key),
+    # 3 for internal errors (see tui/exit_status.py)
+    return guarded(args.verb, lambda: handler(args), lambda exc: _located(exc, args))
 
 
 def _located(exc: BaseException, args: argparse.Namespace) -> BaseException:
@@ -159,19 +144,18 @@ def _located(exc: BaseException, args: argparse.Namespace) -> BaseException:
     if (not isinstance(exc, ScenarioError) or exc.line is not None or exc.source
             or not exc.path or exc.path.startswith("-") or not file):
         return exc
+    from pulsetherm.network.safe_io import read_text
+
     try:
-        text = Path(file).read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError):
+        text = read_text(file, "scenario")
+    except (OSError, ValueError):
         return exc
     located = exc.located(text, file)
     return located if located.line is not None else exc
 
 
 def _short(exc: BaseException) -> str:
-    if isinstance(exc, OSError) and exc.filename is not None:
-        return f"{exc.filename}: {exc.strerror or exc}"
-    text = str(exc.args[0]) if isinstance(exc, KeyError) and exc.args else str(exc)
-    return " ".join(text.split()) if len(text) < 400 else text[:400] + " ..."
+    return one_line(message_of(exc))
 
 
 def _out(text: str = "", file: TextIO | None = None) -> None:
@@ -258,15 +242,15 @@ def _margin(text: str) -> float:
 
 # -- check -------------------------------------------------------------------------------
 def _cmd_check(args: argparse.Namespace) -> int:
+    from pulsetherm.network.checks import judge
     from pulsetherm.network.simulate import simulate
     from pulsetherm.tui.report import check_text
 
     margin = _margin(args.margin)
     scn = _load(args)
-    res = simulate(scn)
-    broken = res.violations(margin)
-    _out(check_text(res, margin, broken))
-    return EXIT_LIMIT if broken else EXIT_OK
+    chk = judge(simulate(scn), margin)
+    _out(check_text(chk))
+    return EXIT_LIMIT if chk.failed else EXIT_OK
 
 
 # -- zth ---------------------------------------------------------------------------------

@@ -109,21 +109,19 @@ def run_table(res: Any) -> str:
     return "\n".join(out)
 
 
-def check_text(res: Any, margin: float, broken: Sequence[str]) -> str:
-    d = res.to_dict()
-    rows = [[name, p["peak_C"], p["limit_C"], p["margin_K"],
-             "BROKEN" if name in broken else "ok"]
-            for name, p in d["probes"].items() if p["limit_C"] is not None]
-    out = [f"scenario: {d['scenario']}  (required margin {margin:g} K)"]
+def check_text(chk: Any) -> str:
+    """Every probe with its status (ok, margin short, limit broken, no limit) and the
+    verdict of a :class:`~pulsetherm.network.checks.CheckResult`, then the cautions."""
+    d = chk.to_dict()
+    out = [f"scenario: {d['scenario']}  (required margin {d['margin_K']:g} K)"]
+    rows = [[r["name"], r["value"], r["limit"], r["margin"], r["status"]] for r in d["rows"]]
     if rows:
         out.append(table(["probe", "peak degC", "limit degC", "margin K", "status"], rows,
                          align="lrrrl"))
     else:
-        out.append("no probe has a limit")
+        out.append("no probe")
     out.append("")
-    out.append(f"{len(broken)} limit(s) broken: {', '.join(broken)}" if broken
-               else "every limit holds" if rows else "nothing checked (give a device, line, "
-               "heater or probe limit)")
+    out.append(d["verdict"])
     out += _cautions(d["cautions"])
     return "\n".join(out)
 
