@@ -327,6 +327,7 @@ class Quantity:
 #: an example shown in error messages).
 QUANTITY_KINDS: dict[str, tuple[str, str]] = {
     "length": ("length", "0.508 mm"),
+    "thickness": ("copper_thickness", "0.508 mm"),   # a layer: also '1 oz' of copper
     "time": ("time", "100 us"),
     "power": ("power", "42 W"),
     "temperature": ("temperature", "45 degC"),
@@ -359,18 +360,28 @@ def parse_quantity(text: Any, kind: str, path: str) -> Quantity:
         if isinstance(text, (int, float)):
             raise ScenarioError(path, text, f"{expected} (a bare number has no unit)")
         raise ScenarioError(path, text, expected)
+    if len(text) > 200:      # before any regex: hostile text costs no time
+        raise ScenarioError(path, text[:40] + "...", f"{expected} (at most 200 characters)")
     key = (text, units_kind)
     value = _PARSED.get(key)
     if value is None:
+        if _NUM_ONLY.match(text):
+            # a quoted number ("0.76") is refused like a bare one: no silent SI metres
+            raise ScenarioError(path, text, f"{expected} (a number without a unit)")
         try:
             value = float(_units_parse(units_kind)(text, kind=units_kind, field=path))
-        except ValueError as exc:
+        except (ValueError, ArithmeticError) as exc:
             raise ScenarioError(path, text, f"{expected} ({_reason(exc, path)})") from None
         if len(_PARSED) > 8192:   # a sweep reuses a few texts; keep the cache small
             _PARSED.clear()
         _PARSED[key] = value
     if not math.isfinite(value):
         raise ScenarioError(path, text, f"{expected} (a finite value)")
+    from .limits import plausible_range
+
+    why = plausible_range(kind, value)
+    if why:
+        raise ScenarioError(path, text, f"{expected} ({why})")
     return Quantity(text, value, kind)
 
 
@@ -386,6 +397,10 @@ def _units_parse(kind: str):
         return lambda text, kind, field: math.degrees(units_parse(text, kind=kind,
                                                                    field=field))
     return units_parse
+
+
+#: Text that is only a number (no unit), in linear time.
+_NUM_ONLY = re.compile(r"\s*[-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?\s*\Z")
 
 
 def _parse_ohm(text: str, kind: str, field: str) -> float:
@@ -446,10 +461,17 @@ def _check_value(q: Quantity, check: str, path: str) -> Quantity:
 
 
 def _convert(meta: dict, value: Any, path: str) -> Any:
+    from . import limits
+
     tag = meta["tag"]
+    if isinstance(value, list) and tag in ("qpair", "qlist", "list", "strpair") \
+            and len(value) > limits.MAX_LIST:
+        raise ScenarioError(path, None, f"{len(value)} items; expected at most "
+                            f"{limits.MAX_LIST}")
     if tag == "str":
         if not isinstance(value, str) or not value.strip():
             raise ScenarioError(path, value, "a non-empty string")
+        _check_text_value(value, path)
         return value
     if tag == "choice":
         if not isinstance(value, str) or value not in meta["choices"]:
@@ -465,11 +487,19 @@ def _convert(meta: dict, value: Any, path: str) -> Any:
     if tag == "int":
         if isinstance(value, bool) or not isinstance(value, int) or value < 1:
             raise ScenarioError(path, value, "a whole number >= 1")
+        top = limits.INT_LIMITS.get(path.rsplit(".", 1)[-1], limits.INT_LIMITS[None])
+        if value > top:
+            raise ScenarioError(path, value, f"a whole number from 1 to {top}")
         return value
     if tag == "number":
+        if isinstance(value, str) and not isinstance(value, bool):
+            value = _dimensionless(value, path)      # "10 %", "0.1", "500 ppm"
         if isinstance(value, bool) or not isinstance(value, (int, float)) \
                 or not math.isfinite(value):
             raise ScenarioError(path, value, "a finite number")
+        rng = limits.NUMBER_RANGES.get(path.rsplit(".", 1)[-1])
+        if rng and not rng[0] <= value <= rng[1]:
+            raise ScenarioError(path, value, f"a number from {rng[0]:g} to {rng[1]:g}")
         if meta["check"] == "fraction" and not 0 <= value < 1:
             raise ScenarioError(path, value, "a fraction in [0, 1)")
         if meta["check"] == "positive" and not value > 0:
@@ -505,10 +535,16 @@ def _convert(meta: dict, value: Any, path: str) -> Any:
             value = [value]
         if not isinstance(value, list):
             raise ScenarioError(path, value, f"an array of tables ([[{path}]])")
+        top = (limits.MAX_LAYERS if meta["cls"] is LayerSpec else limits.MAX_TABLE_ARRAY)
+        if len(value) > top:
+            raise ScenarioError(path, None, f"{len(value)} tables; expected at most {top}")
         return tuple(_load_section(meta["cls"], v, _join(path, i)) for i, v in enumerate(value))
     if tag == "map":
         if not isinstance(value, dict):
             raise ScenarioError(path, value, "a table of named tables")
+        if len(value) > limits.MAX_NAMED:
+            raise ScenarioError(path, None, f"{len(value)} named tables; expected at most "
+                                f"{limits.MAX_NAMED}")
         out = {}
         for k, v in value.items():
             _check_name(k, _join(path, k))
@@ -528,6 +564,32 @@ def _convert(meta: dict, value: Any, path: str) -> Any:
             raise ScenarioError(path, value, "a table")
         return value
     raise AssertionError(tag)  # pragma: no cover - schema programming error
+
+
+def _check_text_value(value: str, path: str) -> None:
+    """Names and labels are echoed to terminals and files: no control characters (escape
+    codes), at most ``limits.MAX_STRING`` characters."""
+    from .limits import MAX_STRING
+
+    if len(value) > MAX_STRING:
+        raise ScenarioError(path, value[:40] + "...", f"a string of at most {MAX_STRING} "
+                            "characters")
+    if not value.isprintable():
+        raise ScenarioError(path, value, "text without control characters (tabs, escape "
+                            "codes, line breaks)")
+
+
+def _dimensionless(text: str, path: str) -> float:
+    """A plain number written as text: ``"0.1"``, ``"10 %"``, ``"500 ppm"``."""
+    from .units import parse_quantity as units_parse
+
+    if len(text) > 200:
+        raise ScenarioError(path, text[:40] + "...", "a number (at most 200 characters)")
+    try:
+        return float(units_parse(text, "dimensionless", path))
+    except (ValueError, ArithmeticError) as exc:
+        raise ScenarioError(path, text, f"a plain number or a percentage such as '10 %' "
+                            f"({_reason(exc, path)})") from None
 
 
 def _unconvert(meta: dict, value: Any) -> Any:
@@ -743,6 +805,11 @@ class ViaSpec(_Section):
                                 f"a pitch larger than the drill ({self.drill.text})")
 
 
+def _is_copper_weight(text: str) -> bool:
+    """True for a thickness written as a copper weight (``"1 oz"``, ``"0.5oz"``)."""
+    return text.rstrip().endswith("oz")
+
+
 @dataclass(frozen=True)
 class LayerSpec(_Section):
     """One layer (material and thickness) or a thin interface (``area_resistance``)."""
@@ -750,7 +817,8 @@ class LayerSpec(_Section):
     _what = "layer"
     name: str | None = _f("str")
     material: str | None = _f("str")
-    thickness: Quantity | None = _f("q", kind="length")
+    thickness: Quantity | None = _f("q", kind="thickness", doc="a length, or a copper weight "
+                                    "('1 oz' = 35 um) on a copper-class layer")
     size: tuple | None = _f("qpair", kind="length")
     area_resistance: Quantity | None = _f("q", kind="area_resistance")
     spreading_angle: Quantity | None = _f("q", kind="angle", check="nonneg")
@@ -773,6 +841,11 @@ class LayerSpec(_Section):
                 raise ScenarioError(_join(path, key), None,
                                     "missing; a layer needs material and thickness (or "
                                     "area_resistance for a thin interface)")
+        if _is_copper_weight(self.thickness.text) and "copper" not in self.material.lower():
+            raise ScenarioError(_join(path, "thickness"), self.thickness.text,
+                                "a length such as '35 um': 'oz' is a copper weight (35 um "
+                                f"per oz) and {self.material!r} is not a copper-class "
+                                "material (one whose name contains 'copper')")
 
 
 @dataclass(frozen=True)
@@ -850,12 +923,19 @@ class DeviceSpec(_Section):
     position: tuple | None = _f("qpair", kind="length", check="any")
     limit: Quantity | None = _f("q", kind="temperature", check="kelvin")
     rth: Quantity | None = _f("q", kind="resistance")
+    capacity: Quantity | None = _f("q", kind="capacity", check="nonneg",
+                                   doc="junction-to-case heat capacity of an rth device "
+                                       "(one stage: R = rth, C = capacity)")
     foster: FosterSpec | None = _f("section", cls=FosterSpec)
     stack: tuple | None = _f("list", cls=LayerSpec)
 
     def check(self, path: str) -> None:
         _check_name(self.name, _join(path, "name"))
         self._one_of(path, ("rth", "foster"), exactly=False)
+        if self.capacity is not None and self.rth is None:
+            raise ScenarioError(_join(path, "capacity"), self.capacity.text,
+                                "a capacity only with rth (a foster network carries its own "
+                                "time constants; a die stack its own mass)")
         if self.rth is None and self.foster is None and not self.stack:
             raise ScenarioError(_join(path, "stack"), None,
                                 "missing; a device needs a die stack, or rth/foster for a "
@@ -879,7 +959,7 @@ class LineSpec(_Section):
     dielectric: str | None = _f("str", doc="laminate material (default: the board laminate)")
     permittivity: float = _f("number", check="positive", required=True)
     loss_tangent: float | None = _f("number", check="nonneg")
-    conductor: Quantity | None = _f("q", kind="length", doc="conductor thickness "
+    conductor: Quantity | None = _f("q", kind="thickness", doc="conductor thickness "
                                     "(default: the board's top copper layer)")
     roughness: Quantity | None = _f("q", kind="length", check="nonneg")
     limit: Quantity | None = _f("q", kind="temperature", check="kelvin")
@@ -977,6 +1057,52 @@ class ModelSpec(_Section):
     periods: int | None = _f("int")
 
 
+def _check_profile_size(scn: "Scenario") -> None:
+    """Profiles referring to named waveforms may nest and repeat (a profile of two stretches
+    that both name the next profile doubles per level): refuse, before anything is built,
+    nesting deeper than ``limits.MAX_PROFILE_DEPTH`` or more than
+    ``limits.MAX_PROFILE_STRETCHES`` stretches once every reference is expanded.  Counted
+    once per name (memoised), so the check itself is linear in the file."""
+    from .limits import MAX_PROFILE_DEPTH, MAX_PROFILE_STRETCHES
+
+    named = scn.waveforms or {}
+    memo: dict[str, tuple[int, int]] = {}
+
+    def size(spec: Any, path: str, stack: tuple[str, ...]) -> tuple[int, int]:
+        """(depth, stretches after expansion) of a waveform spec or reference."""
+        if isinstance(spec, str):
+            if spec not in named:
+                return 0, 1
+            if spec in stack:
+                raise ScenarioError(path, spec, "a waveform that does not refer to itself "
+                                    f"(loop: {' -> '.join(stack + (spec,))})")
+            if spec not in memo:
+                memo[spec] = size(named[spec], f"waveforms.{spec}", stack + (spec,))
+            return memo[spec]
+        if not isinstance(spec, WaveformSpec) or not spec.stretches:
+            return 0, 1
+        depth, total = 0, 0
+        for i, st in enumerate(spec.stretches):
+            d, n = size(st.power, f"{path}.stretches[{i}].power", stack)
+            depth, total = max(depth, d), total + n
+        depth += 1
+        if depth > MAX_PROFILE_DEPTH:
+            raise ScenarioError(path, None, f"profiles nested {depth} deep; expected at most "
+                                f"{MAX_PROFILE_DEPTH} levels")
+        if total > MAX_PROFILE_STRETCHES:
+            raise ScenarioError(path, None, f"a profile of {total} stretches once its named "
+                                f"waveforms are expanded; expected at most "
+                                f"{MAX_PROFILE_STRETCHES}")
+        return depth, total
+
+    for name in named:
+        size(name, f"waveforms.{name}", ())
+    for sec, items in (("devices", scn.devices), ("lines", scn.lines),
+                       ("heaters", scn.heaters)):
+        for i, item in enumerate(items or ()):
+            size(item.power, f"{sec}[{i}].power", ())
+
+
 def _unique(items: list[tuple[str, str]], what: str) -> None:
     seen: dict[str, str] = {}
     for name, path in items:
@@ -1041,6 +1167,7 @@ class Scenario(_Section):
         if self.lines and self.board is None:
             raise ScenarioError("board", None, "missing; a line needs a board (its laminate "
                                 "and ground plane)")
+        _check_profile_size(self)
 
     def _check_wave_ref(self, ref: Any, path: str, allow_power: bool = False) -> None:
         if not isinstance(ref, str):
@@ -1161,9 +1288,19 @@ def set_path(data: dict, path: str, value: Any) -> None:
 # Load and save
 # ======================================================================================
 def loads(text: str, source: str | None = None) -> Scenario:
-    """Read a scenario from TOML text; :class:`ScenarioError` with the line on failure."""
+    """Read a scenario from TOML text; :class:`ScenarioError` with the line on failure.
+
+    Hostile text is refused before it is parsed (:mod:`pulsetherm.network.limits`): more
+    than ``MAX_SCENARIO_BYTES`` or brackets nested deeper than ``MAX_NESTING``."""
+    from .limits import check_text
+
+    text = text.lstrip("\ufeff")         # a UTF-8 byte-order mark read as text
+    check_text(text, source)
     try:
         data = tomllib.loads(text)
+    except RecursionError:
+        raise ScenarioError("", None, "values nested too deeply to read", None,
+                            source) from None
     except tomllib.TOMLDecodeError as exc:
         m = re.search(r"\(at line (\d+), column (\d+)\)", str(exc))
         line = int(m.group(1)) if m else None
@@ -1174,8 +1311,10 @@ def loads(text: str, source: str | None = None) -> Scenario:
 
 def load(path: str | Path) -> Scenario:
     """Read a scenario file."""
+    from .safe_io import read_text
+
     p = Path(path)
-    text = p.read_text(encoding="utf-8")
+    text = read_text(p, "scenario")       # regular files only, size capped, UTF-8 (BOM ok)
     return loads(text, source=str(p))
 
 
@@ -1194,37 +1333,52 @@ def save(scenario: Scenario, path: str | Path) -> None:
 def atomic_open(path: str | Path, mode: str = "w", newline: str | None = None) -> Iterator[Any]:
     """Open a temporary file beside ``path``; rename it onto ``path`` only when the ``with``
     block ends without an exception (else the temporary file is removed), so a failed write
-    never leaves a partial file.  ``mode`` is ``"w"`` (UTF-8 text) or ``"wb"``."""
-    import os
-    import tempfile
+    never leaves a partial file.  ``mode`` is ``"w"`` (UTF-8 text) or ``"wb"``.  Regular
+    files only, the user's umask, symbolic links followed to a regular file:
+    :func:`pulsetherm.network.safe_io.atomic_open`."""
+    from .safe_io import atomic_open as _atomic
 
-    p = Path(path)
-    fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".part", dir=p.parent)
-    try:
-        text = {} if "b" in mode else {"encoding": "utf-8", "newline": newline}
-        with os.fdopen(fd, mode, **text) as fh:
-            yield fh
-        os.replace(tmp, p)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        raise
+    with _atomic(path, mode, newline) as fh:
+        yield fh
 
 
 # ======================================================================================
 # Numbers in the user's unit (sweeps, sizing, Monte Carlo)
 # ======================================================================================
-_NUM = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+class _Num:
+    """``^number unit$`` without backtracking: the number is matched unambiguously and the
+    unit is the stripped rest (the old pattern, with an ambiguous digit run and a lazy
+    unit group before trailing blanks, took seconds on a 2000-digit number)."""
+
+    _HEAD = re.compile(r"\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?)")
+
+    class _M:
+        def __init__(self, number: str, unit: str) -> None:
+            self._g = (number, unit)
+
+        def group(self, i: int) -> str:
+            return self._g[i - 1]
+
+    def match(self, text: str):
+        if len(text) > 400:
+            return None
+        m = self._HEAD.match(text)
+        if not m:
+            return None
+        return self._M(m.group(1), text[m.end():].strip())
+
+
+_NUM = _Num()
 
 
 def parse_literal(text: str) -> Any:
     """A value typed on the command line (``--set``, ``--vary``): a TOML literal when it is
     one (numbers, true/false, quoted strings, lists), else the plain text (``30 degC``)."""
+    if len(text) > 10_000:
+        return text      # refused by the key's own check, never parsed as a deep literal
     try:
         return tomllib.loads(f"v = {text}")["v"]
-    except tomllib.TOMLDecodeError:
+    except (tomllib.TOMLDecodeError, RecursionError):
         return text
 
 

@@ -103,6 +103,7 @@ UNITS: dict[str, tuple[float, _Dim]] = {
     # power and energy
     "W": (1.0, _W), "mW": (1e-3, _W), "uW": (1e-6, _W), "kW": (1e3, _W),
     "J": (1.0, _J), "mJ": (1e-3, _J), "uJ": (1e-6, _J), "kJ": (1e3, _J),
+    "eV": (1.602176634e-19, _J),                   # electronvolt (exact, SI 2019)
     # temperature (kelvin-sized steps; degC alone is handled as absolute)
     "K": (1.0, _K), "degC": (1.0, _K),
     # angle
@@ -172,6 +173,12 @@ KINDS: dict[str, Kind] = {
     "angle": Kind(_RAD, "rad", "an angle such as '45 deg' or '0.785 rad'", ("deg",)),
     "decibel": Kind(_NP, "dB", "a level in dB such as '3 dB'", ("dB",),
                     out_factor=_NP_PER_DB),
+    "gain_tempco": Kind(_mul(_NP, _inv(_K)), "dB/K",
+                        "a gain temperature coefficient such as '-0.015 dB/K'", ("dB/K",),
+                        out_factor=_NP_PER_DB),
+    "phase_tempco": Kind(_mul(_RAD, _inv(_K)), "deg/K",
+                         "a phase temperature coefficient such as '0.1 deg/K'", ("deg/K",),
+                         out_factor=math.pi / 180.0),
     "attenuation": Kind(_mul(_NP, _inv(_M)), "Np/m",
                         "an attenuation such as '0.5 dB/m' or '0.02 dB/mm'",
                         ("dB/m",)),
@@ -190,6 +197,7 @@ class UnitError(ValueError):
 _NUMBER = re.compile(r"""\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)
                          (?:\s*/\s*(\d+)(?![\w.]))?""", re.VERBOSE)
 _SYMBOL = re.compile(r"[A-Za-z%]+")
+_POWER = re.compile(r"\^?(-?\d+)")
 
 
 def _normalise(text: str) -> str:
@@ -210,11 +218,27 @@ def _normalise(text: str) -> str:
     return "".join(out).strip()
 
 
+#: Word-like symbols whose plural ('mils', 'inches') is a slip, not a product of units.
+_NO_PLURAL = frozenset({"mil", "thou", "inch", "min", "deg", "rad", "oz", "ft"})
+
+#: Longest quantity text read (characters), and the largest power of a unit symbol: the
+#: parser is linear, and these bounds keep hostile text (a 2000-digit number, ``kW^200``)
+#: from costing time or overflowing.
+MAX_TEXT = 200
+MAX_POWER = 12
+
+
 def _lookup(sym: str) -> list[tuple[float, _Dim, str]]:
     """Factors for a run of letters: one known symbol, or exactly two known symbols."""
     if sym in UNITS:
         f, d = UNITS[sym]
         return [(f, d, sym)]
+    if sym.endswith("s") and sym[:-1] in _NO_PLURAL:
+        raise _Bad(f"unknown unit '{sym}'; did you mean '{sym[:-1]}'? (unit symbols take no "
+                   "plural 's')")
+    if sym.endswith("es") and sym[:-2] in _NO_PLURAL:
+        raise _Bad(f"unknown unit '{sym}'; did you mean '{sym[:-2]}'? (unit symbols take no "
+                   "plural)")
     splits = [(sym[:i], sym[i:]) for i in range(1, len(sym))
               if sym[:i] in UNITS and sym[i:] in UNITS]
     if len(splits) == 1:
@@ -302,10 +326,14 @@ class _UnitParser:
         return f, d
 
     def power(self) -> int:
-        m = re.compile(r"\^?(-?\d+)").match(self.s, self.i)
+        m = _POWER.match(self.s, self.i)
         if not m:
             return 1
         self.i = m.end()
+        digits = m.group(1).lstrip("-")
+        if len(digits) > 2 or int(digits) > MAX_POWER:
+            raise _Bad(f"power '{m.group(1)[:12]}' out of range; expected a power of at most "
+                       f"{MAX_POWER}")
         return int(m.group(1))
 
 
@@ -336,6 +364,8 @@ def _split_number(text: str) -> tuple[float, str] | None:
         return None
     value = float(m.group(1))
     if m.group(2):
+        if len(m.group(2)) > 15:
+            return None
         den = int(m.group(2))
         if den == 0:
             return None
@@ -378,6 +408,9 @@ def parse_quantity(text: str | float, kind: str = "dimensionless", field: str = 
     if isinstance(text, numbers.Real):
         value, unit = float(text), ""
     elif isinstance(text, str):
+        if len(text) > MAX_TEXT:
+            raise _fail(field, text[:40] + "...", spec,
+                        f"{len(text)} characters; expected at most {MAX_TEXT}")
         norm = _normalise(text)
         split = _split_number(norm)
         if split is None:
@@ -391,6 +424,9 @@ def parse_quantity(text: str | float, kind: str = "dimensionless", field: str = 
         if default_unit is None:
             if name == "temperature":
                 raise _fail(field, text, spec, "a plain number is ambiguous (degC or K?)")
+            if isinstance(text, str) and name != "dimensionless":
+                # '0.76' read as 0.76 m gave a board 0.76 m thick: text carries its unit
+                raise _fail(field, text, spec, "a number without a unit")
             return value
         unit = _normalise(default_unit)
     return _convert(value, unit, name, spec, field, text)
@@ -403,6 +439,8 @@ def _convert(value: float, unit: str, name: str, spec: Kind, field: str,
     if bare in ("dBm", "dBW"):
         if name != "power":
             raise _fail(field, text, spec, f"'{bare}' is a power level")
+        if value > 300.0:   # 10^30 W: beyond any plausible power, and 10**(v/10) overflows
+            raise _fail(field, text, spec, f"{value:g} {bare} is out of range (at most 300)")
         return 10.0 ** (value / 10.0) * (1e-3 if bare == "dBm" else 1.0)
     if bare == "degC":
         if name == "temperature":
@@ -423,6 +461,8 @@ def _convert(value: float, unit: str, name: str, spec: Kind, field: str,
     if dim != spec.dim:
         raise _fail(field, text, spec, f"'{unit}' is {_describe(dim)}")
     out = _scale(value, factor) / spec.out_factor
+    if not math.isfinite(out):
+        raise _fail(field, text, spec, "out of the range of a floating-point number")
     if name == "temperature":
         return _absolute(out, field, text, spec)
     return out

@@ -127,7 +127,13 @@ def test_exact_decimal_results():
 
 def test_numbers_and_default_units():
     assert parse_quantity(0.0016, "length") == 0.0016
-    assert parse_quantity("0.0016", "length") == 0.0016
+    # text without a unit is refused (issue 9 item 6: '0.76' was read as 0.76 m); a Python
+    # number is SI, and dimensionless text takes '%' or a plain number
+    with pytest.raises(UnitError, match=r"'0.0016': a number without a unit; expected a "
+                                        r"length"):
+        parse_quantity("0.0016", "length")
+    assert parse_quantity("0.25", "dimensionless") == 0.25
+    assert parse_quantity("10 %", "dimensionless") == pytest.approx(0.1)
     assert parse_quantity(1.6, "length", default_unit="mm") == pytest.approx(1.6e-3)
     assert parse_quantity("25", "temperature", default_unit="degC") == pytest.approx(298.15)
     assert parse_quantity(np.float64(3.0), "power") == 3.0
