@@ -76,7 +76,8 @@ class AxisymModel:
     Attributes
     ----------
     network
-        The network (inputs: the part's name).
+        The network (inputs: the part's name; node ``"<part>.junction"`` reads the
+        footprint mean, :attr:`junction`).
     part
         Part name (also the input name).
     source_nodes, source_weights
@@ -90,6 +91,11 @@ class AxisymModel:
         Radial grid lines, m.
     rows
         Depth of every node row, m.
+    junction
+        A massless node that reads the mean source temperature Σ w·T (the ladder's
+        junction): joined to the source nodes by conductances ε·w with ε = 1e-9 of the
+        first sub-layer's axial conductance under the source, it carries heat of order
+        1e-9 of the source's, while its temperature is Σ w·T exactly in every state.
     ambient
         Boundary the rises are referred to.
     """
@@ -104,6 +110,7 @@ class AxisymModel:
     rows: np.ndarray
     ambient: str
     info: dict[str, Any] = field(default_factory=dict)
+    junction: str = ""
 
     @property
     def node_count(self) -> int:
@@ -199,7 +206,12 @@ def build_axisym(assembly: Assembly, part: str | None = None, *,
     grade = grading(fidelity)
     grade = Grading(grade.first * 0.5, 1.0 + (grade.growth - 1.0) * 0.5)
     s_len = [s.thickness / math.sqrt(s.alpha) if s.thickness > 0 else 0.0 for s in segs]
-    xis = sublayer_edges(s_len, grade.first * math.sqrt(t_min), grade.growth)
+    # the mesh resolves the source in space as well as in time: its first row sits at
+    # most a/4 below the source (a slow waveform alone would give one row per layer)
+    s0 = grade.first * math.sqrt(t_min)
+    top_alpha = next((s.alpha for s in segs if s.thickness > 0), math.inf)
+    s0 = min(s0, 0.25 * a / math.sqrt(top_alpha))
+    xis = sublayer_edges(s_len, s0, grade.growth)
 
     nl = _Net()
     if isinstance(sink, FixedBase):
@@ -294,9 +306,18 @@ def build_axisym(assembly: Assembly, part: str | None = None, *,
     w = inside[:ns] / inside[:ns].sum()
     src = tuple(top[i] for i in range(ns))
     nl.inputs[pname] = dict(zip(src, w))
+    first = segs[0]
+    if isinstance(first.element, AreaResistance):
+        g_ref = math.pi * a * a / first.element.r_area
+    else:
+        g_ref = first.k_eff * math.pi * a * a / (xis[0][1] * first.thickness)
+    junction = nl.node(f"{pname}.junction", 0.0, label=f"{pname}/junction")
+    for n, wi in zip(src, w):
+        nl.connect(n, junction, 1e-9 * g_ref * float(wi))
     net = nl.emit()
     return AxisymModel(net, pname, src, w, top[0], a, r, np.array(rows), ambient,
-                       info=dict(rings=len(r) - 1, rows=len(rows), radii=rad))
+                       info=dict(rings=len(r) - 1, rows=len(rows), radii=rad),
+                       junction=junction)
 
 
 @dataclass(frozen=True)

@@ -428,7 +428,7 @@ def parse_difference(text: str, option: str) -> float:
 # ======================================================================================
 def _f(tag: str, *, required: bool = False, key: str | None = None, kind: str | None = None,
        cls: Any = None, check: str = "positive", choices: tuple[str, ...] = (),
-       doc: str = "") -> Any:
+       doc: str = "", alt: str | None = None) -> Any:
     """A schema field: default None (= not given), metadata describing how to read it.
 
     Tags: ``str``, ``bool``, ``int``, ``number``, ``choice``, ``q`` (quantity of ``kind``),
@@ -439,7 +439,7 @@ def _f(tag: str, *, required: bool = False, key: str | None = None, kind: str | 
     """
     return field(default=None, metadata={"tag": tag, "required": required, "key": key,
                                          "kind": kind, "cls": cls, "check": check,
-                                         "choices": choices, "doc": doc})
+                                         "choices": choices, "doc": doc, "alt": alt})
 
 
 def _join(path: str, key: str | int) -> str:
@@ -509,6 +509,13 @@ def _convert(meta: dict, value: Any, path: str) -> Any:
         return _check_value(parse_quantity(value, meta["kind"], path), meta["check"], path)
     if tag == "qpair":
         if isinstance(value, str):
+            if meta.get("alt"):  # e.g. a via field: two sides, one side or an area
+                try:
+                    q = parse_quantity(value, meta["alt"], path)
+                except ScenarioError:
+                    pass
+                else:
+                    return (_check_value(q, meta["check"], path),) * 2
             q = _check_value(parse_quantity(value, meta["kind"], path), meta["check"], path)
             return (q, q)
         if not isinstance(value, list) or len(value) != 2:
@@ -793,8 +800,11 @@ class ViaSpec(_Section):
     pitch: Quantity = _f("q", kind="length", required=True)
     fill: str | None = _f("str", doc="fill material (default: empty barrels)")
     pattern: str | None = _f("choice", choices=("square", "hex"))
-    area: tuple | None = _f("qpair", kind="length", doc="size of the via field under each "
-                            "part (default: the heat path where it enters the board)")
+    area: tuple | None = _f("qpair", kind="length", alt="area",
+                            doc="size of the via field under each part: [width, length], "
+                            "one side of a square, or an area ('200 mm2'); default: the "
+                            "footprint of the part above it (its lowest sized stack layer, "
+                            "else its footprint)")
 
     def check(self, path: str) -> None:
         if not self.plating.value < self.drill.value / 2:

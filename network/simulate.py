@@ -244,8 +244,9 @@ def _layer(spec: LayerSpec, lib, path: str, used: dict):
         vias = via_area = None
         if spec.vias is not None:
             vias = _vias(spec.vias, lib, _join(path, "vias"), used, mat)
-            if spec.vias.area is not None:
-                via_area = tuple(q.value for q in spec.vias.area)
+            if spec.vias.area is not None:  # an area reads as a square of that area
+                via_area = tuple(math.sqrt(q.value) if q.kind == "area" else q.value
+                                 for q in spec.vias.area)
         size = None if spec.size is None else tuple(q.value for q in spec.size)
         angle = None if spec.spreading_angle is None else spec.spreading_angle.value
         return Layer(mat, spec.thickness.value, size, spec.name, angle,
@@ -392,6 +393,7 @@ class ScenarioModel:
     materials: dict[str, Any] = field(default_factory=dict)
     lines: dict[str, Any] = field(default_factory=dict)
     groups: dict[str, list[str]] = field(default_factory=dict)
+    via_fields: list[dict[str, Any]] = field(default_factory=list)
 
     @property
     def method(self) -> str:
@@ -446,6 +448,9 @@ def build(scn: Scenario) -> ScenarioModel:
         net.add_boundary(ambient, scn.ambient_C)
         probes, limits = {}, {}
     model = ScenarioModel(scn, net, built, waves, probes, limits, ambient, used)
+    if asm is not None:  # the via fields used (sizes by builder.via_field_size)
+        from .builder import via_fields
+        model.via_fields = via_fields(asm, lib)
     _add_lines(model, lib)
     _add_elements(model)
     _add_heaters(model)
@@ -460,9 +465,9 @@ def build(scn: Scenario) -> ScenarioModel:
 
 def _axisymmetric(scn: Scenario, asm, opts: dict):
     """The axisymmetric r-z accuracy mode (:func:`pulsetherm.network.axisym.build_axisym`):
-    one die-stack device, no lines.  Its ``<device>.junction`` probe is the node at the
-    centre of the heated footprint, the hottest point of the source (so the figures are
-    at or above the footprint mean the ladder reports).  No layer budget is given."""
+    one die-stack device, no lines.  Its ``<device>.junction`` probe is the mean
+    temperature of the heated footprint, as in the ladder (the limit is judged there);
+    ``<device>.centre`` is the footprint's centre, its hottest point.  No layer budget."""
     from .axisym import build_axisym
 
     if len(scn.devices) != 1 or scn.lines:
@@ -475,7 +480,7 @@ def _axisymmetric(scn: Scenario, asm, opts: dict):
         raise ScenarioError("model.fidelity", "axisymmetric",
                             " ".join(str(exc).split())) from None
     d = scn.devices[0]
-    probes = {f"{d.name}.junction": ax.centre}
+    probes = {f"{d.name}.junction": ax.junction, f"{d.name}.centre": ax.centre}
     limits = {} if d.limit is None else {f"{d.name}.junction": d.limit.degC}
     return None, ax.network, ax.ambient, probes, limits
 
@@ -818,6 +823,7 @@ class RunResult:
         return {"scenario": self.scenario, "ambient_C": self.ambient_C,
                 "probes": {n: p.to_dict() for n, p in self.probes.items()},
                 "warmup_s": self.warmup_s, "budget": list(self.budget),
+                "via_fields": [] if self.model is None else list(self.model.via_fields),
                 "cautions": list(self.cautions)}
 
     def summary(self) -> str:

@@ -101,6 +101,14 @@ def run_table(res: Any) -> str:
         out.append(table(["part", "layer", "share %", "rise K"],
                          [[b["part"], b["layer"], 100.0 * b["share"], b["rise_K"]]
                           for b in d["budget"]], align="llrr"))
+    if d.get("via_fields"):
+        out.append("")
+        out.append("via fields used (vias.area, else the footprint of the part above):")
+        out.append(table(["part", "layer", "size mm", "area mm2", "k_z W/mK", "from"],
+                         [[v["part"], v["layer"], f"{_fmt(1e3 * v['width_m'])} x "
+                           f"{_fmt(1e3 * v['length_m'])}", 1e6 * v["area_m2"], v["k_z"],
+                           "vias.area" if v["given"] else "part footprint"]
+                          for v in d["via_fields"]], align="llrrrl"))
     out.append("")
     out.append(f"warm-up (99 % of the periodic state): {_fmt(d['warmup_s'])} s")
     if d["cautions"]:
