@@ -340,6 +340,10 @@ QUANTITY_KINDS: dict[str, tuple[str, str]] = {
     "area": ("area", "40 cm2"),
     "area_resistance": ("area_resistance", "10 K mm2/W"),
     "angle": ("angle", "45 deg"),
+    "gain_tc": ("gain_tempco", "-0.015 dB/K"),
+    "phase_tc": ("phase_tempco", "0.1 deg/K"),
+    "decibel": ("decibel", "0.5 dB"),
+    "energy": ("energy", "0.7 eV"),
 }
 
 
@@ -922,6 +926,47 @@ class FosterSpec(_Section):
 
 
 @dataclass(frozen=True)
+class RFSpec(_Section):
+    """A device's signal sensitivity to its junction temperature: gain (dB/K) and
+    insertion-phase (deg/K) coefficients, and optional limits on the worst droop across a
+    pulse (dB), the pulse-to-pulse stability ratio (dB) and the pulse-to-pulse phase
+    peak-to-peak (deg); see :mod:`pulsetherm.network.pulse_effects`."""
+
+    _what = "device rf"
+    gain_tc: Quantity | None = _f("q", kind="gain_tc", check="any")
+    phase_tc: Quantity | None = _f("q", kind="phase_tc", check="any")
+    droop_limit: Quantity | None = _f("q", kind="decibel")
+    stability_limit: Quantity | None = _f("q", kind="decibel", check="any")
+    phase_limit: Quantity | None = _f("q", kind="angle")
+
+    def check(self, path: str) -> None:
+        if self.gain_tc is None and self.phase_tc is None:
+            raise ScenarioError(_join(path, "gain_tc"), None, "missing; [devices.rf] needs "
+                                "gain_tc (e.g. '-0.015 dB/K') or phase_tc (e.g. '0.1 deg/K')")
+        if self.droop_limit is not None and self.gain_tc is None:
+            raise ScenarioError(_join(path, "droop_limit"), self.droop_limit.text,
+                                "a droop limit with gain_tc (the droop comes from it)")
+        if self.phase_limit is not None and self.phase_tc is None:
+            raise ScenarioError(_join(path, "phase_limit"), self.phase_limit.text,
+                                "a phase limit with phase_tc (the phase comes from it)")
+
+
+@dataclass(frozen=True)
+class CyclingSpec(_Section):
+    """Thermal-cycling figures of a device (relative only; :mod:`pulsetherm.network.
+    cycling`): reference cycle range, Coffin-Manson exponent, activation energy and
+    Arrhenius reference temperature, and the stack layer whose top face is the attach."""
+
+    _what = "device cycling"
+    reference_range: Quantity | None = _f("q", kind="difference")
+    exponent: float | None = _f("number", check="positive")
+    activation_energy: Quantity | None = _f("q", kind="energy", check="nonneg")
+    reference_temperature: Quantity | None = _f("q", kind="temperature", check="kelvin")
+    attach: str | None = _f("str", doc="stack layer of the attach (default: the layer under "
+                            "the die or the data-sheet device)")
+
+
+@dataclass(frozen=True)
 class DeviceSpec(_Section):
     """A heated device: a die stack (``stack``) or a data-sheet device (``rth`` or
     ``foster``, junction to case, optionally on a ``stack`` of package/attach layers)."""
@@ -938,6 +983,10 @@ class DeviceSpec(_Section):
                                        "(one stage: R = rth, C = capacity)")
     foster: FosterSpec | None = _f("section", cls=FosterSpec)
     stack: tuple | None = _f("list", cls=LayerSpec)
+    rf: RFSpec | None = _f("section", cls=RFSpec, doc="gain/phase temperature coefficients "
+                           "and droop or stability limits (network/pulse_effects.py)")
+    cycling: CyclingSpec | None = _f("section", cls=CyclingSpec, doc="rainflow, Coffin-"
+                                     "Manson and Arrhenius settings (network/cycling.py)")
 
     def check(self, path: str) -> None:
         _check_name(self.name, _join(path, "name"))
@@ -1143,6 +1192,8 @@ class Scenario(_Section):
     materials: dict | None = _f("raw", doc="extra materials or overrides, SI numbers "
                                 "(k, rho, c, ...) as in the material library")
     source: str | None = field(default=None, compare=False, repr=False)
+    #: folders besides the scenario's own that table files may be read from (--allow-path)
+    allow_paths: tuple = field(default=(), compare=False, repr=False)
 
     # -- checks across sections ---------------------------------------------------------
     def check(self, path: str) -> None:
@@ -1214,13 +1265,15 @@ class Scenario(_Section):
 
     @classmethod
     def from_dict(cls, data: dict[str, Any], source: str | None = None,
-                  text: str | None = None) -> "Scenario":
-        """Read a scenario from a dict (as :func:`tomllib.loads` gives)."""
+                  text: str | None = None, allow_paths: tuple = ()) -> "Scenario":
+        """Read a scenario from a dict (as :func:`tomllib.loads` gives).  ``allow_paths``:
+        folders besides the scenario's own that table files may be read from."""
         try:
             scn = _load_section(cls, data, "")
         except ScenarioError as exc:
             raise exc.located(text, source) from None
         object.__setattr__(scn, "source", source)
+        object.__setattr__(scn, "allow_paths", tuple(str(p) for p in allow_paths))
         return scn
 
     def with_value(self, path: str, value: Any) -> "Scenario":
@@ -1229,7 +1282,7 @@ class Scenario(_Section):
         scenario is validated like a loaded one."""
         data = self.to_dict()
         set_path(data, path, value)
-        return Scenario.from_dict(data, source=self.source)
+        return Scenario.from_dict(data, source=self.source, allow_paths=self.allow_paths)
 
     def get_value(self, path: str) -> Any:
         """The value at ``path`` as written (a unit string, a number, ...)."""
@@ -1297,7 +1350,7 @@ def set_path(data: dict, path: str, value: Any) -> None:
 # ======================================================================================
 # Load and save
 # ======================================================================================
-def loads(text: str, source: str | None = None) -> Scenario:
+def loads(text: str, source: str | None = None, allow_paths: tuple = ()) -> Scenario:
     """Read a scenario from TOML text; :class:`ScenarioError` with the line on failure.
 
     Hostile text is refused before it is parsed (:mod:`pulsetherm.network.limits`): more
@@ -1316,16 +1369,17 @@ def loads(text: str, source: str | None = None) -> Scenario:
         line = int(m.group(1)) if m else None
         msg = re.sub(r"\s*\(at line \d+, column \d+\)", "", str(exc))
         raise ScenarioError("", None, f"TOML syntax: {msg}", line, source) from None
-    return Scenario.from_dict(data, source=source, text=text)
+    return Scenario.from_dict(data, source=source, text=text, allow_paths=allow_paths)
 
 
-def load(path: str | Path) -> Scenario:
-    """Read a scenario file."""
+def load(path: str | Path, allow_paths: tuple = ()) -> Scenario:
+    """Read a scenario file; ``allow_paths``: folders besides its own that its table files
+    may be read from (``--allow-path``)."""
     from .safe_io import read_text
 
     p = Path(path)
     text = read_text(p, "scenario")       # regular files only, size capped, UTF-8 (BOM ok)
-    return loads(text, source=str(p))
+    return loads(text, source=str(p), allow_paths=tuple(allow_paths))
 
 
 def dumps(scenario: Scenario) -> str:

@@ -33,6 +33,20 @@ CAUTION = ("engineering estimates; verify by measurement; follow the device make
            "and derating, local codes and licensed practice")
 
 
+def massless_caution(scn: Scenario) -> list[str]:
+    """One caution per device given by ``rth`` alone (no ``capacity``): its junction has
+    no heat capacity, so it jumps by P·rth at every power edge and its peak is an upper
+    bound (any real junction-to-case path has mass)."""
+    names = [d.name for d in scn.devices or ()
+             if d.rth is not None and not (d.capacity is not None and d.capacity.value > 0)]
+    if not names:
+        return []
+    return [f"device(s) {', '.join(map(repr, names))} given by 'rth' alone have no thermal "
+            "mass between junction and case: the junction follows the power at once, so "
+            "its peak is an upper bound; give 'foster' (R and tau), a die 'stack', or "
+            "'capacity' (junction-to-case heat capacity) for the mass"]
+
+
 # ======================================================================================
 # Waveforms
 # ======================================================================================
@@ -133,17 +147,31 @@ def _table_waveform(spec: WaveformSpec, scenario: Scenario, path: str):
 
     from pulsetherm.waveforms.table import Table
 
+    from .safe_io import MAX_TABLE_BYTES, read_text, resolve_inside
+
     base = Path(scenario.source).parent if scenario.source else Path.cwd()
-    f = (base / spec.file).resolve()
-    if not f.is_file():
-        raise ScenarioError(_join(path, "file"), spec.file,
-                            f"a CSV power envelope that exists (looked for {f})")
+    key = _join(path, "file")
     try:
-        return Table.from_csv(f, interp=spec.interp, periodic=spec.periodic,
-                              period=None if spec.period is None else spec.period.value)
+        # inside the scenario's folder (or --allow-path), regular files only, size capped
+        f = resolve_inside(base, spec.file, getattr(scenario, "allow_paths", ()))
+        if not f.is_file():
+            raise ScenarioError(key, spec.file, f"a CSV power envelope that exists (looked "
+                                f"for {f})")
+        text = read_text(f, "CSV envelope", MAX_TABLE_BYTES)
     except OSError as exc:
-        raise ScenarioError(_join(path, "file"), spec.file,
+        raise ScenarioError(key, spec.file,
                             f"a readable CSV file ({exc.strerror or exc})") from None
+    except ScenarioError:
+        raise
+    except ValueError as exc:
+        raise ScenarioError(key, spec.file, str(exc)) from None
+    try:
+        return Table.from_csv(io.StringIO(text), interp=spec.interp, periodic=spec.periodic,
+                              period=None if spec.period is None else spec.period.value)
+    except ValueError as exc:
+        if str(exc).startswith("Table."):
+            raise          # a key of the waveform (period ...): named by the caller
+        raise ScenarioError(key, spec.file, f"a CSV power envelope ({exc})") from None
 
 
 def _reads_files(specs) -> bool:
@@ -324,12 +352,16 @@ def to_assembly(scn: Scenario, lib=None, used: dict | None = None):
                                 np.array([q.value for q in d.foster.tau]))
             except ValueError as exc:
                 raise ScenarioError(f"{path}.foster", None, " ".join(str(exc).split())) from None
+        rth = None if d.rth is None else d.rth.value
+        if rth is not None and d.capacity is not None and d.capacity.value > 0:
+            # rth with a junction-to-case capacity: one stage, R·C = τ (a one-term Foster
+            # network is the one-stage Cauer ladder: the capacity sits on the junction)
+            foster, rth = Foster(np.array([rth]), np.array([rth * d.capacity.value])), None
         try:
             parts.append(Part(d.name, tuple(q.value for q in d.footprint), stack,
                               (0.0, 0.0) if d.position is None
                               else tuple(q.value for q in d.position),
-                              None if d.limit is None else d.limit.degC,
-                              None if d.rth is None else d.rth.value, foster))
+                              None if d.limit is None else d.limit.degC, rth, foster))
         except ValueError as exc:
             raise _field_error(exc, path, d) from None
     board = None
@@ -394,6 +426,8 @@ class ScenarioModel:
     lines: dict[str, Any] = field(default_factory=dict)
     groups: dict[str, list[str]] = field(default_factory=dict)
     via_fields: list[dict[str, Any]] = field(default_factory=list)
+    #: shortest time the stack-up network resolves, s (None: no stack-up was built)
+    t_min: float | None = None
 
     @property
     def method(self) -> str:
@@ -405,16 +439,28 @@ class ScenarioModel:
         return "auto"
 
     def cautions(self) -> list[str]:
-        """The general caution (whenever limits are judged) and material cautions."""
+        """The general caution (whenever limits are judged), material cautions and the
+        massless data-sheet devices (:func:`massless_caution`)."""
         out = [CAUTION]
+        out += massless_caution(self.scenario)
         for mat in self.materials.values():
             if mat.caution and mat.caution not in out:
                 out.append(mat.caution)
         return out
 
 
-def build(scn: Scenario) -> ScenarioModel:
-    """Turn a scenario into a :class:`ScenarioModel` (network, inputs, probes, limits)."""
+def waveform_t_min(scn: Scenario, waves: dict[str, Any]) -> float:
+    """All the network build takes from the waveforms: the shortest feature of the devices'
+    power, s (it sets the thinnest ladder sub-layer).  Sweeps key their reuse of a built
+    network on it (:mod:`pulsetherm.network.sweepcache`): keep the two in step."""
+    return min(_shortest_feature(waves[d.name] for d in scn.devices or ()), 1e3)
+
+
+def build(scn: Scenario, t_min: float | None = None) -> ScenarioModel:
+    """Turn a scenario into a :class:`ScenarioModel` (network, inputs, probes, limits).
+
+    ``t_min`` (s): the shortest time the ladder resolves; default the shortest waveform
+    feature (``zth`` passes its own earliest time instead)."""
     from .builder import build as build_stack
     from .model import ThermalNetwork
 
@@ -426,7 +472,7 @@ def build(scn: Scenario) -> ScenarioModel:
     fidelity = (m.fidelity if m is not None else None) or "ladder"
     built = None
     if asm is not None:
-        t_min = min(_shortest_feature(waves[d.name] for d in scn.devices), 1e3)
+        t_min = waveform_t_min(scn, waves) if t_min is None else float(t_min)
         opts = dict(t_min=t_min, fidelity=(m.grading if m and m.grading else "normal"),
                     spreading=(m.spreading if m and m.spreading else "calibrated"),
                     nonlinear=bool(m and m.nonlinear), library=lib)
@@ -451,6 +497,7 @@ def build(scn: Scenario) -> ScenarioModel:
     if asm is not None:  # the via fields used (sizes by builder.via_field_size)
         from .builder import via_fields
         model.via_fields = via_fields(asm, lib)
+    model.t_min = t_min if asm is not None else None
     _add_lines(model, lib)
     _add_elements(model)
     _add_heaters(model)
@@ -808,6 +855,9 @@ class RunResult:
     response: Any = None
     model: ScenarioModel | None = None
     budget_probe: str | None = None
+    #: signal and cycling figures of devices with [devices.rf] / [devices.cycling]
+    #: (:class:`~pulsetherm.network.device_effects.DeviceEffects`), else None
+    effects: Any = None
 
     def violations(self, margin: float = 0.0) -> list[str]:
         """Probes whose margin to their limit is below ``margin`` K."""
@@ -824,7 +874,8 @@ class RunResult:
                 "probes": {n: p.to_dict() for n, p in self.probes.items()},
                 "warmup_s": self.warmup_s, "budget": list(self.budget),
                 "via_fields": [] if self.model is None else list(self.model.via_fields),
-                "cautions": list(self.cautions)}
+                "cautions": list(self.cautions),
+                **(self.effects.to_dict() if self.effects is not None else {})}
 
     def summary(self) -> str:
         from_lines = [f"{self.scenario}: ambient {self.ambient_C:.1f} degC, warm-up "
@@ -901,7 +952,12 @@ def simulate(scn: Scenario | ScenarioModel) -> RunResult:
     hottest = max(model.probes, key=lambda n: probes[n].peak_C) if probes else None
     warm = _warmup(model, resp, hottest)
     budget, bprobe = _budget(model)
-    return RunResult(s.name, amb, probes, warm, budget, model.cautions(), resp, model, bprobe)
+    from .device_effects import device_effects  # [devices.rf] / [devices.cycling]
+
+    effects = device_effects(model)
+    cautions = model.cautions() + (effects.cautions if effects is not None else [])
+    return RunResult(s.name, amb, probes, warm, budget, cautions, resp, model, bprobe,
+                     effects=effects)
 
 
 def _warmup(model: ScenarioModel, resp, probe: str | None) -> float:
@@ -958,76 +1014,5 @@ def _mean_power(w) -> float:
 # ======================================================================================
 # Thermal impedance
 # ======================================================================================
-@dataclass(eq=False)
-class ImpedanceResult:
-    """Zth at one probe (its own part's input): curve, pulsed family, Foster, Cauer,
-    structure function."""
+from .impedance import ImpedanceResult, thermal_impedance  # noqa: E402  (re-exported)
 
-    probe: str
-    input: str
-    t: np.ndarray
-    zth: np.ndarray
-    pulsed: Any
-    foster: Any
-    cauer: Any
-    structure: Any
-
-    @property
-    def R_th(self) -> float:
-        return float(np.sum(self.foster.R))
-
-    def to_dict(self) -> dict[str, Any]:
-        return {"probe": self.probe, "input": self.input, "R_th_K_per_W": self.R_th,
-                "foster": {"R": [float(x) for x in self.foster.R],
-                           "tau": [float(x) for x in self.foster.tau]},
-                "cauer": {"R": [float(x) for x in self.cauer.R],
-                          "C": [float(x) for x in self.cauer.C]},
-                "zth": {"t_s": [float(x) for x in self.t],
-                        "K_per_W": [float(x) for x in self.zth]}}
-
-    def to_csv(self, fh) -> None:
-        """Zth against time, then the pulsed-Zth family (one column per duty)."""
-        w = csv.writer(fh)
-        w.writerow(["t_s", "zth_K_per_W"])
-        for t, z in zip(self.t, self.zth):
-            w.writerow([repr(float(t)), repr(float(z))])
-        p = self.pulsed
-        if p is not None:
-            w.writerow([])
-            duties = [float(d) for d in np.atleast_1d(p.duties)]
-            w.writerow(["width_s"] + [f"duty_{d:g}" for d in duties])
-            Z = np.asarray(p.K_per_W)
-            if Z.shape[0] != len(duties):
-                Z = Z.T
-            for k, tp in enumerate(np.atleast_1d(p.widths)):
-                w.writerow([repr(float(tp))] + [repr(float(Z[j, k])) for j in range(len(duties))])
-
-
-def thermal_impedance(scn: Scenario | ScenarioModel, probe: str) -> ImpedanceResult:
-    """Zth, pulsed Zth, Foster/Cauer and the structure function at ``probe``.
-
-    The input is the heat source the probe belongs to (a device's own input for its
-    junction); otherwise the first input.
-    """
-    model = scn if isinstance(scn, ScenarioModel) else build(scn)
-    if probe not in model.probes:
-        close = difflib.get_close_matches(probe, list(model.probes), n=2)
-        hint = f"did you mean {' or '.join(map(repr, close))}? " if close else ""
-        raise ScenarioError("--probe", probe, f"a probe of the scenario; {hint}probes: "
-                            f"{', '.join(model.probes)}")
-    node = model.probes[probe]
-    owner = probe.split(".")[0]
-    inputs = list(model.network.inputs)
-    inp = owner if owner in inputs else inputs[0]
-    net = model.network
-    curve = net.zth(node, input=inp)
-    pulsed = net.pulsed_zth(node, input=inp)
-    # the modal Foster network has a term per mode; terms below 1e-6 of the total are
-    # folded into their neighbours (ΣR kept exactly, Zth changed by < 1e-6 of it)
-    fost = net.foster(node, input=inp).pruned(rel_tol=1e-6)
-    cauer = fost.to_cauer()
-    from .structure import structure_function
-
-    sf = structure_function(cauer)
-    return ImpedanceResult(probe, inp, np.asarray(curve.t), np.asarray(curve.K_per_W), pulsed,
-                           fost, cauer, sf)

@@ -75,20 +75,27 @@ def build_parser() -> argparse.ArgumentParser:
     z.add_argument("--csv", metavar="PATH", help="write Zth and the pulsed-Zth family")
     z.add_argument("--plot", metavar="PATH", help="write plots (.png or .svg)")
     z.add_argument("--json", action="store_true", help="print one JSON object")
+    z.add_argument("--from", dest="t_from", default="1 us", metavar="TIME",
+                   help="earliest time: the network is graded to resolve it (1 us)")
     z.add_argument("--set", action="append", default=[], metavar="PATH=VALUE")
 
     s = sub.add_parser("sweep", help="grid or Monte Carlo over scenario values")
     s.add_argument("file")
     s.add_argument("--vary", action="append", default=[], metavar="PATH=VALUES",
                    help="grid axis: a list 'a,b,c' or a range 'LO..HI UNIT:N' (repeatable)")
+    s.add_argument("--zip", action="append", default=[], metavar="PATH=VALUES",
+                   help="paired axis: every --zip path steps together, one value of each "
+                        "per row (same count each; repeatable, or several joined by ';')")
     s.add_argument("--mc", action="append", default=[], metavar="PATH=DIST:WIDTH",
                    help="Monte Carlo: normal:SIGMA or uniform:HALFWIDTH (with unit)")
     s.add_argument("--samples", type=int, default=100, help="Monte Carlo samples (100)")
     s.add_argument("--seed", type=int, default=0, help="random seed (0)")
     s.add_argument("--out", metavar="PATH", help="rows: .csv or .jsonl (JSON lines)")
     s.add_argument("--resume", action="store_true",
-                   help="skip rows already in --out (keyed by the varied values)")
-    s.add_argument("--workers", type=int, default=1, help="worker processes (1)")
+                   help="skip rows already in --out (refused when the file comes from "
+                        "another scenario, envelope file or seed)")
+    s.add_argument("--workers", type=int, default=1,
+                   help="worker processes (1; at most the CPU count)")
     s.add_argument("--scheduler", metavar="ADDRESS",
                    help="run on a Dask cluster (needs the [cluster] extra)")
     s.add_argument("--json", action="store_true", help="print the summary as JSON")
@@ -116,6 +123,12 @@ def build_parser() -> argparse.ArgumentParser:
 
     u = sub.add_parser("ui", help="open a scenario in the terminal app (what-if, trace, budget)")
     u.add_argument("file", help="scenario TOML file")
+    for verb in sub.choices.values():   # every verb that reads a scenario (added ones too)
+        if any(a.dest == "file" for a in verb._actions) and not any(
+                a.dest == "allow_path" for a in verb._actions):
+            verb.add_argument("--allow-path", action="append", default=[], metavar="DIR",
+                              help="a folder outside the scenario's own that its table "
+                                   "files may be read from (repeatable)")
     return p
 
 
@@ -197,7 +210,7 @@ def _cmd_materials(args: argparse.Namespace) -> int:
 def _load(args: argparse.Namespace):
     from pulsetherm.network.scenario import load, parse_literal
 
-    scn = load(args.file)
+    scn = load(args.file, allow_paths=tuple(getattr(args, "allow_path", None) or ()))
     for item in getattr(args, "set", []) or []:
         path, sep, value = item.partition("=")
         if not sep or not path.strip():
@@ -258,7 +271,10 @@ def _cmd_zth(args: argparse.Namespace) -> int:
     from pulsetherm.network.simulate import thermal_impedance
     from pulsetherm.tui.report import zth_text
 
-    res = thermal_impedance(_load(args), args.probe)
+    from pulsetherm.network.scenario import parse_quantity
+
+    t_from = parse_quantity(args.t_from, "time", "--from").value
+    res = thermal_impedance(_load(args), args.probe, t_from=t_from)
     _files(res, args, "plot_zth")
     _emit(res, args.json, zth_text)
     return EXIT_OK
@@ -269,20 +285,35 @@ def _cmd_sweep(args: argparse.Namespace) -> int:
     from pulsetherm.network.sweep import plan_sweep, run_sweep
     from pulsetherm.tui.report import sweep_text
 
-    if not args.vary and not args.mc:
-        raise CliError("sweep: give at least one --vary PATH=VALUES or --mc PATH=DIST:WIDTH")
-    if args.workers < 1:
-        raise CliError(f"--workers {args.workers}: expected a whole number >= 1")
+    from pulsetherm.network.sweep import MAX_ROWS, cpu_cap
+
+    if not args.vary and not args.mc and not args.zip:
+        raise CliError("sweep: give at least one --vary PATH=VALUES, --zip PATH=VALUES or "
+                       "--mc PATH=DIST:WIDTH")
+    if args.scheduler is None and not 1 <= args.workers <= cpu_cap():
+        raise CliError(f"--workers {args.workers}: expected a whole number from 1 to "
+                       f"{cpu_cap()} (the CPUs of this machine; a cluster takes --scheduler)")
+    if args.mc and not 1 <= args.samples <= MAX_ROWS:
+        raise CliError(f"--samples {args.samples}: expected a whole number from 1 to "
+                       f"{MAX_ROWS} (rows of one sweep)")
     if args.resume and not args.out:
         raise CliError("--resume needs --out PATH (the rows to resume from)")
     scn = _load(args)
-    plan = plan_sweep(scn, vary=args.vary, mc=args.mc, samples=args.samples, seed=args.seed)
+    plan = plan_sweep(scn, vary=args.vary, mc=args.mc, samples=args.samples, seed=args.seed,
+                      paired=args.zip)
     progress = None if args.no_progress else _Progress(plan.size)
     res = run_sweep(plan, out=args.out, resume=args.resume, workers=args.workers,
                     scheduler=args.scheduler, progress=progress)
     if progress is not None:
         progress.close()
     _emit(res, args.json, sweep_text)
+    if res.failed:
+        where = f" (their errors are in {args.out})" if args.out else ""
+        bug = (f"; {res.internal} on an internal error: this is a bug in pulsetherm, please "
+               "report it" if res.internal else "")
+        print(f"pulsetherm sweep: {res.failed} of {len(res.rows)} rows failed{where}{bug}",
+              file=sys.stderr)
+        return EXIT_INTERNAL if res.internal else EXIT_LIMIT
     return EXIT_OK
 
 

@@ -166,6 +166,12 @@ def plot_zth(res: Any, path: str | Path) -> None:
     a.legend(fontsize=7)
     a = ax[0][1]
     sf = res.structure
+    if sf is None:  # no Cauer ladder at this probe: the note says why
+        a.axis("off")
+        a.text(0.02, 0.5, "\n".join(getattr(res, "notes", []) or ["no structure function"]),
+               wrap=True, fontsize=7, va="center")
+        save_figure(fig, path)
+        return
     Rc = np.asarray(getattr(sf, "R_cum", getattr(sf, "R", [])))
     Cc = np.asarray(getattr(sf, "C_cum", getattr(sf, "C", [])))
     pos = Cc > 0

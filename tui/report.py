@@ -136,17 +136,28 @@ def check_text(chk: Any) -> str:
 
 # -- zth ---------------------------------------------------------------------------------
 def zth_text(res: Any) -> str:
+    """Steady resistance, the Foster network and the Cauer ladder (when they exist), the
+    notes on what was skipped and why, the cautions."""
     d = res.to_dict()
-    out = [f"thermal impedance at {d['probe']} (input {d['input']})",
-           f"steady resistance: {d['R_th_K_per_W']:.5g} K/W", "",
-           "Foster network:"]
-    out.append(table(["stage", "R K/W", "tau s"],
-                     [[i + 1, r, t] for i, (r, t) in enumerate(zip(d["foster"]["R"],
-                                                                 d["foster"]["tau"]))]))
-    out += ["", "Cauer ladder:"]
-    out.append(table(["stage", "R K/W", "C J/K"],
-                     [[i + 1, r, c] for i, (r, c) in enumerate(zip(d["cauer"]["R"],
-                                                                 d["cauer"]["C"]))]))
+    out = [f"thermal impedance at {d['probe']} (input {d['input']}), from "
+           f"{_fmt(float(d.get('t_from_s', 0.0)))} s",
+           f"steady resistance: {d['R_th_K_per_W']:.5g} K/W"]
+    if d["foster"] is not None:
+        out += ["", "Foster network:"]
+        out.append(table(["stage", "R K/W", "tau s"],
+                         [[i + 1, r, t] for i, (r, t) in enumerate(zip(d["foster"]["R"],
+                                                                     d["foster"]["tau"]))]))
+    if d["cauer"] is not None:
+        out += ["", "Cauer ladder:"]
+        out.append(table(["stage", "R K/W", "C J/K"],
+                         [[i + 1, r, c] for i, (r, c) in enumerate(zip(d["cauer"]["R"],
+                                                                     d["cauer"]["C"]))]))
+    if d.get("notes"):
+        out.append("")
+        out += [f"Note: {n}" for n in d["notes"]]
+    if d.get("cautions"):
+        out.append("")
+        out += _cautions(d["cautions"])
     return "\n".join(out)
 
 
