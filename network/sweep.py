@@ -2,10 +2,19 @@
 
 A sweep is a list of *rows*; a row sets some scenario values (``path -> text``, e.g.
 ``mount.sink.resistance -> "0.3 K/W"``) on a base scenario, rebuilds and solves it, and
-records every probe's peak, mean and margin.  Rows are keyed by a hash of the varied values
-(and of the base scenario),
-written (CSV or JSON lines) and flushed one complete line at a time as they finish, so an
-interrupted sweep resumes by skipping the keys already in the file.
+records every probe's peak, mean and margin.  Axes are grid axes (``--vary``: every
+combination), paired axes (``--zip``: several paths stepped together, one value of each per
+row) and Monte Carlo draws (``--mc``, seeded).  A row that fails (an input error or a
+numerical failure in its scenario, or an internal error) is recorded as a failed row with a
+one-line error; the other rows still run and are kept.
+
+Every row carries the sweep's *fingerprint*: a hash of the base scenario as written, of the
+content of every file it reads (CSV power envelopes) and of the seed.  Rows are keyed by a
+hash of the varied values and the fingerprint, written (CSV or JSON lines) and flushed one
+complete line at a time as they finish, so an interrupted sweep resumes by skipping the
+keys already in the file; resuming onto a file written by another scenario, seed or
+envelope is refused.  A row whose axes change only waveforms reuses the network built for
+an earlier row (:mod:`pulsetherm.network.sweepcache`).
 
 Workers are processes (``fork`` when the parent is single-threaded and already pinned to
 one BLAS thread, else ``forkserver`` or ``spawn``; one BLAS thread each) or a Dask
@@ -30,13 +39,33 @@ from .scenario import (Scenario, ScenarioError, UnitScale, field_kind, parse_lit
                        parse_quantity, split_unit)
 
 __all__ = ["SweepPlan", "SweepResult", "plan_sweep", "run_sweep", "parse_axis",
-           "parse_mc", "run_row", "row_key", "sweep"]
+           "parse_mc", "parse_zip", "run_row", "row_key", "sweep", "MAX_ROWS", "cpu_cap"]
 
 #: Environment set in every worker before numpy is imported: one BLAS/OpenMP thread.
 ONE_THREAD = {"OPENBLAS_NUM_THREADS": "1", "OMP_NUM_THREADS": "1", "MKL_NUM_THREADS": "1",
               "VECLIB_MAXIMUM_THREADS": "1", "NUMEXPR_NUM_THREADS": "1"}
 #: Percentiles reported for every probe's peak.
 PERCENTILES = (5.0, 50.0, 95.0)
+#: Most rows in one sweep (grid points x paired values x Monte Carlo samples); the count is
+#: checked before any row is made.  About 100 MB of rows in memory at most.
+MAX_ROWS = 100_000
+#: Error text of a row that failed on a bug rather than on its input.
+INTERNAL = "internal error"
+
+
+def cpu_cap() -> int:
+    """CPUs this process may run on (the most ``workers`` a sweep takes on this machine)."""
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except (AttributeError, OSError):
+        return max(1, os.cpu_count() or 1)
+
+
+def _too_many(option: str, value: Any, count: int | str) -> ScenarioError:
+    count = str(count)
+    shown = count if len(count) <= 12 else count[:12] + "..."
+    return ScenarioError(option, value, f"a sweep of at most {MAX_ROWS} rows (this one asks "
+                         f"for {shown}); split it into several sweeps, each with its own --out")
 
 
 # ======================================================================================
@@ -75,6 +104,9 @@ def parse_range(text: str, kind: str, option: str) -> tuple[list[float], UnitSca
     if not (math.isfinite(lo) and math.isfinite(hi)) or lo == hi:
         raise ScenarioError(option, text, "two different finite ends")
     if count:
+        n = count.strip()
+        if n.isdigit() and (len(n) > 9 or int(n) > MAX_ROWS):
+            raise _too_many(option, text, n)
         # the project's range syntax (":N", ":N log"): values from the unit table, then
         # written back in the range's own unit
         from .scenario import QUANTITY_KINDS
@@ -92,21 +124,23 @@ def parse_range(text: str, kind: str, option: str) -> tuple[list[float], UnitSca
     return [lo, hi], scale
 
 
-def parse_axis(scn: Scenario, spec: str) -> tuple[str, list[Any]]:
+def parse_axis(scn: Scenario, spec: str, option: str = "--vary") -> tuple[str, list[Any]]:
     """``PATH=VALUES`` (a list ``a,b,c`` or a range ``LO..HI UNIT:N``) -> (path, values as
     scenario values: unit strings, numbers, names)."""
     path, sep, values = spec.partition("=")
     path = path.strip()
     if not sep or not path or not values.strip():
-        raise ScenarioError("--vary", spec, "PATH=VALUES, e.g. "
+        raise ScenarioError(option, spec, "PATH=VALUES, e.g. "
                             "mount.sink.resistance=0.1..0.5 K/W:5 or devices[0].limit=150 degC,175 degC")
     kind = field_kind(scn, path)
     values = values.strip()
     if ".." in values and kind is not None:
-        nums, scale = parse_range(values, kind, f"--vary {path}")
+        nums, scale = parse_range(values, kind, f"{option} {path}")
         return path, [scale.text(x) for x in nums]
     out: list[Any] = []
     items = _split_values(values)
+    if len(items) > MAX_ROWS:
+        raise _too_many(option, path, len(items))
     # a unit on the last item only applies to bare numbers before it: "0.1,0.2,0.3 K/W"
     tail_unit = ""
     if kind is not None and items:
@@ -125,8 +159,29 @@ def parse_axis(scn: Scenario, spec: str) -> tuple[str, list[Any]]:
         else:
             out.append(parse_literal(item))
     if not out:
-        raise ScenarioError("--vary", spec, "at least one value")
+        raise ScenarioError(option, spec, "at least one value")
     return path, out
+
+
+def parse_zip(scn: Scenario, specs: Sequence[str]) -> list[tuple[str, list[Any]]]:
+    """Paired axes: every ``--zip`` item is ``PATH=VALUES`` (or several joined by ``;``);
+    all of them step together, the i-th row of the pair taking the i-th value of each path
+    (``board.layers[1].material=a,b,c`` with ``lines[0].permittivity=3.0,3.5,4.4``).  Each
+    path needs the same number of values; the error names every path and its count."""
+    axes: list[tuple[str, list[Any]]] = []
+    for spec in specs:
+        for part in spec.split(";"):
+            if part.strip():
+                axes.append(parse_axis(scn, part.strip(), "--zip"))
+    if not axes and specs:
+        raise ScenarioError("--zip", "; ".join(specs), "PATH=VALUES, e.g. "
+                            "board.layers[1].material=fr4,ptfe-woven-glass")
+    counts = {len(vals) for _, vals in axes}
+    if len(counts) > 1:
+        listed = ", ".join(f"{p} has {len(v)}" for p, v in axes)
+        raise ScenarioError("--zip", None, f"paired axes with the same number of values "
+                            f"({listed})")
+    return axes
 
 
 @dataclass(frozen=True)
@@ -185,13 +240,16 @@ def parse_mc(scn: Scenario, spec: str) -> MonteCarloAxis:
 # ======================================================================================
 # Plan
 # ======================================================================================
-def row_key(values: dict[str, Any], base: Scenario | None = None) -> str:
-    """Stable key of a row: a hash of its varied values (path and value as written) and,
-    given ``base``, of the base scenario too, so that a resumed sweep does not take rows
-    computed from an edited scenario (or other ``--set`` values) for its own."""
+def row_key(values: dict[str, Any], base: "Scenario | str | None" = None, seed: int = 0) -> str:
+    """Stable key of a row: a hash of its varied values (path and value as written) and of
+    the sweep's fingerprint (``base``: a fingerprint, or a scenario whose fingerprint is
+    taken with ``seed``), so that a resumed sweep never takes rows computed from an edited
+    scenario, another envelope file or another seed for its own."""
     blob = json.dumps(sorted(values.items()), separators=(",", ":"), default=str)
+    if isinstance(base, Scenario):
+        base = fingerprint(base, seed)
     if base is not None:
-        blob += _digest(base)
+        blob += base
     return hashlib.sha1(blob.encode("utf-8")).hexdigest()[:16]
 
 
@@ -199,6 +257,63 @@ def _digest(scn: Scenario) -> str:
     """Hash of a scenario's values as written (its source file name left out)."""
     text = json.dumps(scn.to_dict(), sort_keys=True, separators=(",", ":"), default=str)
     return hashlib.sha1(text.encode("utf-8")).hexdigest()
+
+
+#: Largest envelope file read into a fingerprint or shipped to a cluster, bytes.
+MAX_ENVELOPE_BYTES = 64_000_000
+
+
+def _table_names(data: Any, out: set[str]) -> set[str]:
+    """Every ``file`` of a ``kind = "table"`` waveform in a scenario's dict form."""
+    if isinstance(data, dict):
+        if data.get("kind") == "table" and isinstance(data.get("file"), str):
+            out.add(data["file"])
+        for v in data.values():
+            _table_names(v, out)
+    elif isinstance(data, (list, tuple)):
+        for v in data:
+            _table_names(v, out)
+    return out
+
+
+def envelope_files(scn: Scenario, extra: Iterable[str] = ()) -> dict[str, bytes | str]:
+    """The files a sweep reads, resolved here as the scenario resolves them (relative to
+    its own folder): name as written -> content (bytes), for the base scenario's table
+    waveforms and the ``extra`` names (values of an axis on a ``file`` key).  A file that
+    is missing, not a regular file or larger than :data:`MAX_ENVELOPE_BYTES` maps to a
+    short text describing it (its rows then fail as a single run would)."""
+    try:  # the folders a scenario may read from (refused files are not read here either)
+        from .safe_io import resolve_inside
+    except ImportError:  # pragma: no cover - older tree
+        resolve_inside = None
+    base = Path(scn.source).parent if scn.source else Path.cwd()
+    allow = tuple(getattr(scn, "allow_paths", ()) or ())
+    out: dict[str, bytes | str] = {}
+    for name in sorted(_table_names(scn.to_dict(), set()) | set(extra)):
+        try:
+            f = (resolve_inside(base, name, allow) if resolve_inside is not None
+                 else (base / name).resolve())
+            st = f.stat()
+            if not f.is_file():
+                out[name] = "not a regular file"
+            elif st.st_size > MAX_ENVELOPE_BYTES:
+                out[name] = f"{st.st_size} bytes, modified {st.st_mtime_ns}"
+            else:
+                out[name] = f.read_bytes()
+        except (OSError, ValueError, RuntimeError):
+            out[name] = "missing"
+    return out
+
+
+def fingerprint(scn: Scenario, seed: int = 0, files: dict[str, bytes | str] | None = None) -> str:
+    """The sweep's identity: a hash of the base scenario as written, of the content of
+    every file it reads (:func:`envelope_files`) and of the seed."""
+    files = envelope_files(scn) if files is None else files
+    sums = {k: hashlib.sha1(v).hexdigest() if isinstance(v, bytes) else v
+            for k, v in sorted(files.items())}
+    blob = json.dumps({"scenario": _digest(scn), "files": sums, "seed": seed},
+                      sort_keys=True, separators=(",", ":"))
+    return hashlib.sha1(blob.encode("utf-8")).hexdigest()[:16]
 
 
 @dataclass(eq=False)
@@ -212,22 +327,43 @@ class SweepPlan:
     mode: str  # "grid" | "monte-carlo" | "grid+monte-carlo"
     #: Cautions of the base scenario: the general one and its materials' (beryllia, ...).
     cautions: list[str] = field(default_factory=list)
+    #: Random seed of the Monte Carlo draws.
+    seed: int = 0
+    #: Files the rows read (:func:`envelope_files`), resolved in this process.
+    files: dict[str, Any] = field(default_factory=dict)
+    #: :func:`fingerprint` of the scenario, its files and the seed (every row carries it).
+    fingerprint: str = ""
+
+    def __post_init__(self) -> None:
+        if not self.fingerprint:
+            if not self.files:
+                self.files = envelope_files(self.scenario)
+            self.fingerprint = fingerprint(self.scenario, self.seed, self.files)
 
     @property
     def size(self) -> int:
         return len(self.rows)
 
+    def key(self, values: dict[str, Any]) -> str:
+        return row_key(values, self.fingerprint)
+
 
 def plan_sweep(scn: Scenario, vary: Sequence[str] = (), mc: Sequence[str] = (),
-               samples: int = 100, seed: int = 0) -> SweepPlan:
-    """Rows of a grid (every combination of the ``vary`` axes) and/or Monte Carlo draws
-    (``samples`` per grid point, seeded); the base scenario is built once to check it and
-    learn its probes."""
+               samples: int = 100, seed: int = 0, paired: Sequence[str] = ()) -> SweepPlan:
+    """Rows of a grid (every combination of the ``vary`` axes and of the ``paired`` group,
+    whose paths step together: :func:`parse_zip`) and/or Monte Carlo draws (``samples``
+    per grid point, seeded); the base scenario is built once to check it and learn its
+    probes.  More than :data:`MAX_ROWS` rows is refused before any row is made."""
     from .simulate import build
 
+    if mc and (isinstance(samples, bool) or not isinstance(samples, int) or samples < 1):
+        raise ScenarioError("--samples", samples, "a whole number >= 1")
+    if mc and samples > MAX_ROWS:
+        raise _too_many("--samples", samples, samples)
     axes = [parse_axis(scn, v) for v in vary]
+    zipped = parse_zip(scn, paired)
     mcs = [parse_mc(scn, m) for m in mc]
-    paths = [p for p, _ in axes] + [m.path for m in mcs]
+    paths = [p for p, _ in axes] + [p for p, _ in zipped] + [m.path for m in mcs]
     for p in paths:
         if "." in p and p.rsplit(".", 1)[-1] == "name":
             # a renamed device/line/probe renames the probes: its rows would have no figures
@@ -235,11 +371,20 @@ def plan_sweep(scn: Scenario, vary: Sequence[str] = (), mc: Sequence[str] = (),
                                 "probe columns of every row)")
     dup = {p for p in paths if paths.count(p) > 1}
     if dup:
-        raise ScenarioError("--vary/--mc", sorted(dup)[0], "each path varied once")
-    if mcs and (isinstance(samples, bool) or not isinstance(samples, int) or samples < 1):
-        raise ScenarioError("--samples", samples, "a whole number >= 1")
-    grid = [dict(zip([p for p, _ in axes], combo))
-            for combo in itertools.product(*[vals for _, vals in axes])] if axes else [{}]
+        raise ScenarioError("--vary/--zip/--mc", sorted(dup)[0], "each path varied once")
+    count = math.prod(len(v) for _, v in axes) * (len(zipped[0][1]) if zipped else 1) \
+        * (samples if mcs else 1)
+    if count > MAX_ROWS:
+        raise _too_many("--vary/--zip/--samples" if mcs else "--vary/--zip",
+                        " x ".join([str(len(v)) for _, v in axes]
+                                   + ([str(len(zipped[0][1]))] if zipped else [])
+                                   + ([str(samples)] if mcs else [])), count)
+    # the paired group is one more grid axis whose values are dicts of its paths
+    groups: list[list[dict[str, Any]]] = [[{p: v} for v in vals] for p, vals in axes]
+    if zipped:
+        groups.append([{p: vals[i] for p, vals in zipped} for i in range(len(zipped[0][1]))])
+    grid = [{k: v for part in combo for k, v in part.items()}
+            for combo in itertools.product(*groups)] if groups else [{}]
     rows: list[dict[str, Any]] = []
     if mcs:
         rng = random.Random(seed)
@@ -249,23 +394,27 @@ def plan_sweep(scn: Scenario, vary: Sequence[str] = (), mc: Sequence[str] = (),
                 for m in mcs:
                     row[m.path] = m.draw(rng)
                 rows.append(row)
-        mode = "grid+monte-carlo" if axes else "monte-carlo"
+        mode = "grid+monte-carlo" if groups else "monte-carlo"
     else:
         rows = grid
         mode = "grid"
-    # every varied value must be accepted by the schema: check the first row of each axis
-    for path, vals in axes:
-        for v in vals:
+    # every varied value must be accepted by the schema: check each value of each axis
+    # (a long axis: its first and last 32 values; a bad value elsewhere fails its rows)
+    every = axes + zipped
+    for path, vals in every:
+        for v in (vals if len(vals) <= 64 else vals[:32] + vals[-32:]):
             scn.with_value(path, v)
     model = build(scn)
     cautions = model.cautions()
     # a varied material brings its own caution (every value of a material axis is built)
-    for path, vals in axes:
+    for path, vals in every:
         if path.rsplit(".", 1)[-1] in ("material", "fill", "dielectric"):
             for v in vals:
                 cautions += [c for c in build(scn.with_value(path, v)).cautions()
                              if c not in cautions]
-    return SweepPlan(scn, rows, paths, list(model.probes), mode, cautions)
+    files = envelope_files(scn, [str(v) for p, vals in every if p.rsplit(".", 1)[-1] == "file"
+                                 for v in vals])
+    return SweepPlan(scn, rows, paths, list(model.probes), mode, cautions, seed, files)
 
 
 # ======================================================================================
@@ -274,49 +423,82 @@ def plan_sweep(scn: Scenario, vary: Sequence[str] = (), mc: Sequence[str] = (),
 _BASE: dict[str, Any] = {}
 
 
-def _init_worker(base: dict[str, Any] | None = None, source: str | None = None) -> None:
-    """Process initializer: one BLAS thread (set before numpy loads), the base scenario."""
+def _init_worker(base: dict[str, Any] | None = None, source: str | None = None,
+                 allow: tuple = ()) -> None:
+    """Process initializer: one BLAS thread (set before numpy loads), the base scenario
+    (its dict form, file and the folders it may read from)."""
     for k, v in ONE_THREAD.items():
         os.environ[k] = v
     if base is not None:
+        _BASE.clear()
         _BASE["data"] = base
         _BASE["source"] = source
+        _BASE["allow"] = tuple(allow)
 
 
-def run_row(scn: Scenario, values: dict[str, Any]) -> dict[str, Any]:
+def _failure(exc: BaseException) -> str:
+    """One line for a failed row: the message of an input error; the kind of a numerical
+    failure; a request to report an internal error (a bug)."""
+    text = " ".join(str(exc).split())
+    if len(text) > 400:
+        text = text[:400] + " ..."
+    if isinstance(exc, (ValueError, OSError, KeyError)):
+        return text or type(exc).__name__
+    if isinstance(exc, (ArithmeticError, MemoryError, RecursionError)):
+        what = {"MemoryError": "out of memory", "RecursionError": "nested too deeply"}.get(
+            type(exc).__name__, "numerical failure")
+        return f"{what} ({type(exc).__name__}{': ' + text if text else ''})"
+    return (f"{INTERNAL} ({type(exc).__name__}{': ' + text if text else ''}); this is a bug "
+            "in pulsetherm, please report it with the scenario and the command")
+
+
+def run_row(scn: Scenario, values: dict[str, Any], key: str | None = None,
+            cache: Any = None) -> dict[str, Any]:
     """Apply ``values`` to ``scn``, simulate, return the row: key, values, and per probe
-    ``peak_C``, ``mean_C``, ``margin_K``; ``ok`` (every limit holds) or ``error``."""
+    ``peak_C``, ``mean_C``, ``margin_K``; ``ok`` (every limit holds) and ``error`` (empty,
+    or the one-line reason the row failed: any exception of the row is caught here, so one
+    bad row never stops a sweep).  ``key`` defaults to :func:`row_key` of the scenario;
+    ``cache`` is a :class:`~pulsetherm.network.sweepcache.ModelCache` of the base."""
     from .simulate import simulate
 
-    row: dict[str, Any] = {"key": row_key(values, scn), **values}
+    row: dict[str, Any] = {"key": row_key(values, scn) if key is None else key, **values}
     try:
         s = scn
         for path, v in values.items():
             s = s.with_value(path, v)
-        res = simulate(s)
-    except ValueError as exc:
-        row["error"] = " ".join(str(exc).split())
+        res = simulate(cache.model(s, values) if cache is not None else s)
+        figures = {}
+        for name, p in res.probes.items():
+            figures[f"{name}.peak_C"] = p.peak_C
+            figures[f"{name}.mean_C"] = p.mean_C
+            figures[f"{name}.margin_K"] = p.margin_K
+        ok = res.ok
+    except Exception as exc:  # noqa: BLE001 - a row records its failure, whatever it is
+        row["ok"] = False
+        row["error"] = _failure(exc)
         return row
-    for name, p in res.probes.items():
-        row[f"{name}.peak_C"] = p.peak_C
-        row[f"{name}.mean_C"] = p.mean_C
-        row[f"{name}.margin_K"] = p.margin_K
-    row["ok"] = res.ok
+    row.update(figures)
+    row["ok"] = ok
     row["error"] = ""
     return row
 
 
-def _worker_row(values: dict[str, Any]) -> dict[str, Any]:
+def _worker_row(key: str, values: dict[str, Any]) -> dict[str, Any]:
     scn = _BASE.get("scenario")
     if scn is None:
-        scn = Scenario.from_dict(_BASE["data"], source=_BASE.get("source"))
+        from .sweepcache import ModelCache
+
+        allow = _BASE.get("allow") or ()
+        scn = Scenario.from_dict(_BASE["data"], source=_BASE.get("source"),
+                                 **({"allow_paths": allow} if allow else {}))
         _BASE["scenario"] = scn
-    return run_row(scn, values)
+        _BASE["cache"] = ModelCache()
+    return run_row(scn, values, key, _BASE["cache"])
 
 
-def _worker_chunk(chunk: list[dict[str, Any]]) -> list[dict[str, Any]]:
+def _worker_chunk(chunk: list[tuple[str, dict[str, Any]]]) -> list[dict[str, Any]]:
     """Several rows in one task (fewer round trips between the parent and a worker)."""
-    return [_worker_row(values) for values in chunk]
+    return [_worker_row(key, values) for key, values in chunk]
 
 
 def chunk_size(rows: int, workers: int) -> int:
@@ -325,19 +507,85 @@ def chunk_size(rows: int, workers: int) -> int:
     return max(1, min(32, rows // (16 * max(workers, 1))))
 
 
-def _dask_row(base: dict[str, Any], values: dict[str, Any]) -> dict[str, Any]:
-    return run_row(Scenario.from_dict(base), values)
+#: Dask workers: fingerprint -> (scenario, model cache, envelope name -> file name here).
+_DASK: dict[str, tuple[Scenario, Any, dict[str, str]]] = {}
+
+
+def _envelope_folder(files: dict[str, Any]) -> tuple[Path, dict[str, str]]:
+    """Write the shipped envelope files into a private folder of this worker: the folder
+    and name as written -> name there (``env-<hash>.csv``, inside the folder, whatever
+    folders the original name had)."""
+    import atexit
+    import shutil
+    import tempfile
+
+    folder = Path(tempfile.mkdtemp(prefix="pulsetherm-sweep-"))
+    atexit.register(shutil.rmtree, folder, True)
+    names: dict[str, str] = {}
+    for name, content in files.items():
+        if not isinstance(content, bytes):
+            continue  # missing or too large: the row fails as a single run would
+        local = f"env-{hashlib.sha1(name.encode('utf-8')).hexdigest()[:16]}.csv"
+        (folder / local).write_bytes(content)
+        names[name] = local
+    return folder, names
+
+
+def _renamed(data: Any, names: dict[str, str]) -> Any:
+    """The dict form with every table ``file`` renamed by ``names``."""
+    if isinstance(data, dict):
+        out = {k: _renamed(v, names) for k, v in data.items()}
+        if out.get("kind") == "table" and out.get("file") in names:
+            out["file"] = names[out["file"]]
+        return out
+    if isinstance(data, list):
+        return [_renamed(v, names) for v in data]
+    return data
+
+
+def _dask_row(base: dict[str, Any], files: dict[str, Any], fp: str, key: str,
+              values: dict[str, Any]) -> dict[str, Any]:
+    """One row on a Dask worker.  The scenario's envelope files travel with the task
+    (``files``, read in the parent): the worker writes them into a folder of its own and
+    reads them there, never a file of its own working folder."""
+    from .sweepcache import ModelCache
+
+    hit = _DASK.get(fp)
+    if hit is None:
+        folder, names = _envelope_folder(files)
+        scn = Scenario.from_dict(_renamed(base, names), source=str(folder / "scenario.toml"))
+        hit = (scn, ModelCache(), names)
+        if len(_DASK) > 8:
+            _DASK.clear()
+        _DASK[fp] = hit
+    scn, cache, names = hit
+    local = {p: names.get(v, v) if p.rsplit(".", 1)[-1] == "file" and isinstance(v, str)
+             else v for p, v in values.items()}
+    row = run_row(scn, local, key, cache)
+    row.update(values)  # the values as the user wrote them
+    if row.get("error"):
+        for name, there in names.items():
+            row["error"] = row["error"].replace(there, name)
+    return row
 
 
 # ======================================================================================
 # Output rows
 # ======================================================================================
 class _RowWriter:
-    """Append complete rows to a CSV or JSON-lines file, flushing each one."""
+    """Append complete rows to a CSV or JSON-lines file, flushing each one.
 
-    def __init__(self, path: Path, columns: list[str], resume: bool) -> None:
+    Only a regular file is written (a device, FIFO, folder or symbolic link at the target is
+    refused) and a new file is created as the user's umask allows.  With ``resume``, the
+    rows already in the file are read first: every one must carry this sweep's
+    ``fingerprint`` (else the file is refused, untouched); a partial last line left by an
+    interruption is dropped."""
+
+    def __init__(self, path: Path, columns: list[str], resume: bool,
+                 fingerprint: str = "") -> None:
         self.path = path
         self.columns = columns
+        self.fingerprint = fingerprint
         self.jsonl = path.suffix.lower() in (".jsonl", ".ndjson", ".json")
         self.done: set[str] = set()
         if path.suffix.lower() not in (".csv", ".jsonl", ".ndjson", ".json"):
@@ -345,41 +593,58 @@ class _RowWriter:
         if not path.parent.is_dir():
             raise ScenarioError("--out", str(path), f"a file in an existing folder (folder "
                                 f"{str(path.parent)!r} does not exist)")
-        if resume and path.exists():
+        kind = _file_kind(path)
+        if kind not in (None, "file"):
+            raise ScenarioError("--out", str(path), f"a regular file (it is {kind})")
+        if resume and kind == "file":
             self._read_done()
             self.fh = open(path, "a", encoding="utf-8", newline="")
         else:
-            if path.exists() and not resume:
+            try:
+                self.fh = open(path, "x", encoding="utf-8", newline="")
+            except FileExistsError:
                 raise ScenarioError("--out", str(path), "a new file (it exists; give --resume "
-                                    "to continue it or remove it)")
-            self.fh = open(path, "w", encoding="utf-8", newline="")
+                                    "to continue it or remove it)") from None
             if not self.jsonl:
                 self._write_line(self._csv_line(columns))
 
+    def _refuse(self, why: str) -> ScenarioError:
+        return ScenarioError("--resume", str(self.path), f"a file written by this sweep ({why}; "
+                             "give a new --out)")
+
     def _read_done(self) -> None:
         data = self.path.read_bytes()
-        if data and not data.endswith(b"\n"):
-            # an interrupted write left a partial last line: drop it
-            cut = data.rfind(b"\n") + 1
-            with open(self.path, "r+b") as fh:
-                fh.truncate(cut)
-            data = data[:cut]
-        text = data.decode("utf-8")
+        cut = len(data) if not data or data.endswith(b"\n") else data.rfind(b"\n") + 1
+        try:
+            text = data[:cut].decode("utf-8")
+        except UnicodeDecodeError:
+            raise self._refuse("it is not UTF-8 text") from None
+        other = "its rows come from another scenario, envelope file or seed"
         if self.jsonl:
             for line in text.splitlines():
                 try:
-                    self.done.add(json.loads(line)["key"])
+                    rec = json.loads(line)
+                    key, fp = rec["key"], rec.get("sweep")
                 except (ValueError, KeyError, TypeError):
                     continue
+                if fp != self.fingerprint:
+                    raise self._refuse(other)
+                self.done.add(key)
         else:
             reader = csv.reader(io.StringIO(text))
             header = next(reader, None)
             if header is not None and header != self.columns:
-                raise ScenarioError("--resume", str(self.path), "a file written by the same "
-                                    "sweep (its columns differ)")
+                raise self._refuse("its columns differ")
+            at = self.columns.index("sweep")
             for rec in reader:
-                if len(rec) == len(header):
+                if header is not None and len(rec) == len(header):
+                    if rec[at] != self.fingerprint:
+                        raise self._refuse(other)
                     self.done.add(rec[0])
+        if cut < len(data):
+            # an interrupted write left a partial last line: drop it
+            with open(self.path, "r+b") as fh:
+                fh.truncate(cut)
         if not text:
             with open(self.path, "w", encoding="utf-8", newline="") as fh:
                 if not self.jsonl:
@@ -403,6 +668,27 @@ class _RowWriter:
 
     def close(self) -> None:
         self.fh.close()
+
+
+def _file_kind(path: Path) -> str | None:
+    """None when nothing is at ``path``, "file" for a regular file, else what is there."""
+    import stat
+
+    try:
+        mode = os.lstat(path).st_mode
+    except FileNotFoundError:
+        return None
+    if stat.S_ISLNK(mode):
+        return "a symbolic link"
+    if stat.S_ISREG(mode):
+        return "file"
+    if stat.S_ISDIR(mode):
+        return "a folder"
+    if stat.S_ISFIFO(mode):
+        return "a FIFO"
+    if stat.S_ISCHR(mode) or stat.S_ISBLK(mode):
+        return "a device"
+    return "not a regular file"
 
 
 def _cell(v: Any) -> Any:
@@ -453,6 +739,11 @@ class SweepResult:
                 "out": self.out, "percentiles": self.percentiles(),
                 "cautions": list(self.cautions)}
 
+    @property
+    def internal(self) -> int:
+        """Rows that failed on an internal error (a bug), not on their input."""
+        return sum(1 for r in self.rows if str(r.get("error") or "").startswith(INTERNAL))
+
     def summary(self) -> str:
         return (f"{self.scenario}: {len(self.rows)} rows, {self.skipped} resumed, "
                 f"{self.failed} failed")
@@ -463,12 +754,16 @@ def run_sweep(plan: SweepPlan, out: str | os.PathLike | None = None, resume: boo
               progress: Callable[[int], None] | None = None) -> SweepResult:
     """Run the rows of ``plan`` (skipping those already in ``out`` with ``resume``).
 
+    A row that fails is recorded with its one-line error and the others still run; the
+    rows written stay in ``out`` whatever happens later (each is flushed as it finishes).
+
     Parameters
     ----------
     out
         CSV or JSON-lines file; each row is appended and flushed as it finishes.
     workers
-        Processes (1 = in this process).
+        Processes (1 = in this process); at most the CPUs of this machine
+        (:func:`cpu_cap`) unless ``scheduler`` is given.
     scheduler
         A Dask scheduler address (or a ``dask.distributed.Client``): run there instead.
     progress
@@ -476,12 +771,18 @@ def run_sweep(plan: SweepPlan, out: str | os.PathLike | None = None, resume: boo
     """
     from .simulate import CAUTION
 
-    columns = ["key"] + plan.paths + [f"{p}.{f}" for p in plan.probes
-                                      for f in ("peak_C", "mean_C", "margin_K")] + ["ok", "error"]
-    writer = _RowWriter(Path(out), columns, resume) if out is not None else None
-    todo = plan.rows
+    if scheduler is None:
+        cap = cpu_cap()
+        if isinstance(workers, bool) or not isinstance(workers, int) or not 1 <= workers <= cap:
+            raise ScenarioError("--workers", workers, f"a whole number from 1 to {cap} (the "
+                                "CPUs of this machine; a cluster takes --scheduler)")
+    columns = ["key", "sweep"] + plan.paths + [f"{p}.{f}" for p in plan.probes
+                                               for f in ("peak_C", "mean_C", "margin_K")] \
+        + ["ok", "error"]
+    writer = (_RowWriter(Path(out), columns, resume, plan.fingerprint)
+              if out is not None else None)
     done_keys = writer.done if writer is not None else set()
-    todo = [r for r in plan.rows if row_key(r, plan.scenario) not in done_keys]
+    todo = [(k, r) for k, r in ((plan.key(r), r) for r in plan.rows) if k not in done_keys]
     skipped = len(plan.rows) - len(todo)
     rows: list[dict[str, Any]] = []
     count = skipped
@@ -490,6 +791,8 @@ def run_sweep(plan: SweepPlan, out: str | os.PathLike | None = None, resume: boo
 
     def finish(row: dict[str, Any]) -> None:
         nonlocal count
+        row = {"key": row["key"], "sweep": plan.fingerprint,
+               **{k: v for k, v in row.items() if k != "key"}}
         rows.append(row)
         if writer is not None:
             writer.write(row)
@@ -501,8 +804,11 @@ def run_sweep(plan: SweepPlan, out: str | os.PathLike | None = None, resume: boo
         if scheduler is not None:
             _run_dask(plan, todo, scheduler, finish)
         elif workers <= 1 or len(todo) <= 1:
-            for values in todo:
-                finish(run_row(plan.scenario, values))
+            from .sweepcache import ModelCache
+
+            cache = ModelCache()
+            for key, values in todo:
+                finish(run_row(plan.scenario, values, key, cache))
         else:
             _run_pool(plan, todo, workers, finish)
     finally:
@@ -532,17 +838,25 @@ def _start_method(env: dict[str, str | None]) -> str:
     return "forkserver" if "forkserver" in methods else "spawn"
 
 
-def _run_pool(plan: SweepPlan, todo: list[dict[str, Any]], workers: int,
+#: Times a pool whose worker process died is started again before the rest of the rows are
+#: recorded as failed.
+POOL_RESTARTS = 3
+
+
+def _run_pool(plan: SweepPlan, todo: list[tuple[str, dict[str, Any]]], workers: int,
               finish: Callable[[dict[str, Any]], None]) -> None:
     """Rows on ``workers`` processes.
 
     The base scenario goes to each worker once (the pool initializer); a task carries only
-    the varied values of a few rows (:func:`chunk_size`).  The one-thread BLAS environment
-    is set before any worker (or the forkserver) starts; workers are forked directly when
-    that is safe (:func:`_start_method`), else from a forkserver that imports the solver
-    modules once, so each worker starts ready to run."""
+    the keys and varied values of a few rows (:func:`chunk_size`).  The one-thread BLAS
+    environment is set before any worker (or the forkserver) starts; workers are forked
+    directly when that is safe (:func:`_start_method`), else from a forkserver that imports
+    the solver modules once, so each worker starts ready to run.  A worker process that
+    dies (killed, out of memory) fails the rows it held; the pool is started again for the
+    others (at most :data:`POOL_RESTARTS` times)."""
     import multiprocessing as mp
     from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
+    from concurrent.futures.process import BrokenProcessPool
 
     saved = {k: os.environ.get(k) for k in ONE_THREAD}
     method = _start_method(saved)
@@ -553,24 +867,48 @@ def _run_pool(plan: SweepPlan, todo: list[dict[str, Any]], workers: int,
                                     "pulsetherm.network.modal", "pulsetherm.network.builder"])
     size = chunk_size(len(todo), workers)
     chunks = [todo[i:i + size] for i in range(0, len(todo), size)]
+
+    def lost(chunk, why: str) -> None:
+        for key, values in chunk:
+            finish({"key": key, **values, "ok": False, "error": why})
+
     try:
-        with ProcessPoolExecutor(max_workers=workers, mp_context=ctx,
-                                 initializer=_init_worker,
-                                 initargs=(plan.scenario.to_dict(), plan.scenario.source)) as ex:
-            # a bounded number of tasks in flight: results stream back in order of
-            # completion and an interruption loses little work
-            it = iter(chunks)
-            pending = set()
-            for chunk in itertools.islice(it, 3 * workers):
-                pending.add(ex.submit(_worker_chunk, chunk))
-            while pending:
-                done, pending = wait(pending, return_when=FIRST_COMPLETED)
-                for fut in done:
-                    for row in fut.result():
-                        finish(row)
-                    nxt = next(it, None)
-                    if nxt is not None:
-                        pending.add(ex.submit(_worker_chunk, nxt))
+        it = iter(chunks)
+        restarts = 0
+        while True:
+            pending: dict[Any, Any] = {}
+            try:
+                with ProcessPoolExecutor(max_workers=workers, mp_context=ctx,
+                                         initializer=_init_worker,
+                                         initargs=(plan.scenario.to_dict(),
+                                                   plan.scenario.source,
+                                                   getattr(plan.scenario, "allow_paths",
+                                                           ()))) as ex:
+                    # a bounded number of tasks in flight: results stream back in order of
+                    # completion and an interruption loses little work
+                    for chunk in itertools.islice(it, 3 * workers):
+                        pending[ex.submit(_worker_chunk, chunk)] = chunk
+                    while pending:
+                        done, _ = wait(pending, return_when=FIRST_COMPLETED)
+                        for fut in done:
+                            got = fut.result()  # a dead worker raises here
+                            del pending[fut]
+                            for row in got:
+                                finish(row)
+                            nxt = next(it, None)
+                            if nxt is not None:
+                                pending[ex.submit(_worker_chunk, nxt)] = nxt
+                return
+            except BrokenProcessPool as exc:
+                why = (f"{INTERNAL} (a worker process ended unexpectedly: "
+                       f"{' '.join(str(exc).split()) or 'killed'}); the rows it held were lost")
+                for chunk in pending.values():
+                    lost(chunk, why)
+                restarts += 1
+                if restarts > POOL_RESTARTS:
+                    for chunk in it:
+                        lost(chunk, why)
+                    return
     finally:
         for k, v in saved.items():
             if v is None:
@@ -579,8 +917,11 @@ def _run_pool(plan: SweepPlan, todo: list[dict[str, Any]], workers: int,
                 os.environ[k] = v
 
 
-def _run_dask(plan: SweepPlan, todo: list[dict[str, Any]], scheduler: Any,
+def _run_dask(plan: SweepPlan, todo: list[tuple[str, dict[str, Any]]], scheduler: Any,
               finish: Callable[[dict[str, Any]], None]) -> None:
+    """Rows on a Dask cluster.  The base scenario and the content of every file it reads
+    (:attr:`SweepPlan.files`, resolved in this process) are scattered to the workers once;
+    a worker never reads a file of its own folders."""
     try:
         from dask.distributed import Client, as_completed
     except ImportError:
@@ -594,15 +935,22 @@ def _run_dask(plan: SweepPlan, todo: list[dict[str, Any]], scheduler: Any,
                             f"({exc})") from None
     try:
         base = client.scatter(plan.scenario.to_dict(), broadcast=True)
-        futures = [client.submit(_dask_row, base, values, pure=False) for values in todo]
+        files = client.scatter([plan.files], broadcast=True)[0]
+        futures = {client.submit(_dask_row, base, files, plan.fingerprint, key, values,
+                                 pure=False): (key, values) for key, values in todo}
         for fut in as_completed(futures):
-            finish(fut.result())
+            try:
+                row = fut.result()
+            except Exception as exc:  # noqa: BLE001 - a lost worker fails its row only
+                key, values = futures[fut]
+                row = {"key": key, **values, "ok": False, "error": _failure(exc)}
+            finish(row)
     finally:
         if own:
             client.close()
 
 
 def sweep(scn: Scenario, vary: Sequence[str] = (), mc: Sequence[str] = (), samples: int = 100,
-          seed: int = 0, **run_options: Any) -> SweepResult:
+          seed: int = 0, paired: Sequence[str] = (), **run_options: Any) -> SweepResult:
     """Plan and run a sweep in one call (see :func:`plan_sweep`, :func:`run_sweep`)."""
-    return run_sweep(plan_sweep(scn, vary, mc, samples, seed), **run_options)
+    return run_sweep(plan_sweep(scn, vary, mc, samples, seed, paired), **run_options)

@@ -178,17 +178,330 @@ def test_out_into_a_missing_folder_names_the_option(tmp_path, capsys):
     assert not (tmp_path / "nodir").exists()
 
 
-def test_resume_does_not_reuse_rows_of_an_edited_scenario(scn, tmp_path):
+def test_resume_refuses_rows_of_an_edited_scenario(scn, tmp_path):
     """Rows were keyed by the varied values only: after an edit of the base scenario,
-    --resume skipped every row and kept the old figures.  Common practice, no source."""
+    --resume skipped every row and kept the old figures; then the edited rows were appended
+    to the old ones in one file.  Resuming onto another sweep's file is refused, the file
+    untouched.  Common practice, no source."""
     out = tmp_path / "rows.csv"
     plan = plan_sweep(scn, vary=["mount.sink.resistance=0.2 K/W,0.3 K/W"])
     run_sweep(plan, out=out)
     assert run_sweep(plan, out=out, resume=True).skipped == 2
+    before = out.read_bytes()
     edited = plan_sweep(scn.with_value("coolant", "60 degC"),
                         vary=["mount.sink.resistance=0.2 K/W,0.3 K/W"])
-    again = run_sweep(edited, out=out, resume=True)
-    assert again.skipped == 0 and len(again.rows) == 2
+    with pytest.raises(ValueError, match="another scenario, envelope file or seed"):
+        run_sweep(edited, out=out, resume=True)
+    assert out.read_bytes() == before
+    # a new file for the edited scenario gives its own figures
+    again = run_sweep(edited, out=tmp_path / "edited.csv")
     single = simulate(scn.with_value("coolant", "60 degC")
                       .with_value("mount.sink.resistance", "0.2 K/W"))
     assert again.rows[0]["pa.junction.peak_C"] == single.probes["pa.junction"].peak_C
+
+
+# -- provenance: the fingerprint of scenario, envelope files and seed ---------------------
+ENV_TOML = TEXT.replace('''[waveforms.p]
+kind = "pulses"
+peak = "40 W"
+width = "100 us"
+period = "1 ms"''', '''[waveforms.p]
+kind = "table"
+file = "env.csv"
+interp = "step"
+periodic = true
+period = "1 ms"''')
+
+
+def _envelope_case(folder, peak="40"):
+    folder.mkdir(exist_ok=True)
+    (folder / "env.csv").write_text(f"time_us,power_W\n0,{peak}\n100,0\n1000,0\n")
+    (folder / "s.toml").write_text(ENV_TOML)
+    return folder / "s.toml"
+
+
+def test_resume_refuses_another_seed_or_envelope(tmp_path, capsys):
+    """--resume onto a file made with another seed or another content of the CSV envelope
+    (same scenario text) mixed rows silently; refused with exit 2, one line naming the
+    file.  Common practice, no source."""
+    f = _envelope_case(tmp_path / "case")
+    out = tmp_path / "rows.jsonl"
+    args = ["sweep", str(f), "--no-progress", "--mc", "mount.sink.resistance=normal:0.02 K/W",
+            "--samples", "3", "--out", str(out)]
+    assert main(args + ["--seed", "1"]) == 0
+    assert main(args + ["--seed", "1", "--resume"]) == 0
+    capsys.readouterr()
+    before = out.read_bytes()
+    assert main(args + ["--seed", "2", "--resume"]) == 2
+    err = capsys.readouterr().err.strip()
+    assert len(err.splitlines()) == 1 and str(out) in err and "seed" in err
+    (tmp_path / "case" / "env.csv").write_text("time_us,power_W\n0,50\n100,0\n1000,0\n")
+    assert main(args + ["--seed", "1", "--resume"]) == 2
+    assert str(out) in capsys.readouterr().err
+    assert out.read_bytes() == before
+
+
+def test_dask_ships_the_envelope_from_another_working_folder(tmp_path, monkeypatch):
+    """A Dask worker read a table CSV relative to its own working folder, not the
+    scenario's: from another folder that holds a different env.csv the rows silently used
+    it.  The envelope travels with the task.  Reference: the serial rows (common practice,
+    no source)."""
+    distributed = pytest.importorskip("dask.distributed")
+    from pulsetherm.network.scenario import load
+
+    f = _envelope_case(tmp_path / "case", peak="40")
+    elsewhere = tmp_path / "elsewhere"
+    _envelope_case(elsewhere, peak="400")  # a decoy with ten times the power
+    plan = plan_sweep(load(f), vary=["mount.sink.resistance=0.1..0.3 K/W:3"])
+    serial = {r["key"]: r for r in run_sweep(plan).rows}
+    assert all(not r["error"] for r in serial.values())
+    monkeypatch.chdir(elsewhere)
+    with distributed.LocalCluster(processes=False, n_workers=1, threads_per_worker=1,
+                                  dashboard_address=None) as cluster:
+        res = run_sweep(plan, scheduler=cluster.scheduler_address)
+    assert {r["key"]: r for r in res.rows} == serial
+
+
+# -- paired axes ----------------------------------------------------------------------
+def test_zip_steps_paths_together(scn):
+    """--zip pairs values row by row (3 rows, not 9) and combines with a --vary axis as one
+    more grid axis; each row equals the single run of its values.  Common practice, no
+    source."""
+    plan = plan_sweep(scn, vary=["coolant=20 degC,40 degC"],
+                      paired=["mount.sink.resistance=0.1,0.2,0.3 K/W",
+                              "waveforms.p.peak=10 W,20 W,30 W"])
+    assert plan.size == 6
+    pairs = {(r["mount.sink.resistance"], r["waveforms.p.peak"]) for r in plan.rows}
+    assert pairs == {("0.1 K/W", "10 W"), ("0.2 K/W", "20 W"), ("0.3 K/W", "30 W")}
+    one = plan_sweep(scn, paired=["mount.sink.resistance=0.1,0.2,0.3 K/W; "
+                                  "waveforms.p.peak=10 W,20 W,30 W"])
+    assert one.rows == [{k: v for k, v in r.items() if k != "coolant"}
+                        for r in plan.rows[:3]]
+    res = run_sweep(plan)
+    for row in res.rows:
+        single = simulate(scn.with_value("coolant", row["coolant"])
+                          .with_value("mount.sink.resistance", row["mount.sink.resistance"])
+                          .with_value("waveforms.p.peak", row["waveforms.p.peak"]))
+        assert row["pa.junction.peak_C"] == pytest.approx(
+            single.probes["pa.junction"].peak_C, rel=1e-12, abs=1e-12)
+
+
+def test_zip_of_unequal_lengths_names_every_axis(scn, tmp_path, capsys):
+    """Common practice, no source."""
+    with pytest.raises(ValueError) as exc:
+        plan_sweep(scn, paired=["mount.sink.resistance=0.1,0.2,0.3 K/W",
+                                "waveforms.p.peak=10 W,20 W"])
+    msg = str(exc.value)
+    assert "--zip" in msg and "mount.sink.resistance has 3" in msg \
+        and "waveforms.p.peak has 2" in msg
+    f = tmp_path / "s.toml"
+    f.write_text(TEXT)
+    assert main(["sweep", str(f), "--no-progress", "--zip", "coolant=20 degC,30 degC",
+                 "--zip", "waveforms.p.peak=10 W"]) == 2
+    err = capsys.readouterr().err
+    assert "coolant has 2" in err and "Traceback" not in err
+
+
+# -- failed rows and exit status ------------------------------------------------------
+def test_failed_rows_exit_1_and_keep_the_others(tmp_path, capsys):
+    """A sweep whose rows failed exited 0.  Now: exit 1, the count on stderr, every row in
+    the file (failed ones with their one-line error).  Common practice, no source."""
+    f = tmp_path / "s.toml"
+    f.write_text(TEXT)
+    out = tmp_path / "rows.csv"
+    code = main(["sweep", str(f), "--no-progress", "--out", str(out),
+                 "--vary", "waveforms.p.width=100 us,2 ms,5 ms"])
+    err = capsys.readouterr().err
+    assert code == 1 and "2 of 3 rows failed" in err and str(out) in err
+    rows = list(csv.DictReader(out.read_text().splitlines()))
+    assert len(rows) == 3
+    assert rows[0]["error"] == "" and float(rows[0]["pa.junction.peak_C"]) > 30
+    assert all("width" in r["error"] and "\n" not in r["error"] for r in rows[1:])
+    code = main(["sweep", str(f), "--no-progress", "--vary", "waveforms.p.width=2 ms,3 ms"])
+    assert code == 1 and "2 of 2 rows failed" in capsys.readouterr().err
+
+
+def test_an_internal_error_in_a_row_fails_that_row_only(scn, tmp_path, monkeypatch, capsys):
+    """An unexpected exception (a bug) in one row used to end the sweep; it is recorded as
+    a failed row asking for a report, the other rows run and the file keeps them; the
+    command exits 3 (internal error).  Common practice, no source."""
+    import importlib
+
+    sim = importlib.import_module("pulsetherm.network.simulate")
+    real = sim.simulate
+
+    def flaky(s):
+        model = s.scenario if hasattr(s, "scenario") else s
+        if model.get_value("mount.sink.resistance") == "0.2 K/W":
+            raise TypeError("boom")
+        return real(s)
+
+    monkeypatch.setattr(sim, "simulate", flaky)
+    out = tmp_path / "rows.csv"
+    res = run_sweep(plan_sweep(scn, vary=["mount.sink.resistance=0.1,0.2,0.3 K/W"]), out=out)
+    assert res.failed == 1 and res.internal == 1
+    assert res.rows[1]["error"].startswith("internal error (TypeError: boom)")
+    assert not res.rows[0]["error"] and not res.rows[2]["error"]
+    assert len(list(csv.DictReader(out.read_text().splitlines()))) == 3
+    f = tmp_path / "s.toml"
+    f.write_text(TEXT)
+    code = main(["sweep", str(f), "--no-progress", "--vary",
+                 "mount.sink.resistance=0.1,0.2 K/W"])
+    err = capsys.readouterr().err
+    assert code == 3 and "1 of 2 rows failed" in err and "bug" in err
+
+
+# -- caps -----------------------------------------------------------------------------
+def test_sweep_sizes_are_capped_before_anything_is_made(scn, tmp_path, capsys, monkeypatch):
+    """A sweep of 10^9 rows ran out of memory.  The count is checked before a value or a row
+    is made, with the cap in the message.  Common practice, no source."""
+    import pulsetherm.network.units as units
+    from pulsetherm.network.sweep import MAX_ROWS
+
+    def never(*a, **k):
+        raise AssertionError("values made before the count was checked")
+
+    monkeypatch.setattr(units, "parse_range", never)
+    with pytest.raises(ValueError, match=f"at most {MAX_ROWS} rows"):
+        plan_sweep(scn, vary=["mount.sink.resistance=0.1..0.5 K/W:1000000000"])
+    with pytest.raises(ValueError, match=f"at most {MAX_ROWS} rows"):
+        plan_sweep(scn, vary=["mount.sink.resistance=0.1..0.5 K/W:" + "9" * 2000])
+    monkeypatch.undo()
+    with pytest.raises(ValueError, match=f"at most {MAX_ROWS} rows"):
+        plan_sweep(scn, mc=["mount.sink.resistance=normal:1%"], samples=10 ** 9)
+    with pytest.raises(ValueError, match=r"400 x 400 x 400.*at most"):
+        plan_sweep(scn, vary=["mount.sink.resistance=0.1..0.5 K/W:400",
+                              "waveforms.p.peak=1..100 W:400", "coolant=0..100 degC:400"])
+    f = tmp_path / "s.toml"
+    f.write_text(TEXT)
+    assert main(["sweep", str(f), "--no-progress", "--mc", "coolant=normal:1 K",
+                 "--samples", "1000000000"]) == 2
+    assert f"{MAX_ROWS}" in capsys.readouterr().err
+
+
+def test_workers_are_capped_at_the_cpu_count(scn, tmp_path, capsys):
+    """--workers 10000 started ten thousand processes.  Capped at the CPUs of the machine
+    (a cluster takes --scheduler).  Common practice, no source."""
+    from pulsetherm.network.sweep import cpu_cap
+
+    f = tmp_path / "s.toml"
+    f.write_text(TEXT)
+    cap = cpu_cap()
+    assert main(["sweep", str(f), "--no-progress", "--vary", "coolant=20 degC,30 degC",
+                 "--workers", str(cap + 1)]) == 2
+    err = capsys.readouterr().err
+    assert f"from 1 to {cap}" in err and len(err.strip().splitlines()) == 1
+    with pytest.raises(ValueError, match=f"from 1 to {cap}"):
+        run_sweep(plan_sweep(scn, vary=["coolant=20 degC,30 degC"]), workers=cap + 1)
+
+
+def test_out_must_be_a_regular_file(scn, tmp_path):
+    """--out onto a FIFO or a symbolic link is refused (nothing written through it).
+    Common practice, no source."""
+    import os
+
+    plan = plan_sweep(scn, vary=["coolant=20 degC,30 degC"])
+    target = tmp_path / "real.csv"
+    run_sweep(plan, out=target)
+    link = tmp_path / "link.csv"
+    link.symlink_to(target)
+    with pytest.raises(ValueError, match="symbolic link"):
+        run_sweep(plan, out=link, resume=True)
+    fifo = tmp_path / "pipe.csv"
+    os.mkfifo(fifo)
+    with pytest.raises(ValueError, match="FIFO"):
+        run_sweep(plan, out=fifo, resume=True)
+
+
+# -- reuse of the built network ---------------------------------------------------------
+LINE_TOML = """name = "line and termination"
+coolant = "50 degC"
+[waveforms.rf]
+kind = "pulses"
+peak = "10 W"
+width = "50 us"
+period = "1 ms"
+[waveforms.load]
+kind = "pulses"
+peak = "9.5 W"
+width = "50 us"
+period = "1 ms"
+[board]
+size = ["30 mm", "20 mm"]
+[[board.layers]]
+name = "top-copper"
+material = "pcb-copper"
+thickness = "35 um"
+[[board.layers]]
+name = "laminate"
+material = "ptfe-ceramic"
+thickness = "0.508 mm"
+[[board.layers]]
+name = "ground"
+material = "pcb-copper"
+thickness = "35 um"
+[mount.sink]
+kind = "fixed"
+[[lines]]
+name = "feed"
+power = "rf"
+length = "25 mm"
+frequency = "3 GHz"
+impedance = "50 ohm"
+permittivity = 3.0
+loss_tangent = 0.0013
+limit = "150 degC"
+segments = 6
+[[heaters]]
+name = "term"
+power = "load"
+line = "feed"
+position = "24 mm"
+length = "2 mm"
+resistance = "10 K/W"
+capacity = "5 mJ/K"
+limit = "150 degC"
+[[devices]]
+name = "pa"
+power = "rf"
+footprint = ["1 mm", "1 mm"]
+position = ["-8 mm", "0 mm"]
+limit = "200 degC"
+[[devices.stack]]
+name = "die"
+material = "sic-4h"
+thickness = "100 um"
+size = ["1.2 mm", "1.2 mm"]
+"""
+
+
+@pytest.mark.parametrize("axes", [
+    ["waveforms.rf.peak=5 W,15 W", "waveforms.load.peak=4 W,9 W"],
+    ["waveforms.rf.width=50 us,20 us,50 us"],  # the device's shortest feature: rebuilt
+    pytest.param(["waveforms.rf.period=1 ms,2 ms", "board.layers[1].thickness=0.5 mm,0.8 mm"],
+                 marks=pytest.mark.slow),
+])
+def test_rows_reusing_a_built_network_equal_single_runs(axes):
+    """Rows whose axes change only waveforms reuse the network (and its eigendecomposition)
+    built for an earlier row; each equals a single run of its scenario to 1e-12, for a
+    device, a line (its RF power turned into heat) and a line heater.  Common practice, no
+    source; the reference is the single run."""
+    from pulsetherm.network.sweepcache import ModelCache
+
+    scn = loads(LINE_TOML)
+    plan = plan_sweep(scn, vary=axes)
+    cache = ModelCache()
+    from pulsetherm.network.sweep import run_row
+
+    rows = [run_row(scn, values, plan.key(values), cache) for values in plan.rows]
+    assert cache.hits >= 1
+    for row in rows:
+        assert not row["error"], row["error"]
+        s = scn
+        for p in plan.paths:
+            s = s.with_value(p, row[p])
+        single = simulate(s)
+        for name, p in single.probes.items():
+            for what in ("peak_C", "mean_C"):
+                assert row[f"{name}.{what}"] == pytest.approx(getattr(p, what), rel=1e-12,
+                                                              abs=1e-12), (name, what)
