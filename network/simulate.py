@@ -719,8 +719,14 @@ def _add_lines(model: ScenarioModel, lib) -> None:
             if h.name in bl.heater_nodes:
                 node = bl.heater_nodes[h.name]
             else:
-                shares = rl._footprint_shares(pts[[x.name for x in pts].index(h.name)])
-                node = bl.top_nodes[max(shares, key=shares.get)]
+                # the hottest copper node under the footprint (resolved after the solve,
+                # as a line's hot spot); until then the one under the heater's centre
+                hp = pts[[x.name for x in pts].index(h.name)]
+                under = [bl.top_nodes[k] for k in sorted(rl._footprint_shares(hp))]
+                model.groups[h.name] = under
+                k = int(np.clip(np.searchsorted(bl.edges, hp.position, side="right") - 1,
+                                0, len(bl.top_nodes) - 1))
+                node = bl.top_nodes[k] if bl.top_nodes[k] in under else under[0]
             model.probes[h.name] = node
             if h.limit is not None:
                 model.limits[h.name] = h.limit.degC
