@@ -67,9 +67,12 @@ class SizingResult:
     note: str = ""
     history: list[tuple[str, float]] = field(default_factory=list)
     cautions: list[str] = field(default_factory=list)
+    #: unit of the binding row: degC, or dB / deg for a [devices.rf] limit
+    binding_unit: str = "degC"
 
     def to_dict(self) -> dict[str, Any]:
         return {"adjust": self.adjust, "kind": self.kind, "value": self.value,
+                "binding_unit": self.binding_unit,
                 "value_text": self.value_text, "beyond_text": self.beyond_text,
                 "unit": self.unit, "margin_K": self.margin_K,
                 "binding_probe": self.binding_probe, "binding_peak_C": self.binding_peak_C,
@@ -88,13 +91,26 @@ def _evaluate(scn: Scenario, path: str, text: str, margin: float):
     from .simulate import simulate
 
     res = simulate(scn.with_value(path, text))
-    limited = [(p.limit_C - p.peak_C, name, p) for name, p in res.probes.items()
-               if p.limit_C is not None]
+    limited = [(p.limit_C - p.peak_C - margin, name, p.peak_C, p.limit_C)
+               for name, p in res.probes.items() if p.limit_C is not None]
+    if getattr(res, "effects", None) is not None:
+        # [devices.rf] limits (droop, stability, phase p-p; dB or deg): held like a
+        # temperature limit, the margin in K does not apply to them
+        limited += [(s, n, v, lim) for s, n, v, lim, _u in res.effects.slack()]
     if not limited:
         raise SizingError("limits", None, "at least one probe with a limit (a device limit, "
                           "a line limit or a probe limit) to size against")
-    slack, name, p = min(limited, key=lambda x: x[0])
-    return slack - margin, name, p.peak_C, p.limit_C, res
+    slack, name, value, lim = min(limited, key=lambda x: x[0])
+    return slack, name, value, lim, res
+
+
+def _unit_of(out) -> str:
+    """Unit of the binding row of an evaluation: degC, or dB/deg for a [devices.rf] limit."""
+    eff = getattr(out[4], "effects", None)
+    for _s, n, _v, _l, u in (eff.slack() if eff is not None else ()):
+        if n == out[1]:
+            return u
+    return "degC"
 
 
 def size(scn: Scenario, adjust: str, range_text: str, margin: float = 0.0,
@@ -154,11 +170,13 @@ def size(scn: Scenario, adjust: str, range_text: str, margin: float = 0.0,
     if g_lo[0] >= 0 and g_hi[0] >= 0:
         worst, wx = (g_lo, lo) if g_lo[0] <= g_hi[0] else (g_hi, hi)
         kind_txt = "largest" if wx == max(lo, hi) else "smallest"
-        return SizingResult(adjust, kind_txt, wx, scale.text(wx), None, unit, margin,
-                            worst[1], worst[2], worst[3], 2, True,
-                            f"the whole range {range_text} keeps every limit; the limit is "
-                            f"not reached inside it (least slack {worst[0]:.3g} K at "
-                            f"{scale.text(wx)})", history, cautions or [CAUTION])
+        out = SizingResult(adjust, kind_txt, wx, scale.text(wx), None, unit, margin,
+                           worst[1], worst[2], worst[3], 2, True,
+                           f"the whole range {range_text} keeps every limit; the limit is "
+                           f"not reached inside it (least slack {worst[0]:.3g} K at "
+                           f"{scale.text(wx)})", history, cautions or [CAUTION])
+        out.binding_unit = _unit_of(worst)
+        return out
     good, bad = (lo, hi) if g_lo[0] >= 0 else (hi, lo)
     g_good = g_lo if g_lo[0] >= 0 else g_hi
     n = 2
@@ -174,7 +192,9 @@ def size(scn: Scenario, adjust: str, range_text: str, margin: float = 0.0,
     # the value reported is the one simulated: the number of its text (10 digits), not the
     # unrounded midpoint, which may lie a rounding step beyond it
     good_text = scale.text(good)
-    return SizingResult(adjust, kind_txt, split_unit(good_text)[0], good_text,
-                        scale.text(bad), unit,
-                        margin, g_good[1], g_good[2], g_good[3], n, False, "", history,
-                        cautions or [CAUTION])
+    out = SizingResult(adjust, kind_txt, split_unit(good_text)[0], good_text,
+                       scale.text(bad), unit,
+                       margin, g_good[1], g_good[2], g_good[3], n, False, "", history,
+                       cautions or [CAUTION])
+    out.binding_unit = _unit_of(g_good)
+    return out

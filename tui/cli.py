@@ -261,7 +261,10 @@ def _cmd_check(args: argparse.Namespace) -> int:
 
     margin = _margin(args.margin)
     scn = _load(args)
-    chk = judge(simulate(scn), margin)
+    from pulsetherm.network.device_effects import check_rows  # droop/stability limits
+
+    res = simulate(scn)
+    chk = judge(res, margin, extra=check_rows(res.effects))
     _out(check_text(chk))
     return EXIT_LIMIT if chk.failed else EXIT_OK
 

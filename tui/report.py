@@ -111,6 +111,9 @@ def run_table(res: Any) -> str:
                           for v in d["via_fields"]], align="llrrrl"))
     out.append("")
     out.append(f"warm-up (99 % of the periodic state): {_fmt(d['warmup_s'])} s")
+    from .effects_report import effects_lines  # [devices.rf] / [devices.cycling]
+
+    out += effects_lines(d)
     if d["cautions"]:
         out.append("")
         out += _cautions(d["cautions"])
@@ -123,7 +126,12 @@ def check_text(chk: Any) -> str:
     d = chk.to_dict()
     out = [f"scenario: {d['scenario']}  (required margin {d['margin_K']:g} K)"]
     rows = [[r["name"], r["value"], r["limit"], r["margin"], r["status"]] for r in d["rows"]]
-    if rows:
+    if any(r.get("unit", "degC") != "degC" for r in d["rows"]):
+        # signal limits ([devices.rf]) in dB or deg: the unit of each row is shown
+        rows = [row + [r.get("unit", "degC")] for row, r in zip(rows, d["rows"])]
+        out.append(table(["probe", "peak/value", "limit", "margin", "status", "unit"], rows,
+                         align="lrrrll"))
+    elif rows:
         out.append(table(["probe", "peak degC", "limit degC", "margin K", "status"], rows,
                          align="lrrrl"))
     else:
@@ -229,8 +237,11 @@ def sizing_text(res: Any) -> str:
     d = res.to_dict()
     out = [f"{d['adjust']}: {d['kind']} value keeping every limit with {d['margin_K']:g} K "
            f"margin = {_short_quantity(d['value_text'], toward=_safe_side(d['kind']))}",
-           f"binding probe: {d['binding_probe']} (peak {d['binding_peak_C']:.2f} degC, "
-           f"limit {d['binding_limit_C']:.2f} degC)",
+           (f"binding probe: {d['binding_probe']} (peak {d['binding_peak_C']:.2f} degC, "
+            f"limit {d['binding_limit_C']:.2f} degC)"
+            if d.get("binding_unit", "degC") == "degC" else
+            f"binding: {d['binding_probe']} ({_fmt(d['binding_peak_C'])} {d['binding_unit']}, "
+            f"limit {_fmt(d['binding_limit_C'])} {d['binding_unit']})"),
            f"evaluations: {d['evaluations']}"]
     if d.get("note"):
         out.append(d["note"])
