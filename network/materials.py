@@ -79,8 +79,12 @@ class Material:
         as a limit), or ``None``.
     caution
         Handling caution to show the user ("" = none).
+    permittivity, loss_tangent
+        Laminates only: relative permittivity εr and loss tangent tan δ of the class near
+        1-10 GHz (``None`` = not an RF dielectric / not known).  A line on the laminate
+        takes them unless its scenario gives its own.
     source
-        Where the values come from.
+        Where the values come from (the RF values' source included).
     description
         Plain description of the material class.
     """
@@ -93,6 +97,8 @@ class Material:
     k_exponent: float = 0.0
     t_max_K: float | None = None
     caution: str = ""
+    permittivity: float | None = None
+    loss_tangent: float | None = None
     source: str = ""
     description: str = ""
 
@@ -119,6 +125,18 @@ class Material:
                                     "absolute temperature in K between 200 and 5000 "
                                     "(130 degC is 403.15 K)")
             set_("t_max_K", t)
+        if self.permittivity is not None:
+            e = _positive(f"{where}: permittivity", self.permittivity)
+            if not 1.0 <= e <= 100.0:
+                raise MaterialError(f"{where}: permittivity = {self.permittivity!r}: expected "
+                                    "a relative permittivity between 1 and 100")
+            set_("permittivity", e)
+        if self.loss_tangent is not None:
+            d = _positive(f"{where}: loss_tangent", self.loss_tangent, allow_zero=True)
+            if d >= 1.0:
+                raise MaterialError(f"{where}: loss_tangent = {self.loss_tangent!r}: expected "
+                                    "a loss tangent in [0, 1) (0.02 for an FR-4 class)")
+            set_("loss_tangent", d)
         for text in ("caution", "source", "description"):
             value = getattr(self, text)
             if not isinstance(value, str):
@@ -209,7 +227,8 @@ class Material:
 # Fields that may be given as text with a unit ("390 W/mK", "8.9 g/cm3", "150 degC").
 _UNIT_KINDS = {"k": "conductivity", "k_inplane": "conductivity", "rho": "density",
                "c": "specific_heat", "t_max_K": "temperature", "t_max": "temperature",
-               "k_exponent": "dimensionless"}
+               "k_exponent": "dimensionless", "permittivity": "dimensionless",
+               "loss_tangent": "dimensionless"}
 
 
 def _with_unit(name: str, key: str, value: Any) -> float:

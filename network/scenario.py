@@ -1016,8 +1016,10 @@ class LineSpec(_Section):
     width: Quantity | None = _f("q", kind="length")
     impedance: Quantity | None = _f("q", kind="impedance")
     dielectric: str | None = _f("str", doc="laminate material (default: the board laminate)")
-    permittivity: float = _f("number", check="positive", required=True)
-    loss_tangent: float | None = _f("number", check="nonneg")
+    permittivity: float | None = _f("number", check="positive",
+                                    doc="relative permittivity (default: the laminate's)")
+    loss_tangent: float | None = _f("number", check="nonneg",
+                                    doc="loss tangent (default: the laminate's)")
     conductor: Quantity | None = _f("q", kind="thickness", doc="conductor thickness "
                                     "(default: the board's top copper layer)")
     roughness: Quantity | None = _f("q", kind="length", check="nonneg")

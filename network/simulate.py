@@ -428,6 +428,8 @@ class ScenarioModel:
     via_fields: list[dict[str, Any]] = field(default_factory=list)
     #: shortest time the stack-up network resolves, s (None: no stack-up was built)
     t_min: float | None = None
+    #: statements about defaults taken (shown with the cautions)
+    notes: list[str] = field(default_factory=list)
 
     @property
     def method(self) -> str:
@@ -443,6 +445,7 @@ class ScenarioModel:
         massless data-sheet devices (:func:`massless_caution`)."""
         out = [CAUTION]
         out += massless_caution(self.scenario)
+        out += [n for n in self.notes if n not in out]
         for mat in self.materials.values():
             if mat.caution and mat.caution not in out:
                 out.append(mat.caution)
@@ -682,11 +685,12 @@ def _add_lines(model: ScenarioModel, lib) -> None:
                                 "copper layer, give the strip's copper thickness")
         copper = top_mat if top_mat is not None and _is_metal(top_mat) else None
         heaters = [(j, h) for j, h in enumerate(scn.heaters or ()) if h.line == spec.name]
+        eps_r, tan_d = _line_dielectric(model, spec, path, lam)
         try:
-            ms = Microstrip(lam_spec.thickness.value, spec.permittivity,
+            ms = Microstrip(lam_spec.thickness.value, eps_r,
                             width=spec.width.value if spec.width else None,
                             z0_target=spec.impedance.value if spec.impedance else None,
-                            tan_delta=spec.loss_tangent or 0.0, thickness=t_cu,
+                            tan_delta=tan_d, thickness=t_cu,
                             frequency=spec.frequency.value,
                             roughness=spec.roughness.value if spec.roughness else 0.0)
             if ms.w * spec.length.value > W_board * L_board:
@@ -736,6 +740,30 @@ def _add_lines(model: ScenarioModel, lib) -> None:
         model.probes[probe] = bl.top_nodes[0]
         if rl.limit_c is not None:
             model.limits[probe] = float(rl.limit_c)
+
+
+def _line_dielectric(model: ScenarioModel, spec, path: str, lam) -> tuple[float, float]:
+    """The line's εr and tan δ: its own ``permittivity``/``loss_tangent``, else the values
+    of the laminate beneath it (library class values, stated in the run's notes), so a
+    change of laminate changes the line's electrical properties as well as its k."""
+    eps_r, tan_d = spec.permittivity, spec.loss_tangent
+    taken = []
+    if eps_r is None:
+        if lam.permittivity is None:
+            raise ScenarioError(_join(path, "permittivity"), None,
+                                f"missing; the laminate {lam.name!r} has no permittivity in "
+                                "the material library, give the line's (e.g. 3.0)")
+        eps_r = lam.permittivity
+        taken.append(f"permittivity {eps_r:g}")
+    if tan_d is None:
+        tan_d = lam.loss_tangent if lam.loss_tangent is not None else 0.0
+        if lam.loss_tangent is not None:
+            taken.append(f"loss tangent {tan_d:g}")
+    if taken:
+        model.notes.append(f"line {spec.name!r}: {' and '.join(taken)} from the laminate "
+                           f"{lam.name!r} (library class values; give the line's "
+                           "permittivity/loss_tangent from the laminate's data sheet)")
+    return float(eps_r), float(tan_d)
 
 
 def _line_error(exc: ValueError, path: str, spec, heaters) -> ScenarioError:

@@ -95,8 +95,9 @@ def test_four_channels_share_the_sink(capsys):
 
 
 def test_termination_line_sweep_of_laminates_matches_single_runs(tmp_path, capsys):
-    """Three laminates in one sweep; each row equals the single run with that laminate;
-    the more conductive laminate gives the cooler termination."""
+    """Three laminates in one sweep; each row equals the single run with that laminate
+    (the ranking, which follows both k and the laminate's loss, is checked in
+    tests/test_line_laminate.py)."""
     out = tmp_path / "lam.csv"
     lams = ["ptfe-ceramic", "ptfe-woven-glass", "hydrocarbon-ceramic"]
     assert main(["sweep", str(EX / "termination_line.toml"), "--vary",
@@ -110,11 +111,6 @@ def test_termination_line_sweep_of_laminates_matches_single_runs(tmp_path, capsy
         d = _run("termination_line", capsys, "--set", f"board.layers[1].material={lam}")
         assert float(rows[lam]["term.peak_C"]) == pytest.approx(d["probes"]["term"]["peak_C"],
                                                                 rel=1e-12)
-    from pulsetherm.network.materials import default_library
-    lib = default_library()
-    by_k = sorted(lams, key=lambda n: lib.get(n).k)
-    peaks = [float(rows[n]["term.peak_C"]) for n in by_k]
-    assert peaks == sorted(peaks, reverse=True)
 
 
 def test_demo_table_and_outputs(tmp_path, capsys):
@@ -127,6 +123,7 @@ def test_demo_table_and_outputs(tmp_path, capsys):
     assert rows[0][0] == "t_s" and len(rows) > 10
     assert png.read_bytes()[:4] == b"\x89PNG"
     assert sorted(p.name for p in tmp_path.iterdir()) == ["t.csv", "t.png"]
+
 
 def test_stagger_burst_phase_headline(capsys):
     """Dwell of 8 pulses (25 us, 90 W; staggered intervals 180/230/205/260 us twice) every

@@ -38,7 +38,8 @@ def test_data_file_every_entry_has_source_and_known_fields():
     for name, entry in data.items():
         assert entry.get("source"), name
         assert set(entry) <= {"k", "k_inplane", "rho", "c", "k_exponent", "t_max_K",
-                              "caution", "source", "description"}, name
+                              "caution", "source", "description", "permittivity",
+                              "loss_tangent"}, name
 
 
 @pytest.mark.parametrize("name, k, rho, c", [

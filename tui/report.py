@@ -71,6 +71,10 @@ def material_text(m: Any) -> str:
         lines.append(f"  k(T) exponent      {m.k_exponent:g}  (k = k300 (T/300 K)^-a)")
     if m.t_max_K is not None:
         lines.append(f"  service limit      {m.t_max_K - 273.15:.1f} degC")
+    if getattr(m, "permittivity", None) is not None:
+        lines.append(f"  permittivity       {m.permittivity:g}  (relative, lines on it take it)")
+    if getattr(m, "loss_tangent", None) is not None:
+        lines.append(f"  loss tangent       {m.loss_tangent:g}")
     lines.append(f"  source: {m.source}")
     if m.caution:
         lines.append(f"  CAUTION: {m.caution}")
