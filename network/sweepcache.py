@@ -74,7 +74,8 @@ def _snapshot(model, scn, waveforms):
 
     return ScenarioModel(scn, model.network, model.built, dict(waveforms), dict(model.probes),
                          dict(model.limits), model.ambient, dict(model.materials),
-                         dict(model.lines), {k: list(v) for k, v in model.groups.items()})
+                         dict(model.lines), {k: list(v) for k, v in model.groups.items()},
+                         t_min=model.t_min, notes=list(model.notes))
 
 
 def _rebind(tpl, scn, waves: dict[str, Any]):
