@@ -83,7 +83,8 @@ def plot_run(res: Any, path: str | Path) -> None:
     _, plt = _mpl()
     model = res.model
     has_lines = bool(model.lines)
-    fig, ax = _figure(plt, 2, 3 if has_lines else 2)
+    rf = getattr(getattr(res, "effects", None), "rf", None) or {}
+    fig, ax = _figure(plt, 2, 3 if (has_lines or rf) else 2)
     names = list(res.probes)
     nodes = [model.probes[n] for n in names]
     # warm-up from a cold start
@@ -137,11 +138,27 @@ def plot_run(res: Any, path: str | Path) -> None:
               ylabel="temperature (degC)")
         a.legend(fontsize=7)
         ax[1][2].set_axis_off()
+    if rf:
+        _rf_panel(ax[1][2], rf)
+        if not has_lines:
+            ax[0][2].set_axis_off()
     fig.suptitle(res.scenario, fontsize=10)
     # the figure judges limits (dashed lines): it carries the cautions like the text output
     fig.supxlabel("\n".join(f"Caution: {c}" for c in res.cautions), fontsize=6, ha="left",
                   x=0.01)
     save_figure(fig, path)
+
+
+def _rf_panel(a, rf: dict) -> None:
+    """Per pulse of the period: gain (dB) and insertion phase (deg) from the pulse-mean
+    junction rise ([devices.rf]; network/pulse_effects.py)."""
+    for name, e in rf.items():
+        k = range(1, e.pulses.count + 1)
+        a.plot(k, e.gain_dB, "o-", lw=1.0, label=f"{name} gain (dB)")
+        a.plot(k, e.phase_deg, "s--", lw=1.0, label=f"{name} phase (deg)")
+    a.set(title="pulse to pulse (pulse means)", xlabel="pulse in the period",
+          ylabel="change over the cold part")
+    a.legend(fontsize=7)
 
 
 def plot_zth(res: Any, path: str | Path) -> None:
