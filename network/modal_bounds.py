@@ -1,0 +1,183 @@
+"""Certified extremes of the exact modal response: a branch and bound over time intervals.
+
+Inside a segment (power ``a + b·s``) a probe's rise is θ(s) = Pp·q(s) + Dp·(a + b s) with
+q(s) = e^{−λs} q₀ + ψ₀ Wa + ψ₁ Wb (:mod:`pulsetherm.network.modal`).  Each modal term of its
+slope,
+
+    Pp_i q'_i(s) = Pp_i [Wb_i/λ_i + (q'_i(0) − Wb_i/λ_i) e^{−λ_i s}]      (Pp_i(q'_i(0) + Wb_i s) at λ = 0),
+
+and of its curvature, Pp_i q''_i(s) = Pp_i q''_i(0) e^{−λ_i s}, is monotone in s, so on an
+interval [s_a, s_b] each term lies between its end values.  Summed over the modes (with
+Σ max(x, y) = (Σx + Σy)/2 + Σ|x − y|/2, one matrix product):
+
+    L ≤ θ'(s) ≤ U,   θ''(s) ≤ K   on [s_a, s_b].
+
+Hence θ(s) ≤ min(θ(s_a) + U (s − s_a), θ(s_b) − L (s_b − s)) — the two lines meet at the
+interval's upper bound.  An interval whose bound is under the best value found is cleared;
+an interval with K ≤ 0 is concave, so its maximum is an end or, when θ'(s_a) > 0 > θ'(s_b),
+the single root of θ' (found by safeguarded Newton); any other interval is halved.  The
+search starts from whole segments, after the sample-based refinement has found the usual
+maximum, so it normally clears everything at once; it exists for responses with two nearly
+equal local maxima, where the samples alone can point at the wrong one.  Minima are the
+maxima of −θ.
+
+This is interval bounding of a sum of monotone terms (common practice, no source); the
+monotone-term form follows from the modal solution (Carslaw and Jaeger, *Conduction of Heat
+in Solids*, 2nd ed., 1959, normal-mode expansions).
+"""
+from __future__ import annotations
+
+import numpy as np
+
+#: Bound slack, relative to the largest rise: intervals within it of the best are cleared.
+REL_TOL = 1e-10
+#: Most halvings of an interval (the bound's excess shrinks about 4x per halving).
+MAX_DEPTH = 60
+
+
+def _derivs(solver, q0s, s, lv, sl):
+    """q, q', q'' (modes, c) at offsets s (c,) in segments with start states q0s."""
+    return solver._seg_states(q0s, s, lv, sl)
+
+
+def _interval_bounds(solver, Pj, dj, q0s, lv, sl, sa, sb):
+    """θ, θ' at both ends and the bounds U, L on θ' and K on θ'' for intervals of segments.
+
+    Pj (c, modes) signed probe rows, dj (c, m) signed direct rows, q0s (modes, c)."""
+    qa, da, ca = _derivs(solver, q0s, sa, lv, sl)
+    qb, db, cb = _derivs(solver, q0s, sb, lv, sl)
+    aPj = np.abs(Pj)
+    direct_slope = np.sum(dj * sl, axis=1)
+    th_a = np.einsum("ci,ic->c", Pj, qa) + np.sum(dj * (lv + sa[:, None] * sl), axis=1)
+    th_b = np.einsum("ci,ic->c", Pj, qb) + np.sum(dj * (lv + sb[:, None] * sl), axis=1)
+    d_a = np.einsum("ci,ic->c", Pj, da)
+    d_b = np.einsum("ci,ic->c", Pj, db)
+    spread = 0.5 * np.einsum("ci,ic->c", aPj, np.abs(da - db))
+    U = 0.5 * (d_a + d_b) + spread + direct_slope
+    L = 0.5 * (d_a + d_b) - spread + direct_slope
+    K = 0.5 * (np.einsum("ci,ic->c", Pj, ca + cb)
+               + np.einsum("ci,ic->c", aPj, np.abs(ca - cb)))
+    return th_a, th_b, d_a + direct_slope, d_b + direct_slope, U, L, K
+
+
+def _line_bound(th_a, th_b, U, L, w):
+    """Upper bound of θ on [0, w] from θ(0), θ(w) and L ≤ θ' ≤ U."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        x = np.clip((th_b - th_a - L * w) / (U - L), 0.0, w)
+    ub = np.where(U <= 0, th_a, np.where(L >= 0, th_b, th_a + U * x))
+    return np.maximum(ub, np.maximum(th_a, th_b))
+
+
+def _sample_intervals(t, edges, ck, cj, sg, slot):
+    """Split each candidate segment k at the sample times inside it: the intervals
+    (offsets from the segment start) with their candidate labels repeated."""
+    segs = np.unique(ck)
+    cuts = {}
+    for k in segs.tolist():
+        lo = int(np.searchsorted(t, edges[k], side="left"))
+        hi = int(np.searchsorted(t, edges[k + 1], side="right"))
+        hk = edges[k + 1] - edges[k]
+        s = np.clip(t[lo:hi] - edges[k], 0.0, hk)
+        cuts[k] = np.unique(np.concatenate([[0.0], s, [hk]]))
+    out = [[], [], [], [], [], []]
+    for c, k in enumerate(ck.tolist()):
+        s = cuts[k]
+        nint = s.size - 1
+        out[0].append(np.full(nint, k))
+        out[1].append(np.full(nint, cj[c]))
+        out[2].append(np.full(nint, sg[c]))
+        out[3].append(np.full(nint, slot[c]))
+        out[4].append(s[:-1])
+        out[5].append(s[1:])
+    return tuple(np.concatenate(o) for o in out)
+
+
+def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton):
+    """Add to the samples t (k,), v (k, p) (rises, sorted) every local extreme that the
+    sample-based refinement missed, so that the largest and smallest samples of each probe
+    are the true extremes (to ``REL_TOL`` of the largest rise).
+
+    ``starts`` (modes, N) holds every segment's start state; ``newton(fun, a, b, fa, fb,
+    xtol)`` is the bracketed root finder.  Returns the merged t, v."""
+    N = edges.size - 1
+    p = Pp.shape[0]
+    if N == 0 or p == 0 or v.size == 0:
+        return t, v
+    scale = float(np.max(np.abs(v)))
+    tol = REL_TOL * scale if scale > 0 else 0.0
+    h = edges[1:] - edges[:-1]
+    # candidates: (probe, sign) x segment; sign +1 maximum, −1 minimum
+    best = np.concatenate([v.max(axis=0), -v.min(axis=0)])          # (2p,)
+    cj = np.repeat(np.arange(p), N)
+    cj = np.concatenate([cj, cj])
+    sg = np.concatenate([np.ones(p * N), -np.ones(p * N)])
+    ck = np.tile(np.arange(N), 2 * p)
+    slot = np.concatenate([np.repeat(np.arange(p), N), p + np.repeat(np.arange(p), N)])
+    sa = np.zeros(ck.size)
+    sb = h[ck]
+    new_t, new_v = [], []
+    expanded = False
+    for _depth in range(MAX_DEPTH):
+        if ck.size == 0:
+            break
+        Pj = Pp[cj] * sg[:, None]
+        dj = Dp[cj] * sg[:, None]
+        q0s = starts[:, ck]
+        lv, sl = level[ck], slope[ck]
+        th_a, th_b, d_a, d_b, U, L, K = _interval_bounds(solver, Pj, dj, q0s, lv, sl, sa, sb)
+        ub = _line_bound(th_a, th_b, U, L, sb - sa)
+        live = ub > best[slot] + tol
+        if not live.any():
+            break
+        if not expanded:
+            # whole segments that may hold a better extreme: bound them again over the
+            # intervals between their samples (much tighter than one line pair)
+            expanded = True
+            keep = np.flatnonzero(live)
+            ck, cj, sg, slot, sa, sb = _sample_intervals(t, edges, ck[keep], cj[keep],
+                                                         sg[keep], slot[keep])
+            continue
+        concave = live & (K <= 0)
+        root = np.flatnonzero(concave & (d_a > 0) & (d_b < 0))
+        if root.size:
+            def fun(s, idx, root=root):
+                r = root[idx]
+                _, dq, cq = _derivs(solver, q0s[:, r], s, lv[r], sl[r])
+                return (np.einsum("ci,ic->c", Pj[r], dq) + np.sum(dj[r] * sl[r], axis=1),
+                        np.einsum("ci,ic->c", Pj[r], cq))
+            xtol = np.maximum((sb[root] - sa[root]) * 1e-14, 1e-300)
+            s_star = newton(fun, sa[root], sb[root], d_a[root], d_b[root], xtol)
+            q, _, _ = _derivs(solver, q0s[:, root], s_star, lv[root], sl[root])
+            vals = (Pp @ q).T + (lv[root] + s_star[:, None] * sl[root]) @ Dp.T   # (r, p)
+            mine = vals[np.arange(root.size), cj[root]] * sg[root]
+            gain = mine > best[slot[root]] + tol
+            if gain.any():
+                new_t.append(edges[ck[root][gain]] + s_star[gain])
+                new_v.append(vals[gain])
+                np.maximum.at(best, slot[root][gain], mine[gain])
+        split = np.flatnonzero(live & ~concave)
+        if split.size == 0:
+            break
+        mid = 0.5 * (sa[split] + sb[split])
+        ok = (mid > sa[split]) & (mid < sb[split])
+        split, mid = split[ok], mid[ok]
+        # the midpoints are exact values: they raise the best found so far
+        q, _, _ = _derivs(solver, q0s[:, split], mid, lv[split], sl[split])
+        vals = (Pp @ q).T + (lv[split] + mid[:, None] * sl[split]) @ Dp.T
+        mine = vals[np.arange(split.size), cj[split]] * sg[split]
+        gain = mine > best[slot[split]] + tol
+        if gain.any():
+            new_t.append(edges[ck[split][gain]] + mid[gain])
+            new_v.append(vals[gain])
+            np.maximum.at(best, slot[split][gain], mine[gain])
+        cj = np.concatenate([cj[split], cj[split]])
+        sg = np.concatenate([sg[split], sg[split]])
+        slot = np.concatenate([slot[split], slot[split]])
+        ck2 = ck[split]
+        sa = np.concatenate([sa[split], mid])
+        sb = np.concatenate([mid, sb[split]])
+        ck = np.concatenate([ck2, ck2])
+    if not new_t:
+        return t, v
+    from .solvers import merge_samples
+    return merge_samples(t, v, np.concatenate(new_t), np.vstack(new_v))
