@@ -31,7 +31,6 @@ from functools import cached_property
 
 import numpy as np
 import scipy.linalg as sla
-from scipy.optimize import least_squares, nnls
 
 __all__ = ["Foster", "Cauer", "FosterError", "FosterFit", "fit_foster"]
 
@@ -572,6 +571,8 @@ def fit_foster(t, zth, n_per_decade: int = 6, n_terms: int | None = None,
     w = _fit_weights(z, weight)
     nd = np.log10(hi / lo)
     grid = np.logspace(np.log10(lo), np.log10(hi), max(int(np.ceil(nd * n_per_decade)) + 1, 2))
+
+    from scipy.optimize import least_squares, nnls   # on use: ~0.1-0.3 s to import
 
     # (1) NNLS on the grid, columns scaled to unit norm for conditioning
     M = -np.expm1(-t[:, None] / grid) * w[:, None]
