@@ -121,8 +121,10 @@ def build_parser() -> argparse.ArgumentParser:
     m = sub.add_parser("materials", help="list the material library or show one material")
     m.add_argument("name", nargs="?", help="material to show")
 
-    u = sub.add_parser("ui", help="open a scenario in the terminal app (what-if, trace, budget)")
-    u.add_argument("file", help="scenario TOML file")
+    u = sub.add_parser("ui", help="the terminal workbench: edit a scenario and watch its "
+                                  "response (the built-in demo without a file)")
+    u.add_argument("file", nargs="?", default=None,
+                   help="scenario TOML file (default: an invented two-stage demo)")
     for verb in sub.choices.values():   # every verb that reads a scenario (added ones too)
         if any(a.dest == "file" for a in verb._actions) and not any(
                 a.dest == "allow_path" for a in verb._actions):
@@ -362,7 +364,8 @@ def _cmd_ui(args: argparse.Namespace) -> int:
     from pulsetherm.network.scenario import load
     from pulsetherm.tui.app import run_app
 
-    load(args.file)  # a broken file is reported here (exit 2), before the screen opens
+    if args.file is not None:
+        load(args.file)  # a broken file is reported here (exit 2), before the screen opens
     return run_app(args.file)
 
 

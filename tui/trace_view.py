@@ -1,14 +1,17 @@
-"""One period of the periodic steady state at the chosen probe, as a sparkline."""
+"""Temperature against time over one period of the periodic steady state, several probes
+overlaid, with the run of the file as written drawn dimmed for before/after."""
 from __future__ import annotations
 
 from typing import Any
 
 import numpy as np
-from textual.app import ComposeResult
-from textual.containers import Vertical
-from textual.widgets import Label, Sparkline
 
-__all__ = ["TraceView", "resample_max"]
+from .plot_view import PlotView
+from .textplot import Series
+
+__all__ = ["TraceView", "resample_max", "STYLES"]
+
+STYLES = ("cyan", "magenta", "green", "yellow", "blue", "red")
 
 
 def resample_max(t: np.ndarray, y: np.ndarray, bins: int) -> np.ndarray:
@@ -31,25 +34,29 @@ def resample_max(t: np.ndarray, y: np.ndarray, bins: int) -> np.ndarray:
     return np.where(np.isfinite(out), out, fill)
 
 
-class TraceView(Vertical):
-    """Title line plus a sparkline of temperature over one period."""
+def probe_series(result: Any, probes: list[str], tag: str = "", dim: bool = False):
+    """One period of each probe as :class:`Series` (time from the start of the period)."""
+    resp = result.response
+    t = np.asarray(resp.t, float)
+    out = []
+    for k, name in enumerate(probes):
+        node = result.model.probes.get(name) if result.model is not None else None
+        if node is None:
+            continue
+        style = "grey50" if dim else STYLES[k % len(STYLES)]
+        out.append(Series(name + tag, t - t[0], np.asarray(resp.T(node), float), style))
+    return out
 
-    def compose(self) -> ComposeResult:
-        yield Label("—", id="trace-title")
-        yield Sparkline([], summary_function=max, id="trace-line")
-        yield Label("", id="trace-scale")
 
-    def show(self, result: Any, probe: str, width: int = 120) -> None:
-        """Draw ``probe`` of a ``RunResult`` (its ``response`` holds one period)."""
-        resp = result.response
-        node = result.model.probes.get(probe, probe) if result.model is not None else probe
-        t = np.asarray(resp.t)
-        y = np.asarray(resp.T(node))
-        data = resample_max(t, y, max(16, width))
-        self.query_one("#trace-line", Sparkline).data = list(map(float, data))
-        period = t[-1] - t[0]
-        self.query_one("#trace-title", Label).update(
-            f"{probe}: one period of {period * 1e3:.4g} ms in the periodic steady state")
-        self.query_one("#trace-scale", Label).update(
-            f"min {y.min():.2f} °C   max {y.max():.2f} °C   (each column: the hottest sample "
-            f"in {period / data.size * 1e6:.3g} µs)")
+class TraceView(PlotView):
+    """One period at the chosen probes (the selected one first), before/after."""
+
+    def show(self, result: Any, probes: list[str], base: Any = None) -> None:
+        series = []
+        if base is not None and base is not result and probes and \
+                probes[0] in base.probes:
+            series += probe_series(base, probes[:1], " (file)", dim=True)
+        series += probe_series(result, probes)
+        t = np.asarray(result.response.t)
+        self.plot(series, note=f"one period of {1e3 * (t[-1] - t[0]):.4g} ms in the "
+                  "periodic steady state", x_title="time in the period")
