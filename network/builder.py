@@ -1183,28 +1183,51 @@ def _cross_term_uncached(a: float, b: float, b2: float, ks: Sequence[float],
     returned (positive when the heat leaves the run concentrated under its source: a thin
     die on a flange).
     """
+    from scipy.special import j1 as J1
+    from .spreading import layer_phi
+    lam, d, d2, j0lam, j0lam2, j1b, inv, kk, nn = _cross_kernel(b, b2, n_up)
+    A = 2.0 * J1(d * a) / (math.pi * a * b * b * d * j0lam ** 2)
+    c = A * _transfer(d, ks, ts, n_run, h)
+    In = (b * d2 * j1b) * (inv @ (j0lam * c))
+    if kk.size:  # δ'_k = δ_n: ∫_0^b J0²(δr) r dr = b²J0²(δb)/2 (J1(δb) = 0)
+        np.add.at(In, kk, c[nn] * 0.5 * b * b * j0lam[nn] ** 2)
+    Iu = j1b / (math.pi * b * d2)
+    phi2 = layer_phi(d2, ks[n_run:], ts[n_run:], h)
+    wgt = 4.0 * math.pi * phi2 / (b2 * b2 * j0lam2 ** 2 * ks[n_run] * d2)
+    return 2.0 * float(np.sum(wgt * Iu * In))
+
+
+@functools.lru_cache(maxsize=8)
+def _cross_kernel(b: float, b2: float, n_up: int):
+    """The parts of :func:`_cross_term_uncached` that depend on the two radii only (a pure
+    function, cached: a sweep of thicknesses or materials keeps the radii, and one build
+    asks for the same pair many times).
+
+    Returns λ_n, δ_n, δ'_k, J0(λ_n), J0(λ'_k), J1(δ'_k b), the matrix 1/(δ'_k² − δ_n²)
+    (n2, n_up) with coincident modes δ'_k = δ_n set to 0 (both ascending: only neighbours
+    in sorted order can coincide) and their indices (k, n), to be added in closed form."""
     from scipy.special import j0 as J0, j1 as J1
-    from .spreading import layer_phi, _j1_roots
+    from .spreading import _j1_roots
     lam = _j1_roots(n_up)
     d = lam / b
-    A = 2.0 * J1(d * a) / (math.pi * a * b * b * d * J0(lam) ** 2)
-    c = A * _transfer(d, ks, ts, n_run, h)
     n2 = int(min(4000, max(512, math.ceil(64.0 * b2 / b))))
     lam2 = _j1_roots(n2)
     d2 = lam2 / b2
-    j1b = J1(d2 * b)
-    den = d2[:, None] ** 2 - d[None, :] ** 2
-    near = np.abs(den) < 1e-9 * d2[:, None] ** 2
-    M = np.where(near, 0.0, b * d2[:, None] * J0(lam)[None, :] * j1b[:, None]
-                 / np.where(near, 1.0, den))
-    In = M @ c
-    if np.any(near):  # δ'_k = δ_n: ∫_0^b J0²(δr) r dr = b²J0²(δb)/2 (J1(δb) = 0)
-        kk, nn = np.nonzero(near)
-        np.add.at(In, kk, c[nn] * 0.5 * b * b * J0(lam[nn]) ** 2)
-    Iu = j1b / (math.pi * b * d2)
-    phi2 = layer_phi(d2, ks[n_run:], ts[n_run:], h)
-    wgt = 4.0 * math.pi * phi2 / (b2 * b2 * J0(lam2) ** 2 * ks[n_run] * d2)
-    return 2.0 * float(np.sum(wgt * Iu * In))
+    den = np.subtract.outer(d2 * d2, d * d)
+    cols = np.arange(len(d))
+    k = np.searchsorted(d2, d)
+    near = [(kc, np.abs(den[kc, cols]) < 1e-9 * d2[kc] ** 2)
+            for kc in (np.clip(k - 1, 0, len(d2) - 1), np.clip(k, 0, len(d2) - 1))]
+    kk = np.concatenate([kc[hit] for kc, hit in near])
+    nn = np.concatenate([cols[hit] for _, hit in near])
+    if kk.size:
+        kk, nn = np.unique(np.stack([kk, nn]), axis=1)
+        den[kk, nn] = np.inf
+    np.reciprocal(den, out=den)
+    out = (lam, d, d2, J0(lam), J0(lam2), J1(d2 * b), den, kk, nn)
+    for x in out:
+        x.flags.writeable = False
+    return out
 
 
 def depth_profile(segs: list[_Seg], footprint: tuple[float, float], sink) -> _Profile | None:
