@@ -18,6 +18,7 @@ reads it.  A cached row is therefore the same computation as a fresh build, bit 
 from __future__ import annotations
 
 import re
+import threading
 from collections import OrderedDict
 from typing import Any
 
@@ -39,6 +40,7 @@ class ModelCache:
     def __init__(self, size: int = 8) -> None:
         self.size = size
         self._models: OrderedDict[Any, Any] = OrderedDict()
+        self._lock = threading.Lock()  # Dask runs rows in threads of one process
         self.hits = 0
         self.misses = 0
 
@@ -52,18 +54,22 @@ class ModelCache:
             return build(scn)
         waves = _waveforms(scn)
         key = (shape, waveform_t_min(scn, waves))
-        tpl = self._models.get(key)
+        with self._lock:
+            tpl = self._models.get(key)
         if tpl is not None:
             model = _rebind(tpl, scn, waves)
             if model is not None:
-                self._models.move_to_end(key)
-                self.hits += 1
+                with self._lock:
+                    if key in self._models:
+                        self._models.move_to_end(key)
+                    self.hits += 1
                 return model
-        self.misses += 1
         model = build(scn)
-        self._models[key] = _snapshot(model, model.scenario, model.waveforms)
-        while len(self._models) > self.size:
-            self._models.popitem(last=False)
+        with self._lock:
+            self.misses += 1
+            self._models[key] = _snapshot(model, model.scenario, model.waveforms)
+            while len(self._models) > self.size:
+                self._models.popitem(last=False)
         return model
 
 
