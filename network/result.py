@@ -27,7 +27,47 @@ from pulsetherm.waveforms.canonical import Piecewise
 from .solvers import RawResponse
 from .system import KELVIN_OFFSET, ThermalSystem
 
-__all__ = ["Response", "energy_of", "energy_balance"]
+__all__ = ["Response", "energy_of", "energy_balance", "ResultError", "check_invariants"]
+
+
+class ResultError(ValueError):
+    """A result that breaks a physical invariant (non-finite, at or below 0 K, a mean outside
+    [minimum, peak]); it is refused rather than printed.  Seen only for inputs far outside
+    what the model resolves (or a bug): the message says which probe and what broke."""
+
+
+def check_invariants(theta_K: np.ndarray, mean_K: np.ndarray, probes: tuple[str, ...]) -> None:
+    """Refuse a response whose numbers cannot be physical.
+
+    For every probe: every temperature finite and above 0 K, and minimum <= mean <= peak
+    within rounding (1e-6 of the largest temperature swing, plus 1e-9 of the absolute
+    temperature).  ``theta_K`` (k, p) and ``mean_K`` (p,) in kelvin.  Raises
+    :class:`ResultError` naming the probe.  Vectorised: a few passes over the samples.
+    """
+    theta = np.asarray(theta_K, dtype=float)
+    mean = np.asarray(mean_K, dtype=float).reshape(-1)
+    if theta.ndim != 2 or theta.shape[1] != mean.size or theta.shape[0] == 0:
+        return
+    finite = np.isfinite(theta).all(axis=0) & np.isfinite(mean)
+    hint = ("the inputs are outside what the model resolves; check the powers, sizes and "
+            "materials (if they are plausible, please report it)")
+    if not finite.all():
+        j = int(np.flatnonzero(~finite)[0])
+        raise ResultError(f"probe {probes[j]!r}: a temperature that is not a finite number; "
+                          f"{hint}")
+    lo, hi = theta.min(axis=0), theta.max(axis=0)
+    cold = (lo <= 0.0) | (mean <= 0.0)
+    if cold.any():
+        j = int(np.flatnonzero(cold)[0])
+        raise ResultError(f"probe {probes[j]!r}: a temperature at or below 0 K "
+                          f"({min(lo[j], mean[j]) - KELVIN_OFFSET:.6g} degC); {hint}")
+    tol = 1e-6 * np.maximum(hi - lo, np.abs(mean - lo)) + 1e-9 * np.abs(hi)
+    bad = (mean < lo - tol) | (mean > hi + tol)
+    if bad.any():
+        j = int(np.flatnonzero(bad)[0])
+        raise ResultError(f"probe {probes[j]!r}: mean {mean[j] - KELVIN_OFFSET:.9g} degC "
+                          f"outside [minimum {lo[j] - KELVIN_OFFSET:.9g}, peak "
+                          f"{hi[j] - KELVIN_OFFSET:.9g}] degC; {hint}")
 
 
 def energy_of(p: Piecewise, duration: float) -> float:
@@ -131,6 +171,7 @@ class Response:
         else:
             err, terms = math.nan, {"input_J": energy_in}
         amb = (np.full(len(rows), np.nan) if ambient_K is None else ambient_K[rows]) - KELVIN_OFFSET
+        check_invariants(raw.theta, raw.mean, tuple(system.node_names[i] for i in rows))
         return cls(t=raw.t, temperatures=raw.theta - KELVIN_OFFSET,
                    probes=tuple(system.node_names[i] for i in rows),
                    means=raw.mean - KELVIN_OFFSET, ambient=amb, periodic=periodic, span=span,

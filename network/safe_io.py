@@ -190,3 +190,29 @@ def atomic_open(path: str | os.PathLike, mode: str = "w",
         except OSError:
             pass
         raise
+
+
+#: Environment variable with extra folders (``os.pathsep``-separated) that scenarios may read
+#: table files from, as ``--allow-path`` gives (worker processes inherit it).
+ALLOW_ENV = "PULSETHERM_ALLOW_PATH"
+
+
+def resolve_inside(base: str | os.PathLike, name: str,
+                   allowed: tuple[str, ...] = ()) -> Path:
+    """The file ``name`` (relative to the folder ``base``, or absolute) with every symbolic
+    link resolved, refused unless it lies inside ``base`` or one of the ``allowed`` folders
+    (and those of :data:`ALLOW_ENV`).
+
+    A scenario is data: it must not make the program read, and echo parts of, files it was
+    not given (``../../etc/...``, an absolute path, a link pointing out of the folder).
+    Raises :class:`InputFileError` naming the folder and the way to allow another.
+    """
+    root = Path(base).resolve()
+    target = (root / name).resolve()
+    extra = [d for d in os.environ.get(ALLOW_ENV, "").split(os.pathsep) if d.strip()]
+    roots = [root] + [Path(d).expanduser().resolve() for d in (*allowed, *extra)]
+    if not any(target == r or target.is_relative_to(r) for r in roots):
+        raise InputFileError(f"a file inside the scenario's folder {printable(str(root))!r} "
+                             "(this one resolves outside it; pass --allow-path DIR to allow "
+                             "another folder)")
+    return target

@@ -955,6 +955,24 @@ def _period(model: ScenarioModel) -> float:
     return float(edges[-1])
 
 
+def _refuse_single_shot(scn: Scenario) -> None:
+    """A periodic steady state needs periodic heat: name the key of a single-shot waveform
+    (a table or profile with ``periodic = false``) instead of the solver's input index."""
+    waves = _waveforms(scn)
+    named = scn.waveforms or {}
+    for sec, group in (("devices", scn.devices), ("lines", scn.lines),
+                       ("heaters", scn.heaters)):
+        for i, item in enumerate(group or ()):
+            w = waves.get(item.name)
+            if w is None or w.compile().periodic:
+                continue
+            ref = item.power
+            key = (f"waveforms.{ref}.periodic" if isinstance(ref, str) and ref in named
+                   else f"{sec}[{i}].power.periodic")
+            raise ScenarioError(key, None, "a periodic waveform: 'run' gives the periodic "
+                                "steady state, and this one plays once (set periodic = true)")
+
+
 def simulate(scn: Scenario | ScenarioModel) -> RunResult:
     """Periodic steady state of a scenario: probe figures, budget, warm-up, cautions."""
     model = scn if isinstance(scn, ScenarioModel) else build(scn)
@@ -965,6 +983,7 @@ def simulate(scn: Scenario | ScenarioModel) -> RunResult:
         raise ScenarioError("devices", None, "at least one heat capacity for a transient "
                             "answer: a device 'foster' network or die 'stack', a sink "
                             "'capacity' or a 'mass' element ('rth' alone has none)")
+    _refuse_single_shot(s)
     extra = [n for group in model.groups.values() for n in group]
     nodes = list(dict.fromkeys(list(model.probes.values()) + extra))
     try:

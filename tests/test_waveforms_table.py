@@ -85,26 +85,28 @@ def test_linear_jump_pairs():
 
 
 @pytest.mark.parametrize("text,pattern", [
-    ("time_us,power_W\n0,1\n2,x\n", r"CSV row 2 \(line 3\), column 2 \(power_W\): 'x': expected a "
+    ("time_us,power_W\n0,1\n2,x\n", r"CSV row 2 \(line 3\), column 2 \(power_W\): not a finite number; expected a "
                                     r"finite number"),
-    ("time_us,power_W\n0,1\n2,\n", r"CSV row 2 \(line 3\), column 2 \(power_W\): '\(empty\)'"),
-    ("time_us,power_W\n0,1\n2,nan\n", r"row 2 \(line 3\), column 2 \(power_W\): 'nan'"),
-    ("time_us,power_W\n0,1\ninf,1\n", r"row 2 \(line 3\), column 1 \(time_us\): 'inf'"),
-    ("time_us,power_W\n0,1\n2,1\n1,3\n", r"CSV row 3 \(line 4\), column 1 \(time_us\) = '1': time "
+    ("time_us,power_W\n0,1\n2,\n", r"CSV row 2 \(line 3\), column 2 \(power_W\): empty"),
+    ("time_us,power_W\n0,1\n2,nan\n", r"row 2 \(line 3\), column 2 \(power_W\): not a finite"),
+    ("time_us,power_W\n0,1\ninf,1\n", r"row 2 \(line 3\), column 1 \(time_us\): not a finite"),
+    ("time_us,power_W\n0,1\n2,1\n1,3\n", r"CSV row 3 \(line 4\), column 1 \(time_us\): time "
                                          r"1e-06 s is before the previous row's 2e-06 s"),
-    ("time_us,power_W\n0,1\n2,1\n2,3\n", r"CSV row 3 \(line 4\), column 1 \(time_us\) = '2': time "
+    ("time_us,power_W\n0,1\n2,1\n2,3\n", r"CSV row 3 \(line 4\), column 1 \(time_us\): time "
                                          r"2e-06 s repeats the previous row's"),
-    ("time_us,power_W\n0,1\n2,-1\n", r"CSV row 2 \(line 3\), column 2 \(power_W\) = '-1': power "
+    ("time_us,power_W\n0,1\n2,-1\n", r"CSV row 2 \(line 3\), column 2 \(power_W\): power "
                                      r"-1\.0 W: expected a power >= 0 W"),
     ("time_us,power_W\n0,1\n2\n", r"CSV row 2 \(line 3\): 1 cells; expected two"),
-    ("time,power_W\n0,1\n", r"header column 1 = 'time': expected a name and a unit"),
-    ("time_min,power_W\n0,1\n", r"time unit 'min' not recognised; expected one of s, ms, us"),
-    ("time_s,power_dBW\n0,1\n", r"power unit 'dBW' not recognised"),
+    ("time,power_W\n0,1\n", r"header column 1: no unit found; expected a name and a unit"),
+    ("time_min,power_W\n0,1\n", r"time unit not recognised; expected one of s, ms, us"),
+    ("time_s,power_dBW\n0,1\n", r"power unit not recognised"),
     ("time_s,power_W,x_W\n0,1,2\n", r"header has 3 columns"),
     ("# only a comment\n", r"no header row"),
     ("time_s,power_W\n0,1\n", r"1 row\(s\): expected at least two rows"),
     ("time_s,power_W\n# no data\n", r"0 row\(s\): expected at least two rows"),
 ])
+# messages name the row, line and column but never echo the file's text (issue 10: a
+# header error quoted another file's first line); common practice, no source
 def test_csv_errors(text, pattern):
     with pytest.raises(WaveformError, match=pattern):
         Table.from_csv(text)
