@@ -33,7 +33,7 @@ import os
 import random
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, Callable, Iterable, Sequence
+from typing import Any, Callable, Iterable, Iterator, Sequence
 
 from .scenario import (Scenario, ScenarioError, UnitScale, field_kind, parse_literal,
                        parse_quantity, split_unit)
@@ -838,9 +838,9 @@ def _start_method(env: dict[str, str | None]) -> str:
     return "forkserver" if "forkserver" in methods else "spawn"
 
 
-#: Times a pool whose worker process died is started again before the rest of the rows are
-#: recorded as failed.
-POOL_RESTARTS = 3
+#: Pools started again after worker processes died, at most, before the rest of the rows
+#: are recorded as failed.
+POOL_RESTARTS = 20
 
 
 def _run_pool(plan: SweepPlan, todo: list[tuple[str, dict[str, Any]]], workers: int,
@@ -851,9 +851,12 @@ def _run_pool(plan: SweepPlan, todo: list[tuple[str, dict[str, Any]]], workers: 
     the keys and varied values of a few rows (:func:`chunk_size`).  The one-thread BLAS
     environment is set before any worker (or the forkserver) starts; workers are forked
     directly when that is safe (:func:`_start_method`), else from a forkserver that imports
-    the solver modules once, so each worker starts ready to run.  A worker process that
-    dies (killed, out of memory) fails the rows it held; the pool is started again for the
-    others (at most :data:`POOL_RESTARTS` times)."""
+    the solver modules once, so each worker starts ready to run.
+
+    A worker process that dies (killed, out of memory) breaks its pool: the rows then in
+    flight are run again one at a time in a one-worker pool, so that only the row that
+    kills its worker is recorded as failed; then the sweep goes on (at most
+    :data:`POOL_RESTARTS` pools are started again)."""
     import multiprocessing as mp
     from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
     from concurrent.futures.process import BrokenProcessPool
@@ -866,49 +869,59 @@ def _run_pool(plan: SweepPlan, todo: list[tuple[str, dict[str, Any]]], workers: 
         ctx.set_forkserver_preload(["pulsetherm.network.sweep", "pulsetherm.network.simulate",
                                     "pulsetherm.network.modal", "pulsetherm.network.builder"])
     size = chunk_size(len(todo), workers)
-    chunks = [todo[i:i + size] for i in range(0, len(todo), size)]
+    initargs = (plan.scenario.to_dict(), plan.scenario.source,
+                getattr(plan.scenario, "allow_paths", ()))
 
-    def lost(chunk, why: str) -> None:
-        for key, values in chunk:
+    def run(chunks: Iterator[list], n: int) -> list[list]:
+        """Run ``chunks`` on ``n`` workers (3n tasks in flight); [] when all finished, else
+        the chunks in flight when a worker died."""
+        pending: dict[Any, Any] = {}
+        try:
+            with ProcessPoolExecutor(max_workers=n, mp_context=ctx, initializer=_init_worker,
+                                     initargs=initargs) as ex:
+                # a bounded number of tasks in flight: results stream back in order of
+                # completion and an interruption loses little work
+                for chunk in itertools.islice(chunks, 3 * n if n > 1 else 1):
+                    pending[ex.submit(_worker_chunk, chunk)] = chunk
+                while pending:
+                    done, _ = wait(pending, return_when=FIRST_COMPLETED)
+                    for fut in done:
+                        got = fut.result()  # a dead worker raises here
+                        del pending[fut]
+                        for row in got:
+                            finish(row)
+                        nxt = next(chunks, None)
+                        if nxt is not None:
+                            pending[ex.submit(_worker_chunk, nxt)] = nxt
+            return []
+        except BrokenProcessPool:
+            return list(pending.values())
+
+    def failed(rows, why: str) -> None:
+        for key, values in rows:
             finish({"key": key, **values, "ok": False, "error": why})
 
+    why = (f"{INTERNAL} (its worker process ended unexpectedly: killed, or out of memory); "
+           "run it alone to see more")
+    starts = 0
     try:
-        it = iter(chunks)
-        restarts = 0
+        chunks = iter([todo[i:i + size] for i in range(0, len(todo), size)])
         while True:
-            pending: dict[Any, Any] = {}
-            try:
-                with ProcessPoolExecutor(max_workers=workers, mp_context=ctx,
-                                         initializer=_init_worker,
-                                         initargs=(plan.scenario.to_dict(),
-                                                   plan.scenario.source,
-                                                   getattr(plan.scenario, "allow_paths",
-                                                           ()))) as ex:
-                    # a bounded number of tasks in flight: results stream back in order of
-                    # completion and an interruption loses little work
-                    for chunk in itertools.islice(it, 3 * workers):
-                        pending[ex.submit(_worker_chunk, chunk)] = chunk
-                    while pending:
-                        done, _ = wait(pending, return_when=FIRST_COMPLETED)
-                        for fut in done:
-                            got = fut.result()  # a dead worker raises here
-                            del pending[fut]
-                            for row in got:
-                                finish(row)
-                            nxt = next(it, None)
-                            if nxt is not None:
-                                pending[ex.submit(_worker_chunk, nxt)] = nxt
+            lost = run(chunks, workers)
+            if not lost:
                 return
-            except BrokenProcessPool as exc:
-                why = (f"{INTERNAL} (a worker process ended unexpectedly: "
-                       f"{' '.join(str(exc).split()) or 'killed'}); the rows it held were lost")
-                for chunk in pending.values():
-                    lost(chunk, why)
-                restarts += 1
-                if restarts > POOL_RESTARTS:
-                    for chunk in it:
-                        lost(chunk, why)
+            # the rows in flight, one at a time: only the one that kills its worker fails
+            singles = iter([[row] for chunk in lost for row in chunk])
+            while True:
+                starts += 1
+                if starts > POOL_RESTARTS:
+                    failed([row for chunk in singles for row in chunk], why)
+                    failed([row for chunk in chunks for row in chunk], why)
                     return
+                dead = run(singles, 1)
+                if not dead:
+                    break
+                failed(dead[0], why)
     finally:
         for k, v in saved.items():
             if v is None:
