@@ -406,12 +406,20 @@ def plan_sweep(scn: Scenario, vary: Sequence[str] = (), mc: Sequence[str] = (),
             scn.with_value(path, v)
     model = build(scn)
     cautions = model.cautions()
-    # a varied material brings its own caution (every value of a material axis is built)
-    for path, vals in every:
-        if path.rsplit(".", 1)[-1] in ("material", "fill", "dielectric"):
-            for v in vals:
-                cautions += [c for c in build(scn.with_value(path, v)).cautions()
-                             if c not in cautions]
+    # a varied material brings its own caution (every value of a material axis is built;
+    # a paired group with a material is built row by row, with its other paths set too)
+    def material(path: str) -> bool:
+        return path.rsplit(".", 1)[-1] in ("material", "fill", "dielectric")
+
+    varied = [[{path: v} for v in vals] for path, vals in axes if material(path)]
+    if any(material(p) for p, _ in zipped):
+        varied.append(groups[-1])
+    for group in varied:
+        for values in group:
+            s = scn
+            for path, v in values.items():
+                s = s.with_value(path, v)
+            cautions += [c for c in build(s).cautions() if c not in cautions]
     files = envelope_files(scn, [str(v) for p, vals in every if p.rsplit(".", 1)[-1] == "file"
                                  for v in vals])
     return SweepPlan(scn, rows, paths, list(model.probes), mode, cautions, seed, files)
