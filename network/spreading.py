@@ -328,13 +328,18 @@ def _j1_roots(n: int) -> np.ndarray:
     return head
 
 
+@functools.lru_cache(maxsize=64)
 def _avg_weights(a: float, b: float, n: int) -> tuple[np.ndarray, np.ndarray]:
     """δ_n = λ_n/b and the source-average weights w_n = 4·J1²(δ_n a)/(π a² b² δ_n³ J0²(λ_n))
-    of the first n modes (R_sp,avg = Σ w_n·φ_n/k_1)."""
+    of the first n modes (R_sp,avg = Σ w_n·φ_n/k_1).  Cached (read-only arrays): a pure
+    function of the radii, asked for again by every column build of a sweep."""
     lam = _j1_roots(n)
     d = lam / b
     j1a = j1(d * a)
-    return d, 4.0 * j1a * j1a / (math.pi * a * a * b * b * d ** 3 * j0(lam) ** 2)
+    w = 4.0 * j1a * j1a / (math.pi * a * a * b * b * d ** 3 * j0(lam) ** 2)
+    d.flags.writeable = False
+    w.flags.writeable = False
+    return d, w
 
 
 def _tail_factor(a: float, b: float, n: int) -> tuple[float, np.ndarray]:
