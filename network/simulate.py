@@ -981,8 +981,9 @@ def simulate(scn: Scenario | ScenarioModel) -> RunResult:
     graph = net.graph
     if not any(graph.nodes[n].get("capacity", 0.0) > 0 for n in net.nodes):
         raise ScenarioError("devices", None, "at least one heat capacity for a transient "
-                            "answer: a device 'foster' network or die 'stack', a sink "
-                            "'capacity' or a 'mass' element ('rth' alone has none)")
+                            "answer: a device 'foster' network or die 'stack', an rth "
+                            "device's 'capacity', a sink 'capacity' or a 'mass' element "
+                            "('rth' alone has none)")
     _refuse_single_shot(s)
     extra = [n for group in model.groups.values() for n in group]
     nodes = list(dict.fromkeys(list(model.probes.values()) + extra))
