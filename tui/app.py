@@ -19,6 +19,7 @@ from collections import OrderedDict
 from pathlib import Path
 from typing import Any, Iterable
 
+import numpy as np
 from textual import work
 from textual.app import App, ComposeResult, SystemCommand
 from textual.binding import Binding
@@ -105,6 +106,7 @@ class ScenarioApp(App):
         self._result_seq = -1
         self.done_seq = -1  # the last request answered (result or failure)
         self._extras_seq = -1
+        self._stale: set[str] = set()
         self.item: tuple[str | None, str | None, int | None] = (None, None, None)
 
     @property
@@ -248,7 +250,26 @@ class ScenarioApp(App):
             return
 
     def on_tabbed_content_tab_activated(self, event: TabbedContent.TabActivated) -> None:
+        self._show_tab(event.pane.id)
         self.request_extras()
+
+    def _show_tab(self, tab: str | None) -> None:
+        """Fill a result tab that is out of date (hidden tabs wait until shown)."""
+        res = self.result
+        if res is None or tab not in self._stale:
+            return
+        self._stale.discard(tab)
+        if tab == "t-budget":
+            self.query_one(BudgetTable).show(res.budget)
+        elif tab == "t-net":
+            self.query_one(NetworkView).show(res.model)
+        elif tab == "t-wave":
+            try:
+                from pulsetherm.network.simulate import _period
+
+                self.query_one(WaveformView).show(res.model, _period(res.model))
+            except (ValueError, AttributeError):
+                pass
 
     def _tick(self) -> None:
         if self.stopper.busy("extras"):
@@ -298,14 +319,8 @@ class ScenarioApp(App):
             self.call_after_refresh(self.request_extras)
         self.query_one(ProbeTable).show(res, self.base_result)
         self._show_trace()
-        self.query_one(BudgetTable).show(res.budget)
-        self.query_one(NetworkView).show(res.model)
-        try:
-            from pulsetherm.network.simulate import _period
-
-            self.query_one(WaveformView).show(res.model, _period(res.model))
-        except (ValueError, AttributeError):
-            pass
+        self._stale = {"t-budget", "t-wave", "t-net"}
+        self._show_tab(self.query_one(TabbedContent).active)
         bad = res.violations()
         took = f" ({message.elapsed:.2f} s)" if message.elapsed > 0.5 else ""
         if bad:
@@ -335,8 +350,9 @@ class ScenarioApp(App):
         res = self.result
         if message.warmup is not None:
             names = [self.probe] + [n for n in res.probes if n != self.probe]
+            t = np.asarray(res.response.t)
             self.query_one(WarmupView).show(message.warmup, res.model.probes,
-                                            [n for n in names if n][:3])
+                                            [n for n in names if n][:3], float(t[-1] - t[0]))
         if message.zth is not None:
             self.query_one(ZthView).show(message.zth, message.zth_probe)
 

@@ -41,13 +41,17 @@ class FieldSpec:
 
     @property
     def placeholder(self) -> str:
-        """A short example for the empty field."""
+        """What an empty field shows (the example unit is in :attr:`example`)."""
+        return "unset"
+
+    @property
+    def example(self) -> str:
+        """A short example value (shown in the field's tooltip)."""
         if self.tag in ("q", "qpair", "qlist"):
             u = _EXAMPLE_UNIT.get(self.kind or "", "")
             one = f"1 {u}".strip()
-            return "unset, e.g. " + {"qpair": f"{one}, {one}", "qlist": f"{one}, …"}.get(
-                self.tag, one)
-        return f"unset: {self.hint}"
+            return {"qpair": f"{one}, {one}", "qlist": f"{one}, …"}.get(self.tag, one)
+        return self.hint
 
     @property
     def hint(self) -> str:

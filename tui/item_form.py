@@ -80,6 +80,7 @@ class ItemForm(VerticalScroll):
         """Put ``text`` under the field of ``path``; False if the form has no such field."""
         for i, f in enumerate(self.fields):
             if f.path == path:
+                text = text.removeprefix(f"{path} = ").removeprefix(f"{path}: ")
                 self.errors[path] = text
                 msg = self.query(f"#e-{i}")
                 if msg:
@@ -120,7 +121,8 @@ class ItemForm(VerticalScroll):
                 else:
                     box = Input(show_value(f.value), placeholder=f.placeholder, id=f"f-{i}",
                                 compact=True, select_on_focus=True)
-                    box.tooltip = f"{f.path}: {f.hint}" + (f" — {f.doc}" if f.doc else "")
+                    box.tooltip = f"{f.path}: {f.hint}, e.g. {f.example}" + (
+                        f" — {f.doc}" if f.doc else "")
                     yield box
                 if f.key in _MATERIAL_KEYS:
                     yield Button("lib", id=f"m-{i}", classes="pick", compact=True,

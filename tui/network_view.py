@@ -1,6 +1,7 @@
 """What the builder made: nodes grouped by part and layer, with each group's heat
 capacity C, the resistance R through it (the series sum along its node chain) and
-tau = R*C; under each group its nodes with C, the conductance to the next node and tau."""
+tau = R*C; under each group its nodes (named without the group's prefix) with C, the
+resistance to the next node and tau."""
 from __future__ import annotations
 
 from typing import Any
@@ -22,6 +23,17 @@ def _eng(x: float, unit: str) -> str:
     return f"{x:.2e} {unit}"
 
 
+def _common_prefix(nodes: list[str]) -> str:
+    """The dotted prefix the group's node names share (``final.die.``)."""
+    if len(nodes) < 2:
+        return nodes[0].rpartition(".")[0] + "." if nodes and "." in nodes[0] else ""
+    head = nodes[0]
+    for n in nodes[1:]:
+        while not n.startswith(head):
+            head = head[:-1]
+    return head[: head.rfind(".") + 1]
+
+
 def network_rows(model: Any) -> list[tuple[int, str, str, str, str]]:
     """Rows ``(depth, name, C, R, tau)``: a heading per part/layer group, then its nodes."""
     net = model.network
@@ -40,14 +52,16 @@ def network_rows(model: Any) -> list[tuple[int, str, str, str, str]]:
                 R += 1.0 / float(g.edges[a, b]["conductance"])
         rows.append((0, f"{label} ({len(nodes)} nodes)", _eng(C, "J/K"),
                      _eng(R, "K/W") if R else "—", _eng(R * C, "s") if R and C else "—"))
+        prefix = _common_prefix(nodes)
         for a, b in zip(nodes, nodes[1:] + [None]):
             c = float(g.nodes[a].get("capacity", 0.0))
+            short = a[len(prefix):] or a
             if b is not None and g.has_edge(a, b):
                 r = 1.0 / float(g.edges[a, b]["conductance"])
-                rows.append((1, a, _eng(c, "J/K"), _eng(r, "K/W"),
+                rows.append((1, short, _eng(c, "J/K"), _eng(r, "K/W"),
                              _eng(r * c, "s") if c else "—"))
             else:
-                rows.append((1, a, _eng(c, "J/K"), "—", "—"))
+                rows.append((1, short, _eng(c, "J/K"), "—", "—"))
     for b in net.boundaries:
         rows.append((0, f"{b} (fixed temperature)", "—", "—", "—"))
     return rows
@@ -67,12 +81,12 @@ class NetworkView(DataTable):
 
     def _fill(self) -> None:
         avail = max(30, self.size.width - 2)
-        name_w = max(8, min(40, avail - 3 * 12 - 8))
+        name_w = max(10, min(40, avail - 3 * 9 - 8))
         self.clear(columns=True)
-        self.add_column("group / node", width=name_w)
-        self.add_column("C", width=10)
-        self.add_column("R to next", width=10)
-        self.add_column("tau", width=10)
+        self.add_column(ellipsize("group / node", name_w), width=name_w)
+        self.add_column("C", width=9)
+        self.add_column("R to next", width=9)
+        self.add_column("tau", width=9)
         for depth, name, c, r, tau in self._rows:
             label = Text(ellipsize(("  " * depth) + name, name_w),
                          style="bold" if depth == 0 else "")

@@ -37,6 +37,7 @@ def probe_rows(result: Any, base: Any = None) -> list[tuple[str, list[str], bool
         change = None
         if base is not None and name in base.probes:
             change = p.peak_C - base.probes[name].peak_C
+            change = 0.0 if abs(change) < 0.005 else change  # no "-0.00"
         margin = _num(p.margin_K, "{:+.1f}") + (" OVER" if broken else "")
         cells = [("! " if broken else "") + name, _num(p.peak_C), _num(p.mean_C),
                  _num(p.min_C), _num(p.ripple_K), _num(p.limit_C, "{:.0f}"),

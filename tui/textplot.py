@@ -92,12 +92,15 @@ def draw(series: list[Series], width: int, height: int, *, x_title: str = "time"
     if not y1 > y0:
         y0, y1 = y0 - 0.5, y1 + 0.5
     pad = 0.04 * (y1 - y0)
-    y0, y1 = y0 - pad, y1 + pad
+    y0, y1 = (max(0.0, y0 - pad) if y0 >= 0 else y0 - pad), y1 + pad
     if not x1 > x0:
         x1 = x0 + 1.0
-    gutter = max(len(_fmt(y0)), len(_fmt(y1)), len(_fmt((y0 + y1) / 2))) + 1
-    W = width - gutter - 1
     H = height - 3
+    y_ticks = {0: _fmt(y1), H - 1: _fmt(y0)}
+    if H >= 5:
+        y_ticks[(H - 1) // 2] = _fmt(y1 - (y1 - y0) * ((H - 1) // 2) / (H - 1))
+    gutter = max(len(v) for v in y_ticks.values()) + 1
+    W = width - gutter - 1
     px, py = 2 * W, 4 * H
     bits = np.zeros((H, W), dtype=np.uint8)
     owner = np.full((H, W), -1, dtype=int)
@@ -118,9 +121,6 @@ def draw(series: list[Series], width: int, height: int, *, x_title: str = "time"
         cx = math.log10(cursor) if xlog and cursor > 0 else cursor
         if x0 <= cx <= x1:
             cur_col = min(W - 1, int((cx - x0) / (x1 - x0) * W))
-    y_ticks = {0: _fmt(y1 - pad * 0), H - 1: _fmt(y0)}
-    if H >= 5:
-        y_ticks[(H - 1) // 2] = _fmt(y1 - (y1 - y0) * ((H - 1) // 2) / (H - 1))
     lines = [legend]
     for r in range(H):
         line = Text(y_ticks.get(r, "").rjust(gutter - 1) + " ", style="dim")
@@ -165,7 +165,7 @@ def draw(series: list[Series], width: int, height: int, *, x_title: str = "time"
 def _legend(series: list[Series], y_title: str, x_title: str, width: int) -> Text:
     """Title line: what is plotted against what, then one coloured mark per series."""
     out = Text(y_title, style="bold")
-    out.append(" against ")
+    out.append(" vs ")
     out.append(x_title, style="bold")
     out.append("   ")
     for s in series:

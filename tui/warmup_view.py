@@ -32,10 +32,12 @@ class WarmupView(PlotView):
     def speed(self) -> float:
         return SPEEDS[self.speed_index]
 
-    def show(self, warm: Any, probes: dict[str, str], names: list[str]) -> None:
-        """``warm``: the warm-up Response; ``probes``: probe name -> node."""
+    def show(self, warm: Any, probes: dict[str, str], names: list[str],
+             period: float = 0.0) -> None:
+        """``warm``: the warm-up Response; ``probes``: probe name -> node; ``period``: of
+        the heat waveforms, s (the time axis starts at a thousandth of it)."""
         t = np.asarray(warm.t, float)
-        keep = t > 0
+        keep = t > 1e-3 * period if period > 0 else t > 0  # a log axis from 1/1000 period
         self.data = []
         for name in names:
             node = probes.get(name)
