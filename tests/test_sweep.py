@@ -350,6 +350,20 @@ def test_failed_rows_exit_1_and_keep_the_others(tmp_path, capsys):
     assert code == 1 and "2 of 2 rows failed" in capsys.readouterr().err
 
 
+def test_a_value_the_scenario_refuses_fails_its_rows_only(scn):
+    """A varied value the scenario refuses (a sink resistance of 0, a material not in the
+    library) stopped the whole sweep before any row ran; its rows fail with the message
+    naming the key and the value, the others run.  Common practice, no source."""
+    res = run_sweep(plan_sweep(scn, vary=["mount.sink.resistance=0 K/W,0.2 K/W",
+                                          "coolant=20 degC,30 degC"]))
+    assert res.failed == 2 and len(res.rows) == 4
+    for row in res.rows:
+        bad = row["mount.sink.resistance"] == "0 K/W"
+        assert bool(row["error"]) == bad
+        if bad:
+            assert "mount.sink.resistance = '0 K/W'" in row["error"]
+
+
 def test_an_internal_error_in_a_row_fails_that_row_only(scn, tmp_path, monkeypatch, capsys):
     """An unexpected exception (a bug) in one row used to end the sweep; it is recorded as
     a failed row asking for a report, the other rows run and the file keeps them; the
