@@ -373,3 +373,19 @@ def test_ui_verb_refuses_a_broken_file_before_opening(tmp_path, capsys):
     assert main(["ui", str(bad)]) == 2
     err = capsys.readouterr().err
     assert "coolant" in err and "Traceback" not in err
+
+
+def test_json_report_is_written_to_a_new_file(tmp_path):
+    import json
+
+    async def script(app, pilot):
+        app.action_report()
+        app.action_report()
+        await pilot.pause()
+        return app.result
+    res = drive(script, save_dir=tmp_path)
+    names = sorted(p.name for p in tmp_path.iterdir())
+    assert names == ["demo.report-2.json", "demo.report.json"]
+    data = json.loads((tmp_path / "demo.report.json").read_text())
+    assert data["probes"]["final.junction"]["peak_C"] == res.probes["final.junction"].peak_C
+    assert data["cautions"]

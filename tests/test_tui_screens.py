@@ -102,7 +102,7 @@ def test_help_lists_keys_and_editable_paths_and_the_palette_has_the_apps_command
         await pilot.pause()
         return titles, isinstance(screen, HelpScreen), text, type(app.screen).__name__
     titles, was_help, text, after = _run(script)
-    for t in ("Save scenario", "Undo edit", "Redo edit", "Reload scenario", "Cancel solve",
+    for t in ("Save scenario", "Save as a new file", "Write JSON report", "Undo edit", "Redo edit", "Reload scenario", "Cancel solve",
               "Play warm-up", "Size or sweep a value", "Show network"):
         assert t in titles
     assert was_help and "ctrl+s" in text and "mount.interface[0].thickness" in text

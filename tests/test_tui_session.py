@@ -143,3 +143,13 @@ def test_read_field_keeps_units_and_refuses_bad_text():
     assert read_field(dev["footprint"], "1, 2") == ["1 mm", "2 mm"]
     with pytest.raises(ScenarioError, match="required"):
         read_field(dev["name"], " ")
+
+
+def test_save_as_new_file_leaves_the_original_and_heads_the_copy(session):
+    original = session.path.read_text()
+    session.set_value("coolant", "33 degC")
+    target = session.save(new_file=True)
+    assert session.path == target and target.name == "xband_gan_coldplate.edited.toml"
+    assert (target.parent / "xband_gan_coldplate.toml").read_text() == original
+    text = target.read_text()
+    assert "#   - coolant = 33 degC" in text and "# heated gate region" in text

@@ -543,11 +543,33 @@ class ScenarioApp(App):
         self._after_change(structure=True)
         self.request_run(f"redone: {label}")
 
-    def action_save(self) -> None:
+    def action_report(self) -> None:
+        """Write the JSON report of the shown result beside the scenario (a new file)."""
+        import json
+
+        from pulsetherm.network.scenario import atomic_open
+
+        if self.result is None:
+            self.notify("no result yet", severity="warning")
+            return
+        base = self.session.path or self.session.save_dir / "demo.toml"
+        target = free_path(base, "report.json")
+        try:
+            with atomic_open(target) as fh:
+                fh.write(json.dumps(self.result.to_dict(), indent=2) + "\n")
+        except OSError as exc:
+            self._status(f"report not written: {_one_line(exc)}", "-failed")
+            return
+        self._status(f"wrote {target}", "-ok")
+
+    def action_save_new(self) -> None:
+        self.action_save(new_file=True)
+
+    def action_save(self, new_file: bool = False) -> None:
         from pulsetherm.network.scenario import ScenarioError
 
         try:
-            target = self.session.save(new_file=self.session.path is None)
+            target = self.session.save(new_file=new_file or self.session.path is None)
         except (OSError, ScenarioError) as exc:
             self._status(f"not saved: {_one_line(exc)}; the file on disk is unchanged",
                          "-failed")
@@ -652,6 +674,10 @@ class ScenarioApp(App):
         yield from super().get_system_commands(screen)
         for title, help_, cb in (
                 ("Save scenario", "write the scenario (comments kept)", self.action_save),
+                ("Save as a new file", "a numbered file beside it, headed by the changes",
+                 self.action_save_new),
+                ("Write JSON report", "the shown result as JSON, a new file",
+                 self.action_report),
                 ("Undo edit", "step back one edit", self.action_undo),
                 ("Redo edit", "step forward one edit", self.action_redo),
                 ("Reload scenario", "read the file again", self.action_reload),

@@ -15,7 +15,7 @@ Keys (letters act only while no text field has the focus; Esc leaves a field)
   ctrl+z  undo the last edit        ctrl+y  redo
   ctrl+r  reload the file (asks when there are unsaved changes)
   ctrl+q  quit (asks when there are unsaved changes; never waits for a solve)
-  ctrl+p  command palette (every command below, searchable)
+  ctrl+p  command palette (the commands here, save as a new file, JSON report)
   Esc     cancel the running solve / leave a text field
   f1 ?    this help
   tab     next pane           shift+tab  previous pane
