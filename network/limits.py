@@ -43,7 +43,7 @@ INT_LIMITS: dict[str | None, int] = {
 #: Zero is left to each key's own check (``> 0`` or ``>= 0``).
 PLAUSIBLE: dict[str, tuple[float, float, str, str]] = {
     # kind: (lo, hi, lo shown, hi shown)
-    "length": (1e-9, 100.0, "1 nm", "100 m"),
+    "length": (1e-7, 100.0, "0.1 um", "100 m"),
     "thickness": (1e-9, 1.0, "1 nm", "1 m"),
     "time": (1e-12, 1e9, "1 ps", "1e9 s"),
     "power": (1e-12, 1e8, "1 pW", "100 MW"),
@@ -57,7 +57,13 @@ PLAUSIBLE: dict[str, tuple[float, float, str, str]] = {
     "area": (1e-18, 1e4, "1e-18 m2", "1e4 m2"),
     "area_resistance": (1e-15, 1.0, "1e-15 K m2/W", "1 K m2/W"),
     "angle": (1e-9, 90.0, "1e-9 deg", "90 deg"),
+    "gain_tc": (1e-9, 1.0, "1e-9 dB/K", "1 dB/K"),
+    "phase_tc": (1e-9, 10.0, "1e-9 deg/K", "10 deg/K"),
+    "decibel": (1e-9, 100.0, "1e-9 dB", "100 dB"),
+    "energy": (1e-24, 1e9, "1e-24 J", "1e9 J"),
 }
+#: Any other kind (added later): at least no overflow on the way to the solvers.
+GENERIC_RANGE = (0.0, 1e15, "0", "1e15 (SI)")
 
 #: Plausible plain numbers by key: (lo, hi) inclusive.
 NUMBER_RANGES: dict[str, tuple[float, float]] = {
@@ -68,9 +74,9 @@ NUMBER_RANGES: dict[str, tuple[float, float]] = {
 
 def plausible_range(kind: str, value: float) -> str | None:
     """None when ``value`` (SI) is plausible for ``kind``; else the reason, with the range."""
-    if kind not in PLAUSIBLE or value == 0.0:
+    if value == 0.0:
         return None
-    lo, hi, lo_s, hi_s = PLAUSIBLE[kind]
+    lo, hi, lo_s, hi_s = PLAUSIBLE.get(kind, GENERIC_RANGE)
     mag = abs(value)
     if not math.isfinite(mag) or mag > hi or (lo > 0 and mag < lo):
         return f"outside the plausible range {lo_s} .. {hi_s}"

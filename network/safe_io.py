@@ -108,18 +108,23 @@ def read_text(path: str | os.PathLike, what: str = "file", max_bytes: int = MAX_
                              f"{exc.start}); expected a UTF-8 file") from None
 
 
-_UMASK: list[int] = []
 _UMASK_LOCK = threading.Lock()
 
 
 def _umask() -> int:
-    """The process umask (read once: reading it means setting it)."""
+    """The process umask now: from /proc where the kernel shows it (reading it through
+    os.umask means setting it for a moment, which another thread could see)."""
+    try:
+        with open("/proc/self/status", encoding="ascii", errors="replace") as fh:
+            for line in fh:
+                if line.startswith("Umask:"):
+                    return int(line.split()[1], 8)
+    except (OSError, ValueError, IndexError):
+        pass
     with _UMASK_LOCK:
-        if not _UMASK:
-            mask = os.umask(0o022)
-            os.umask(mask)
-            _UMASK.append(mask)
-        return _UMASK[0]
+        mask = os.umask(0o022)
+        os.umask(mask)
+        return mask
 
 
 def check_output_target(path: str | os.PathLike) -> tuple[Path, int | None]:

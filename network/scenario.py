@@ -920,6 +920,11 @@ class FosterSpec(_Section):
     tau: tuple = _f("qlist", kind="time", required=True)
 
     def check(self, path: str) -> None:
+        from .limits import MAX_FOSTER_TERMS
+
+        if len(self.R) > MAX_FOSTER_TERMS:
+            raise ScenarioError(_join(path, "R"), None, f"{len(self.R)} terms; expected at "
+                                f"most {MAX_FOSTER_TERMS} (a data-sheet network has a few)")
         if len(self.R) != len(self.tau):
             raise ScenarioError(_join(path, "tau"), [q.text for q in self.tau],
                                 f"as many time constants as resistances ({len(self.R)})")
@@ -1118,6 +1123,41 @@ class ModelSpec(_Section):
     periods: int | None = _f("int")
 
 
+#: Plausible material properties, SI (common practice, no source): conductivity from
+#: aerogels to diamond, density from foams to tungsten, specific heat of solids.
+_MATERIAL_RANGES = {"k": (1e-3, 1e4), "k_inplane": (1e-3, 1e4), "rho": (1.0, 1e5),
+                    "c": (1.0, 1e5), "k_exponent": (-5.0, 5.0)}
+
+
+def _check_materials(materials: dict | None) -> None:
+    """Numbers of the scenario's own materials within :data:`_MATERIAL_RANGES` (a denormal
+    conductivity divided by zero in the builder; 1e300 overflowed)."""
+    from .units import parse_quantity as units_parse
+
+    kinds = {"k": "conductivity", "k_inplane": "conductivity", "rho": "density",
+             "c": "specific_heat", "k_exponent": "dimensionless"}
+    for name, props in (materials or {}).items():
+        where = _join("materials", str(name))
+        _check_text_value(str(name), where)
+        if not isinstance(props, dict):
+            continue
+        for key, (lo, hi) in _MATERIAL_RANGES.items():
+            if key not in props:
+                continue
+            v = props[key]
+            path = _join(where, key)
+            try:
+                if isinstance(v, bool) or not isinstance(v, (int, float, str)):
+                    raise ValueError("not a number")
+                x = float(units_parse(v, kinds[key], path) if isinstance(v, str) else v)
+            except (ValueError, ArithmeticError):
+                raise ScenarioError(path, v, f"a number in SI units from {lo:g} to {hi:g}") \
+                    from None
+            if not (math.isfinite(x) and lo <= x <= hi) and not (key == "k_exponent"
+                                                                   and x == 0):
+                raise ScenarioError(path, v, f"a plausible value from {lo:g} to {hi:g} (SI)")
+
+
 def _check_profile_size(scn: "Scenario") -> None:
     """Profiles referring to named waveforms may nest and repeat (a profile of two stretches
     that both name the next profile doubles per level): refuse, before anything is built,
@@ -1231,6 +1271,7 @@ class Scenario(_Section):
             raise ScenarioError("board", None, "missing; a line needs a board (its laminate "
                                 "and ground plane)")
         _check_profile_size(self)
+        _check_materials(self.materials)
 
     def _check_wave_ref(self, ref: Any, path: str, allow_power: bool = False) -> None:
         if not isinstance(ref, str):

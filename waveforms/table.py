@@ -368,6 +368,11 @@ class Table(WaveformBase):
             lineno, _ = data_rows()[i]
             return f"CSV row {i + 1} (line {lineno}), column {col + 1} ({cells[col]})"
 
+        if POWER_UNITS[punit] is None and values.shape[0] and float(values[:, 1].max()) > 300:
+            i = int(np.argmax(values[:, 1]))
+            lineno, _ = data_rows()[i]
+            raise WaveformError(f"CSV row {i + 1} (line {lineno}), column 2 (power_{punit}): "
+                                "above 300 dBm; expected a plausible power")
         time = values[:, 0] * TIME_UNITS[tunit]
         power = _to_watts(values[:, 1], punit)
         if interp is None:
