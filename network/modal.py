@@ -91,8 +91,8 @@ def _psi(k: int, lam: np.ndarray, s) -> np.ndarray:
 
 def _gks(x: np.ndarray, kmax: int) -> list[np.ndarray]:
     """[g_0(x), ..., g_kmax(x)] in one pass: the recursion g_{k+1} = (1/(k+1)! − g_k)/x
-    from g₀ = −expm1(−x)/x for x ≥ 0.1, the series Σ_j (−x)^j/(j+k+1)! (12 terms, as in
-    :func:`gk`) below, all orders of the series from one table of powers (x)."""
+    from g₀ = −expm1(−x)/x for x ≥ 0.1, the series Σ_j (−x)^j/(j+k+1)! (12 terms, Horner,
+    as in :func:`gk`) below, all orders at once and only where x < 0.1."""
     x = np.asarray(x, dtype=np.float64)
     small = x < 0.1
     if not small.any():
@@ -102,25 +102,28 @@ def _gks(x: np.ndarray, kmax: int) -> list[np.ndarray]:
             g = (1.0 / _FACT[kk + 1] - g) / x
             out.append(g)
         return out
-    # powers of a non-negative base (numpy's pow is ~40x slower for a negative one); the
-    # signs (−1)^j sit in the coefficients, so the products are bit-identical to (−x)^j
-    series = (_SERIES_SIGNED[:kmax + 1] @ (np.minimum(x, 0.1).reshape(1, -1)
-                                          ** _POW[:, None])).reshape((kmax + 1,) + x.shape)
-    if small.all():
-        return list(series)
+    every = small.all()
+    xs = -(x.ravel() if every else x[small])
+    coef = _SERIES[:kmax + 1]
+    acc = np.repeat(coef[:, 11:12], xs.size, axis=1)
+    for j in range(10, -1, -1):
+        acc *= xs
+        acc += coef[:, j:j + 1]
+    if every:
+        return list(acc.reshape((kmax + 1,) + x.shape))
     xb = np.where(small, 1.0, x)
     g = -np.expm1(-xb) / xb
-    out = [np.where(small, series[0], g)]
+    g[small] = acc[0]
+    out = [g]
     for kk in range(kmax):
         g = (1.0 / _FACT[kk + 1] - g) / xb
-        out.append(np.where(small, series[kk + 1], g))
+        g[small] = acc[kk + 1]
+        out.append(g)
     return out
 
 
-#: Series coefficients 1/(j+k+1)! (row k, column j) and the powers j of the table in _gks.
-_POW = np.arange(12, dtype=np.float64)
+#: Series coefficients 1/(j+k+1)! (row k, column j) of _gks.
 _SERIES = np.array([[1.0 / _FACT[j + k + 1] for j in range(12)] for k in range(4)])
-_SERIES_SIGNED = _SERIES * np.where(np.arange(12) % 2 == 0, 1.0, -1.0)[None, :]
 
 
 def _phis(lam: np.ndarray, s, kmax: int) -> list[np.ndarray]:
@@ -239,6 +242,16 @@ def _rtsafe(fun, a: float, b: float, fa: float, fb: float, xtol: float,
     return x
 
 
+def _eigh(A: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Eigenvalues (ascending) and orthonormal eigenvectors of the symmetric A: LAPACK's
+    divide-and-conquer driver dsyevd (10-30 % faster than the default dsyevr here, same
+    accuracy class), called directly; the default driver if it reports a failure."""
+    lam, U, info = sla.lapack.dsyevd(A, compute_v=1, lower=1)
+    if info != 0:
+        lam, U = sla.eigh(A, check_finite=False)
+    return lam, U
+
+
 class ModalSolver:
     """Exact modal solver for linear networks (registered as ``"modal"``).
 
@@ -283,7 +296,7 @@ class ModalSolver:
         self.cond = cond
         s = 1.0 / np.sqrt(cond.C)
         A = s[:, None] * cond.G * s[None, :]
-        lam, U = sla.eigh(A, check_finite=False)
+        lam, U = _eigh(A)
         lam = np.maximum(lam, 0.0)
         n_float = len(floating_nodes(system))
         if n_float:
@@ -486,14 +499,17 @@ class ModalSolver:
         return float(1.0 / lam[keep].max()) if keep.any() else 1.0
 
     def _sample(self, q0, edges, level, slope, rows, store_ok: bool = True,
-                refine: bool = True):
+                refine: bool = True, keep: dict | None = None):
         """Exact samples at every segment end (plus interior log-spaced points and refined
-        extremes of every probe).  Returns t, theta (absolute K), q_end, integral."""
+        extremes of every probe).  Returns t, theta (absolute K), q_end, integral; ``keep``
+        (a dict) receives the segment (or block) start states and whether all are stored."""
         Pp = self.Phi[rows]
         Dp = self.Dp[rows]
         N = edges.size - 1
         store = store_ok and N * self.lam.size <= STORE_LIMIT
         ends, q_end, integral, starts = self._scan(q0, edges, level, slope, Pp, Dp, store)
+        if keep is not None:
+            keep.update(starts=starts, store=store)
         p0 = (Pp @ q0) + Dp @ level[0]
         t_list = [np.array([0.0]), edges[1:]]
         v_list = [p0[None, :], ends]
@@ -542,13 +558,18 @@ class ModalSolver:
         order = np.argsort(t, kind="stable")
         t, v = t[order], v[order]
         if refine:
-            t, v = self._refine(t, v, q0, edges, level, slope, starts, store, Pp, Dp)
-            if store:
-                # prove no other local extreme beats the refined ones (modal_bounds)
-                t, v = certify(self, t, v, edges, level, slope, starts, Pp, Dp,
-                               lambda f, a, b, fa, fb, xtol: _bracketed_newton(
-                                   f, a, b, fa, fb, xtol=xtol))
+            t, v = self._extremes(t, v, q0, edges, level, slope, starts, store, Pp, Dp)
         return t, v + self.T_ref[rows][None, :], q_end, integral
+
+    def _extremes(self, t, v, q0, edges, level, slope, starts, store, Pp, Dp):
+        """Refined extremes (:meth:`_refine`), then certified (modal_bounds: no other local
+        extreme beats them) when every segment start is stored; t, v rises."""
+        t, v = self._refine(t, v, q0, edges, level, slope, starts, store, Pp, Dp)
+        if store:
+            t, v = certify(self, t, v, edges, level, slope, starts, Pp, Dp,
+                           lambda f, a, b, fa, fb, xtol: _bracketed_newton(
+                               f, a, b, fa, fb, xtol=xtol))
+        return t, v
 
     def _slope_seg(self, q0, s: float, lvl, slp, Pp_j, Dp_j) -> float:
         """dθ/ds of one probe inside a segment: Pp·(−λ q(s) + Wa + Wb s) + Dp·slope."""
@@ -590,7 +611,7 @@ class ModalSolver:
                 cache[k] = self._segment_start(k, edges, level, slope, starts, store)
             return cache[k]
 
-        kk_a = np.clip(np.searchsorted(edges, t, side="right") - 1, 0, N - 1)
+        kk_a = np.minimum(np.maximum(np.searchsorted(edges, t, side="right") - 1, 0), N - 1)
         at_edge = ((t == edges[kk_a]) & (kk_a > 0)).tolist()
         kk = kk_a.tolist()
         tl = t.tolist()
@@ -772,8 +793,22 @@ class ModalSolver:
         y = self.lam * T
         E = np.exp(-y)
         one_m_E = -np.expm1(-y)
-        r = self._period_increment(edges, level, slope)
         q0 = self.q_from_state(initial)
+        # one period from a zero start: its samples z(t) (absolute K), its end state r (the
+        # period increment) and its integral j0.  From any start q_n the samples are
+        # z(t) + Pp·(e^{−λt} ⊙ q_n): the interior offsets repeat, only that product changes
+        kept: dict = {}
+        t1, v1, r, j0 = self._sample(np.zeros_like(q0), edges, level, slope, rows,
+                                     refine=False, keep=kept)
+        H = np.exp(-np.multiply.outer(t1, self.lam))          # (samples, modes)
+        Pp = self.Phi[rows]
+        Dp = self.Dp[rows]
+        Tr = self.T_ref[rows][None, :]
+        # segment (or block) start times of the stored zero-start states
+        N = edges.size - 1
+        t_st = edges[:-1] if kept["store"] else \
+            edges[np.arange(kept["starts"].shape[1]) * max(1, int(math.ceil(math.sqrt(N))))]
+        H_st = np.exp(-np.multiply.outer(self.lam, t_st))     # (modes, starts)
 
         def S(nn):
             """(1 − Eⁿ)/(1 − E), λ = 0 limit n."""
@@ -783,7 +818,8 @@ class ModalSolver:
             return np.where(one_m_E > 0, val, nn[..., None] * np.ones_like(y))
 
         def q_at(nn):
-            return E ** nn * q0 + S(nn) * r
+            # e^{−nλT} directly: powers of tiny E (fast modes) crawl through subnormals
+            return np.exp(-nn * y) * q0 + S(nn) * r
 
         # which periods to sample
         sel = set(range(min(Nper, 4))) | {Nper - 1}
@@ -795,28 +831,33 @@ class ModalSolver:
             q_ps = r / one_m_E
             dq = q0 - q_ps
             nn = np.unique(np.geomspace(1, Nper - 1, 400).astype(int))
-            dev = (self.Phi[rows] * dq[None, :]) @ (E[:, None] ** nn[None, :])
+            dev = (self.Phi[rows] * dq[None, :]) @ np.exp(-np.multiply.outer(y, nn))
             for j in range(rows.size):
                 sel.add(int(nn[np.argmax(dev[j])]))
                 sel.add(int(nn[np.argmin(dev[j])]))
         sel = sorted(s for s in sel if 0 <= s < Nper)
+        sel_f = np.asarray(sel, dtype=np.float64)
+        Qsel = np.exp(-np.multiply.outer(sel_f, y)) * q0 + S(sel_f) * r   # (periods, modes)
+        vals = np.stack([v1[:, j][None, :] + (Qsel * Pp[j]) @ H.T
+                         for j in range(rows.size)], axis=2)    # (periods, samples, p)
         ts, vs = {}, {}
-        for n in sel:
-            t, th, _, _ = self._sample(q_at(n), edges, level, slope, rows, refine=False)
-            ts[n], vs[n] = t + n * T, th
+        for i, n in enumerate(sel):
+            ts[n], vs[n] = t1 + n * T, vals[i]
         # refine the extremes only in the periods holding each probe's best samples
         best = set()
         for j in range(rows.size):
-            best.add(max(sel, key=lambda n: vs[n][:, j].max()))
-            best.add(min(sel, key=lambda n: vs[n][:, j].min()))
+            best.add(sel[int(np.argmax(vals[:, :, j].max(axis=1)))])
+            best.add(sel[int(np.argmin(vals[:, :, j].min(axis=1)))])
         for n in best:
-            t, th, _, _ = self._sample(q_at(n), edges, level, slope, rows, refine=True)
-            ts[n], vs[n] = t + n * T, th
+            # the same samples and start states, shifted by the decaying start q_n
+            qn = q_at(n)
+            starts_n = kept["starts"] + H_st * qn[:, None]
+            t, th = self._extremes(t1, vs[n] - Tr, qn, edges, level, slope, starts_n,
+                                   kept["store"], Pp, Dp)
+            ts[n], vs[n] = t + n * T, th + Tr
         ts = [ts[n] for n in sel]
         vs = [vs[n] for n in sel]
         # exact integral over all periods: ∫_period q = J q_n + j0, J = ψ₀(λ, T)
-        _ends, _qe, j0, _st = self._scan(np.zeros_like(q0), edges, level, slope,
-                                         self.Phi[rows[:1]], self.Dp[rows[:1]], False)
         J = _psi(0, self.lam, T)
         sumE = S(Nper)                                  # Σ_{n<N} Eⁿ
         sumS = self._sum_S(Nper, y, one_m_E)            # Σ_{n<N} (1 − Eⁿ)/(1 − E)

@@ -63,7 +63,7 @@ def _interval_bounds(solver, Pj, dj, q0s, lv, sl, sa, sb):
 def _line_bound(th_a, th_b, U, L, w):
     """Upper bound of θ on [0, w] from θ(0), θ(w) and L ≤ θ' ≤ U."""
     with np.errstate(divide="ignore", invalid="ignore"):
-        x = np.clip((th_b - th_a - L * w) / (U - L), 0.0, w)
+        x = np.minimum(np.maximum((th_b - th_a - L * w) / (U - L), 0.0), w)
     ub = np.where(U <= 0, th_a, np.where(L >= 0, th_b, th_a + U * x))
     return np.maximum(ub, np.maximum(th_a, th_b))
 
@@ -77,7 +77,7 @@ def _sample_intervals(t, edges, ck, cj, sg, slot):
         lo = int(np.searchsorted(t, edges[k], side="left"))
         hi = int(np.searchsorted(t, edges[k + 1], side="right"))
         hk = edges[k + 1] - edges[k]
-        s = np.clip(t[lo:hi] - edges[k], 0.0, hk)
+        s = np.minimum(np.maximum(t[lo:hi] - edges[k], 0.0), hk)
         cuts[k] = np.unique(np.concatenate([[0.0], s, [hk]]))
     out = [[], [], [], [], [], []]
     for c, k in enumerate(ck.tolist()):
