@@ -63,7 +63,7 @@ def cpu_cap() -> int:
 
 def _too_many(option: str, value: Any, count: int | str) -> ScenarioError:
     count = str(count)
-    shown = count if len(count) <= 12 else count[:12] + "..."
+    shown = count if len(count) <= 12 else f"about {count[0]}.{count[1:3]}e{len(count) - 1}"
     return ScenarioError(option, value, f"a sweep of at most {MAX_ROWS} rows (this one asks "
                          f"for {shown}); split it into several sweeps, each with its own --out")
 
@@ -584,8 +584,10 @@ def _dask_row(base: dict[str, Any], files: dict[str, Any], fp: str, key: str,
 class _RowWriter:
     """Append complete rows to a CSV or JSON-lines file, flushing each one.
 
-    Only a regular file is written (a device, FIFO, folder or symbolic link at the target is
-    refused) and a new file is created as the user's umask allows.  With ``resume``, the
+    Only a regular file is written (a device, FIFO or folder at the target is refused; a
+    symbolic link to a regular file is followed, the link kept:
+    :func:`pulsetherm.network.safe_io.check_output_target`) and a new file is created as
+    the user's umask allows.  With ``resume``, the
     rows already in the file are read first: every one must carry this sweep's
     ``fingerprint`` (else the file is refused, untouched); a partial last line left by an
     interruption is dropped."""
@@ -602,10 +604,14 @@ class _RowWriter:
         if not path.parent.is_dir():
             raise ScenarioError("--out", str(path), f"a file in an existing folder (folder "
                                 f"{str(path.parent)!r} does not exist)")
-        kind = _file_kind(path)
-        if kind not in (None, "file"):
-            raise ScenarioError("--out", str(path), f"a regular file (it is {kind})")
-        if resume and kind == "file":
+        from .safe_io import check_output_target
+
+        try:
+            path, mode = check_output_target(path)
+        except ValueError as exc:
+            raise ScenarioError("--out", str(path), " ".join(str(exc).split())) from None
+        self.path = path
+        if resume and mode is not None:
             self._read_done()
             self.fh = open(path, "a", encoding="utf-8", newline="")
         else:
@@ -677,27 +683,6 @@ class _RowWriter:
 
     def close(self) -> None:
         self.fh.close()
-
-
-def _file_kind(path: Path) -> str | None:
-    """None when nothing is at ``path``, "file" for a regular file, else what is there."""
-    import stat
-
-    try:
-        mode = os.lstat(path).st_mode
-    except FileNotFoundError:
-        return None
-    if stat.S_ISLNK(mode):
-        return "a symbolic link"
-    if stat.S_ISREG(mode):
-        return "file"
-    if stat.S_ISDIR(mode):
-        return "a folder"
-    if stat.S_ISFIFO(mode):
-        return "a FIFO"
-    if stat.S_ISCHR(mode) or stat.S_ISBLK(mode):
-        return "a device"
-    return "not a regular file"
 
 
 def _cell(v: Any) -> Any:

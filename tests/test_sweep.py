@@ -439,8 +439,8 @@ def test_workers_are_capped_at_the_cpu_count(scn, tmp_path, capsys):
 
 
 def test_out_must_be_a_regular_file(scn, tmp_path):
-    """--out onto a FIFO or a symbolic link is refused (nothing written through it).
-    Common practice, no source."""
+    """--out onto a FIFO or a device is refused; a symbolic link to a regular file is
+    followed (the rows go to its target, the link stays).  Common practice, no source."""
     import os
 
     plan = plan_sweep(scn, vary=["coolant=20 degC,30 degC"])
@@ -448,74 +448,30 @@ def test_out_must_be_a_regular_file(scn, tmp_path):
     run_sweep(plan, out=target)
     link = tmp_path / "link.csv"
     link.symlink_to(target)
-    with pytest.raises(ValueError, match="symbolic link"):
-        run_sweep(plan, out=link, resume=True)
+    assert run_sweep(plan, out=link, resume=True).skipped == 2
+    assert link.is_symlink()
     fifo = tmp_path / "pipe.csv"
     os.mkfifo(fifo)
     with pytest.raises(ValueError, match="FIFO"):
         run_sweep(plan, out=fifo, resume=True)
+    bad = tmp_path / "bad.csv"
+    bad.symlink_to(fifo)
+    with pytest.raises(ValueError, match="FIFO"):
+        run_sweep(plan, out=bad)
 
 
 # -- reuse of the built network ---------------------------------------------------------
-LINE_TOML = """name = "line and termination"
-coolant = "50 degC"
-[waveforms.rf]
-kind = "pulses"
-peak = "10 W"
-width = "50 us"
-period = "1 ms"
-[waveforms.load]
-kind = "pulses"
-peak = "9.5 W"
-width = "50 us"
-period = "1 ms"
-[board]
-size = ["30 mm", "20 mm"]
-[[board.layers]]
-name = "top-copper"
-material = "pcb-copper"
-thickness = "35 um"
-[[board.layers]]
-name = "laminate"
-material = "ptfe-ceramic"
-thickness = "0.508 mm"
-[[board.layers]]
-name = "ground"
-material = "pcb-copper"
-thickness = "35 um"
-[mount.sink]
-kind = "fixed"
-[[lines]]
-name = "feed"
-power = "rf"
-length = "25 mm"
-frequency = "3 GHz"
-impedance = "50 ohm"
-permittivity = 3.0
-loss_tangent = 0.0013
-limit = "150 degC"
-segments = 6
-[[heaters]]
-name = "term"
-power = "load"
-line = "feed"
-position = "24 mm"
-length = "2 mm"
-resistance = "10 K/W"
-capacity = "5 mJ/K"
-limit = "150 degC"
-[[devices]]
-name = "pa"
-power = "rf"
-footprint = ["1 mm", "1 mm"]
-position = ["-8 mm", "0 mm"]
-limit = "200 degC"
-[[devices.stack]]
-name = "die"
-material = "sic-4h"
-thickness = "100 um"
-size = ["1.2 mm", "1.2 mm"]
-"""
+def _line_scenario():
+    """The termination example (a line, its heater) with a device on the same board."""
+    from pathlib import Path
+
+    text = (Path(__file__).resolve().parents[1] / "examples" / "termination_line.toml"
+            ).read_text()
+    text += ('\n[[devices]]\nname = "pa"\npower = "rf"\nfootprint = ["1 mm", "1 mm"]\n'
+             'position = ["-8 mm", "0 mm"]\nlimit = "200 degC"\n[[devices.stack]]\n'
+             'name = "die"\nmaterial = "sic-4h"\nthickness = "100 um"\n'
+             'size = ["1.2 mm", "1.2 mm"]\n')
+    return loads(text).with_value("lines[0].segments", 6)
 
 
 @pytest.mark.parametrize("axes", [
@@ -531,7 +487,7 @@ def test_rows_reusing_a_built_network_equal_single_runs(axes):
     source; the reference is the single run."""
     from pulsetherm.network.sweepcache import ModelCache
 
-    scn = loads(LINE_TOML)
+    scn = _line_scenario()
     plan = plan_sweep(scn, vary=axes)
     cache = ModelCache()
     from pulsetherm.network.sweep import run_row
