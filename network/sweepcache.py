@@ -74,14 +74,21 @@ class ModelCache:
 
 
 def _snapshot(model, scn, waveforms):
-    """A copy of ``model`` with its own mutable tables (a solve fills in line hot spots)
-    sharing the network."""
-    from .simulate import ScenarioModel
+    """A copy of ``model`` for ``scn`` and ``waveforms`` sharing the network (and the stack
+    build), with its own tables: every dict and list field is copied (a solve fills in line
+    hot spots), whatever fields the model has."""
+    import dataclasses
 
-    return ScenarioModel(scn, model.network, model.built, dict(waveforms), dict(model.probes),
-                         dict(model.limits), model.ambient, dict(model.materials),
-                         dict(model.lines), {k: list(v) for k, v in model.groups.items()},
-                         t_min=model.t_min, notes=list(model.notes))
+    fields = {}
+    for f in dataclasses.fields(model):
+        v = getattr(model, f.name)
+        if isinstance(v, dict):
+            v = {k: list(x) if isinstance(x, list) else x for k, x in v.items()}
+        elif isinstance(v, list):
+            v = list(v)
+        fields[f.name] = v
+    fields.update(scenario=scn, waveforms=dict(waveforms))
+    return dataclasses.replace(model, **fields)
 
 
 def _rebind(tpl, scn, waves: dict[str, Any]):
