@@ -316,8 +316,12 @@ def _cmd_sweep(args: argparse.Namespace) -> int:
         where = f" (their errors are in {args.out})" if args.out else ""
         bug = (f"; {res.internal} on an internal error: this is a bug in pulsetherm, please "
                "report it" if res.internal else "")
-        print(f"pulsetherm sweep: {res.failed} of {len(res.rows)} rows failed{where}{bug}",
-              file=sys.stderr)
+        from pulsetherm.network.safe_io import printable
+
+        first = printable(next(str(r["error"]) for r in res.rows if r.get("error")))
+        first = first if len(first) <= 200 else first[:200] + " ..."
+        print(f"pulsetherm sweep: {res.failed} of {len(res.rows)} rows failed{where}{bug}; "
+              f"first: {first}", file=sys.stderr)
         return EXIT_INTERNAL if res.internal else EXIT_LIMIT
     return EXIT_OK
 
