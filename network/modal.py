@@ -558,17 +558,18 @@ class ModalSolver:
         order = np.argsort(t, kind="stable")
         t, v = t[order], v[order]
         if refine:
-            t, v = self._extremes(t, v, q0, edges, level, slope, starts, store, Pp, Dp)
+            t, v = self._extremes(t, v, q0, edges, level, slope, starts, store, Pp, Dp,
+                                  q_end)
         return t, v + self.T_ref[rows][None, :], q_end, integral
 
-    def _extremes(self, t, v, q0, edges, level, slope, starts, store, Pp, Dp):
+    def _extremes(self, t, v, q0, edges, level, slope, starts, store, Pp, Dp, q_end=None):
         """Refined extremes (:meth:`_refine`), then certified (modal_bounds: no other local
         extreme beats them) when every segment start is stored; t, v rises."""
         t, v = self._refine(t, v, q0, edges, level, slope, starts, store, Pp, Dp)
         if store:
             t, v = certify(self, t, v, edges, level, slope, starts, Pp, Dp,
                            lambda f, a, b, fa, fb, xtol: _bracketed_newton(
-                               f, a, b, fa, fb, xtol=xtol))
+                               f, a, b, fa, fb, xtol=xtol), q_end=q_end)
         return t, v
 
     def _slope_seg(self, q0, s: float, lvl, slp, Pp_j, Dp_j) -> float:
@@ -853,7 +854,7 @@ class ModalSolver:
             qn = q_at(n)
             starts_n = kept["starts"] + H_st * qn[:, None]
             t, th = self._extremes(t1, vs[n] - Tr, qn, edges, level, slope, starts_n,
-                                   kept["store"], Pp, Dp)
+                                   kept["store"], Pp, Dp, q_at(n + 1))
             ts[n], vs[n] = t + n * T, th + Tr
         ts = [ts[n] for n in sel]
         vs = [vs[n] for n in sel]

@@ -68,6 +68,42 @@ def _line_bound(th_a, th_b, U, L, w):
     return np.maximum(ub, np.maximum(th_a, th_b))
 
 
+def _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol):
+    """Whole-segment bounds for every probe and sign at once (matrix products; the end
+    states are the next segments' starts).  Returns (slot, segment) of the segments whose
+    bound exceeds the best value (slot j: maximum of probe j, p + j: its minimum), or None."""
+    lam = solver.lam[:, None]
+    N = h.size
+    if q_end is None:
+        q_end, _, _ = solver._seg_states(starts[:, -1:], h[-1:], level[-1:], slope[-1:])
+        q_end = q_end[:, 0]
+    Wa = solver.W @ level.T
+    Wb = solver.W @ slope.T
+    qa = starts
+    qb = np.concatenate([starts[:, 1:], q_end[:, None]], axis=1)
+    da = -lam * qa + Wa
+    db = -lam * qb + Wa + Wb * h[None, :]
+    ca = -lam * da + Wb
+    cb = -lam * db + Wb
+    aP = np.abs(Pp)
+    dsl = Dp @ slope.T
+    th_a = Pp @ qa + Dp @ level.T
+    th_b = Pp @ qb + Dp @ (level + slope * h[:, None]).T
+    d_a = Pp @ da + dsl
+    d_b = Pp @ db + dsl
+    mid = 0.5 * (d_a + d_b)
+    spread = 0.5 * (aP @ np.abs(da - db))
+    U, L = mid + spread, mid - spread
+    ub_max = _line_bound(th_a, th_b, U, L, h[None, :])
+    ub_min = _line_bound(-th_a, -th_b, -L, -U, h[None, :])
+    ub = np.concatenate([ub_max, ub_min])                          # (2p, N)
+    live = ub > best[:, None] + tol
+    if not live.any():
+        return None
+    slot, ck = np.nonzero(live)
+    return slot, ck
+
+
 def _sample_intervals(t, edges, ck, cj, sg, slot):
     """Split each candidate segment k at the sample times inside it: the intervals
     (offsets from the segment start) with their candidate labels repeated."""
@@ -92,13 +128,14 @@ def _sample_intervals(t, edges, ck, cj, sg, slot):
     return tuple(np.concatenate(o) for o in out)
 
 
-def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton):
+def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=None):
     """Add to the samples t (k,), v (k, p) (rises, sorted) every local extreme that the
     sample-based refinement missed, so that the largest and smallest samples of each probe
     are the true extremes (to ``REL_TOL`` of the largest rise).
 
-    ``starts`` (modes, N) holds every segment's start state; ``newton(fun, a, b, fa, fb,
-    xtol)`` is the bracketed root finder.  Returns the merged t, v."""
+    ``starts`` (modes, N) holds every segment's start state and ``q_end`` the state at the
+    last edge (None: computed); ``newton(fun, a, b, fa, fb, xtol)`` is the bracketed root
+    finder.  Returns the merged t, v."""
     N = edges.size - 1
     p = Pp.shape[0]
     if N == 0 or p == 0 or v.size == 0:
@@ -108,15 +145,15 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton):
     h = edges[1:] - edges[:-1]
     # candidates: (probe, sign) x segment; sign +1 maximum, −1 minimum
     best = np.concatenate([v.max(axis=0), -v.min(axis=0)])          # (2p,)
-    cj = np.repeat(np.arange(p), N)
-    cj = np.concatenate([cj, cj])
-    sg = np.concatenate([np.ones(p * N), -np.ones(p * N)])
-    ck = np.tile(np.arange(N), 2 * p)
-    slot = np.concatenate([np.repeat(np.arange(p), N), p + np.repeat(np.arange(p), N)])
-    sa = np.zeros(ck.size)
-    sb = h[ck]
+    live = _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol)
+    if live is None:
+        return t, v
+    slot, ck = live
+    cj = slot % p
+    sg = np.where(slot < p, 1.0, -1.0)
+    ck, cj, sg, slot, sa, sb = _sample_intervals(t, edges, ck, cj, sg, slot)
     new_t, new_v = [], []
-    expanded = False
+    expanded = True
     for _depth in range(MAX_DEPTH):
         if ck.size == 0:
             break

@@ -4,13 +4,33 @@ RF-to-heat conversions.  Depends on numpy only.
 Every waveform compiles exactly (no sampling) to :class:`Piecewise`, the canonical
 piecewise-linear form the thermal solvers consume.
 """
-from .algebra import Delayed, Scaled, Sum
-from .canonical import Piecewise, Waveform, WaveformError, align, as_piecewise, common_period
-from .profile import Profile, Stretch
-from .pulses import Burst, Constant, PulseTrain, Stagger
-from .rf import (PassiveLoss, PowerBalance, PulsedAmplifier, RFHeat, amplifier_from_efficiency,
-                 amplifier_from_pae, dbm_to_w, passive_loss, quiescent, w_to_dbm)
-from .table import Table
+# Names are imported on first use (PEP 562 module __getattr__), so importing one module
+# (``pulsetherm.waveforms.canonical``) does not load the others.
+import importlib as _importlib
+
+#: exported name -> module
+_EXPORTS = {
+    "Delayed": "algebra", "Scaled": "algebra", "Sum": "algebra", "Piecewise": "canonical",
+    "Waveform": "canonical", "WaveformError": "canonical", "align": "canonical",
+    "as_piecewise": "canonical", "common_period": "canonical", "Profile": "profile",
+    "Stretch": "profile", "Burst": "pulses", "Constant": "pulses", "PulseTrain": "pulses",
+    "Stagger": "pulses", "PassiveLoss": "rf", "PowerBalance": "rf", "PulsedAmplifier": "rf",
+    "RFHeat": "rf", "amplifier_from_efficiency": "rf", "amplifier_from_pae": "rf",
+    "dbm_to_w": "rf", "passive_loss": "rf", "quiescent": "rf", "w_to_dbm": "rf", "Table": "table",
+}
+
+
+def __getattr__(name: str):
+    if name in _EXPORTS:
+        value = getattr(_importlib.import_module(f"{__name__}.{_EXPORTS[name]}"), name)
+        globals()[name] = value
+        return value
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+
+
+def __dir__():
+    return sorted(set(globals()) | set(_EXPORTS))
+
 
 __all__ = [
     "Burst", "Constant", "Delayed", "PassiveLoss", "Piecewise", "PowerBalance", "Profile",
