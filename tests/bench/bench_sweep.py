@@ -59,12 +59,12 @@ def axis(case: str, n: int, run: int) -> str:
 
 def split(scn, case: str, rows: int = 40) -> dict[str, float]:
     """Mean seconds per row of each stage, in this process (values unseen before)."""
-    from pulsetherm.network.simulate import simulate
+    from pulsetherm.network.simulate import build, simulate
     from pulsetherm.network.sweepcache import ModelCache
 
     plan = plan_sweep(scn, vary=[axis(case, rows, 1000)])
     cache = ModelCache()
-    acc = dict.fromkeys(("scenario", "network", "solve", "rest"), 0.0)
+    acc = dict.fromkeys(("scenario", "network", "solve", "rest", "rebuilt"), 0.0)
     for values in plan.rows:
         t0 = time.perf_counter()
         s = scn
@@ -82,6 +82,10 @@ def split(scn, case: str, rows: int = 40) -> dict[str, float]:
         acc["network"] += t2 - t1
         acc["solve"] += t3 - t2
         acc["rest"] += max((t4 - t3) - (t3 - t2), 0.0)
+        t5 = time.perf_counter()
+        fresh = build(s)  # what a row costs that cannot reuse the network: build and solve
+        fresh.network.periodic(fresh.waveforms, probes=nodes, method=fresh.method)
+        acc["rebuilt"] += time.perf_counter() - t5
     return {k: v / rows for k, v in acc.items()}
 
 
@@ -127,9 +131,14 @@ def main(rows: int = 400, repeat: int = 3) -> None:
     scn = load(EXAMPLE)
     for case in CASES:
         parts = split(scn, case)
+        rebuilt = parts.pop("rebuilt")
         row = sum(parts.values())
         print(f"{case}: one row in process {row * 1e3:.2f} ms = " + ", ".join(
             f"{k} {v * 1e3:.2f} ms ({v / row:.0%})" for k, v in parts.items()))
+        if case == "waveform-only":
+            alone = row - parts["network"] - parts["solve"] + rebuilt
+            print(f"  without reuse (network, assembly and eigendecomposition again): "
+                  f"{alone * 1e3:.2f} ms a row, {alone / row:.2f}x as long")
     results: dict[str, dict[int, list[float]]] = {c: {1: [], 2: []} for c in CASES}
     cpu: dict[str, dict[int, list[float]]] = {c: {1: [], 2: []} for c in CASES}
     print(f"\n{'run':>3s} {'case':>14s} {'workers':>7s} {'rows/s':>8s} {'per worker':>10s} "
