@@ -143,7 +143,9 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
     scale = float(np.max(np.abs(v)))
     tol = REL_TOL * scale if scale > 0 else 0.0
     h = edges[1:] - edges[:-1]
-    # candidates: (probe, sign) x segment; sign +1 maximum, −1 minimum
+    # candidates: (probe, sign) x segment; sign +1 maximum, −1 minimum; the segments whose
+    # whole-segment bound beats the best are bounded again over the intervals between
+    # their samples (much tighter than one line pair)
     best = np.concatenate([v.max(axis=0), -v.min(axis=0)])          # (2p,)
     live = _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol)
     if live is None:
@@ -153,7 +155,18 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
     sg = np.where(slot < p, 1.0, -1.0)
     ck, cj, sg, slot, sa, sb = _sample_intervals(t, edges, ck, cj, sg, slot)
     new_t, new_v = [], []
-    expanded = True
+
+    def record(sel, s, q0s, lv, sl):
+        """Exact values at offsets s of candidates sel; kept where they beat the best."""
+        q, _, _ = _derivs(solver, q0s[:, sel], s, lv[sel], sl[sel])
+        vals = (Pp @ q).T + (lv[sel] + s[:, None] * sl[sel]) @ Dp.T    # (c, p)
+        mine = vals[np.arange(sel.size), cj[sel]] * sg[sel]
+        gain = mine > best[slot[sel]] + tol
+        if gain.any():
+            new_t.append(edges[ck[sel][gain]] + s[gain])
+            new_v.append(vals[gain])
+            np.maximum.at(best, slot[sel][gain], mine[gain])
+
     for _depth in range(MAX_DEPTH):
         if ck.size == 0:
             break
@@ -166,14 +179,6 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
         live = ub > best[slot] + tol
         if not live.any():
             break
-        if not expanded:
-            # whole segments that may hold a better extreme: bound them again over the
-            # intervals between their samples (much tighter than one line pair)
-            expanded = True
-            keep = np.flatnonzero(live)
-            ck, cj, sg, slot, sa, sb = _sample_intervals(t, edges, ck[keep], cj[keep],
-                                                         sg[keep], slot[keep])
-            continue
         concave = live & (K <= 0)
         root = np.flatnonzero(concave & (d_a > 0) & (d_b < 0))
         if root.size:
@@ -184,14 +189,7 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
                         np.einsum("ci,ic->c", Pj[r], cq))
             xtol = np.maximum((sb[root] - sa[root]) * 1e-14, 1e-300)
             s_star = newton(fun, sa[root], sb[root], d_a[root], d_b[root], xtol)
-            q, _, _ = _derivs(solver, q0s[:, root], s_star, lv[root], sl[root])
-            vals = (Pp @ q).T + (lv[root] + s_star[:, None] * sl[root]) @ Dp.T   # (r, p)
-            mine = vals[np.arange(root.size), cj[root]] * sg[root]
-            gain = mine > best[slot[root]] + tol
-            if gain.any():
-                new_t.append(edges[ck[root][gain]] + s_star[gain])
-                new_v.append(vals[gain])
-                np.maximum.at(best, slot[root][gain], mine[gain])
+            record(root, s_star, q0s, lv, sl)
         split = np.flatnonzero(live & ~concave)
         if split.size == 0:
             break
@@ -199,14 +197,7 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
         ok = (mid > sa[split]) & (mid < sb[split])
         split, mid = split[ok], mid[ok]
         # the midpoints are exact values: they raise the best found so far
-        q, _, _ = _derivs(solver, q0s[:, split], mid, lv[split], sl[split])
-        vals = (Pp @ q).T + (lv[split] + mid[:, None] * sl[split]) @ Dp.T
-        mine = vals[np.arange(split.size), cj[split]] * sg[split]
-        gain = mine > best[slot[split]] + tol
-        if gain.any():
-            new_t.append(edges[ck[split][gain]] + mid[gain])
-            new_v.append(vals[gain])
-            np.maximum.at(best, slot[split][gain], mine[gain])
+        record(split, mid, q0s, lv, sl)
         cj = np.concatenate([cj[split], cj[split]])
         sg = np.concatenate([sg[split], sg[split]])
         slot = np.concatenate([slot[split], slot[split]])
