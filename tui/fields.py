@@ -109,7 +109,10 @@ def form_fields(data: dict[str, Any], path: str) -> list[FieldSpec]:
     orders them; tables and arrays of tables are left to the tree)."""
     from pulsetherm.network.scenario import get_path
 
-    table = get_path(data, path) if path else data
+    try:
+        table = get_path(data, path) if path else data
+    except ValueError:  # a section not written yet (``model``): its fields start unset
+        table = {}
     cls = section_class(path)
     allowed = _allowed(cls, table)
     out = []

@@ -29,8 +29,7 @@ def tree_items(data: dict[str, Any]) -> list[tuple[int, str, str | None, str | N
     None for a heading."""
     out: list[tuple[int, str, str | None, str | None, int | None]] = []
     out.append((0, "scenario", "", None, None))
-    if "model" in data:
-        out.append((1, "model", "model", None, None))
+    out.append((1, "model", "model", None, None))  # editable even when not written
     wav = data.get("waveforms") or {}
     out.append((0, "waveforms", None, None, None))
     for name in wav:
