@@ -505,3 +505,37 @@ def test_rows_reusing_a_built_network_equal_single_runs(axes):
                 assert row[f"{name}.{what}"] == pytest.approx(getattr(p, what), rel=1e-12,
                                                               abs=1e-12), (name, what)
 
+
+
+@pytest.mark.parametrize("values", [
+    {"waveforms.p.peak": "90 W"},
+    {"waveforms.p.width": "50 us", "waveforms.p.peak": "10 W"},
+    {"waveforms.p.delay": "100 us"},
+    {"waveforms.p.kind": "constant"},
+    {"waveforms.p.width": "0 us"},         # refused: same message
+    {"waveforms.p.pek": "5 W"},            # unknown key: same message
+    {"waveforms.p.period": "50 us"},       # width > period: refused by the scenario checks
+    {"waveforms.p.peak": "2 W", "coolant": "20 degC"},  # not waveform-only: the long way
+])
+def test_a_row_of_waveform_keys_is_the_scenario_with_value_gives(scn, values):
+    """Rows that set only keys of named waveforms reload just those tables; the scenario (or
+    the error message) is the one Scenario.with_value gives.  Common practice, no source."""
+    from pulsetherm.network.sweep import with_values
+
+    def slow():
+        s = scn
+        for p, v in values.items():
+            s = s.with_value(p, v)
+        return s
+
+    try:
+        want, err = slow(), None
+    except ValueError as exc:
+        want, err = None, str(exc)
+    if err is None:
+        got = with_values(scn, values)
+        assert got == want and got.source == want.source
+    else:
+        with pytest.raises(ValueError) as exc:
+            with_values(scn, values)
+        assert str(exc.value) == err
