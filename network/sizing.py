@@ -162,11 +162,15 @@ def size(scn: Scenario, adjust: str, range_text: str, margin: float = 0.0,
     unit = scale.unit
     if g_lo[0] < 0 and g_hi[0] < 0:
         best, bx = (g_lo, lo) if g_lo[0] >= g_hi[0] else (g_hi, hi)
+        u = _unit_of(best)
+        if u == "degC":
+            detail = (f"by {-best[0]:.3g} K (peak {best[2]:.2f} degC, limit "
+                      f"{best[3]:.2f} degC, margin {margin:g} K)")
+        else:  # a [devices.rf] limit: its own unit, the K margin does not apply
+            detail = f"by {-best[0]:.3g} {u} (value {best[2]:.4g} {u}, limit {best[3]:.4g} {u})"
         raise SizingError(adjust, range_text,
                           f"a range with a passing end: even the better end "
-                          f"{scale.text(bx)} breaks {best[1]} by {-best[0]:.3g} K "
-                          f"(peak {best[2]:.2f} degC, limit {best[3]:.2f} degC, margin "
-                          f"{margin:g} K)")
+                          f"{scale.text(bx)} breaks {best[1]} {detail}")
     if g_lo[0] >= 0 and g_hi[0] >= 0:
         worst, wx = (g_lo, lo) if g_lo[0] <= g_hi[0] else (g_hi, hi)
         kind_txt = "largest" if wx == max(lo, hi) else "smallest"

@@ -164,3 +164,14 @@ def test_stagger_burst_phase_sizing_holds_the_phase_limit(capsys):
         d = _run("stagger_burst_phase", capsys, "--set",
                  f"devices[0].stack[1].thickness={text}")
         assert (d["rf"]["pa"]["phase_pp_deg"] <= 0.7) is ok
+
+
+def test_stagger_burst_phase_sizing_range_that_fails_names_the_phase_unit():
+    """Both ends of the range break the 0.7 deg phase limit (thicker attach, warmer pulses):
+    the refusal states the shortfall in degrees, not in kelvin or degC."""
+    from pulsetherm.network.sizing import SizingError, size
+    scn = load(EX / "stagger_burst_phase.toml")
+    with pytest.raises(SizingError) as err:
+        size(scn, "devices[0].stack[1].thickness", "150..200 um")
+    msg = str(err.value)
+    assert "pa.phase_pp" in msg and " deg" in msg and "degC" not in msg, msg
