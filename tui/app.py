@@ -102,7 +102,8 @@ class ScenarioApp(App):
         self.cache: OrderedDict[str, Any] = OrderedDict()
         self._pending: dict[int, tuple[str, str, bool, str | None]] = {}
         self._t_start = 0.0
-        self.last_latency: float | None = None
+        self.last_latency: float | None = None  # request to result shown, s
+        self.last_solve_s = 0.0  # of which in the worker (load and simulate), s
         self._result_seq = -1
         self.done_seq = -1  # the last request answered (result or failure)
         self._extras_seq = -1
@@ -192,10 +193,11 @@ class ScenarioApp(App):
         self.solve_count += 1
         self._pending[self.seq] = (text, label, from_edit, path)
         self._status(f"{label}: solving …", "-busy")
-        self.solve(text, self.seq, label, self.probe)
+        scn = self.session.validated[1] if self.session.validated[0] == text else None
+        self.solve(text, self.seq, label, scn)
 
     @work(thread=True, exclusive=True, group="solve", exit_on_error=False)
-    def solve(self, text: str, seq: int, label: str, probe: str | None) -> None:
+    def solve(self, text: str, seq: int, label: str, scn: Any = None) -> None:
         """Build and solve in a worker thread; report back only through messages."""
         from pulsetherm.network.scenario import loads
         from pulsetherm.network.simulate import simulate
@@ -205,7 +207,8 @@ class ScenarioApp(App):
         try:
             with self.stopper.running("solve"):
                 try:
-                    scn = loads(text, source=self.session.source)
+                    if scn is None:  # an edit gives its validated scenario along
+                        scn = loads(text, source=self.session.source)
                     result = simulate(scn)
                 except (ValueError, RuntimeError, ArithmeticError) as exc:
                     if not worker.is_cancelled:
@@ -302,6 +305,7 @@ class ScenarioApp(App):
         text, label, _, _ = info
         self.last_latency = time.perf_counter() - self._t_start
         self._result_seq = self.done_seq = message.seq
+        self.last_solve_s = message.elapsed
         res = message.result
         self.result = res
         if text not in self.cache:

@@ -56,10 +56,11 @@ class ItemForm(VerticalScroll):
             new = []
         if [f.path for f in new] == [f.path for f in self.fields]:
             self.fields = new
+            boxes = {w.id: w for w in self.query(Input)}
             for i, f in enumerate(new):
-                box = self.query(f"#f-{i}")
-                if box and isinstance(box.first(), Input) and not box.first().has_focus:
-                    box.first().value = show_value(f.value)
+                box = boxes.get(f"f-{i}")
+                if box is not None and not box.has_focus:
+                    box.value = show_value(f.value)
             return False
         self.fields = new
         self.errors.clear()

@@ -64,6 +64,8 @@ class Session:
     undo_stack: list[Snapshot] = field(default_factory=list)
     redo_stack: list[Snapshot] = field(default_factory=list)
     changes: list[str] = field(default_factory=list)
+    #: (text, scenario) of the last edit, so the solve need not read the text again
+    validated: tuple[str, Any] = ("", None)
 
     def __post_init__(self) -> None:
         self.doc = tomlkit.parse(self.text_as_read)
@@ -119,16 +121,19 @@ class Session:
 
         Returns the new scenario; raises ScenarioError (document unchanged) otherwise."""
         before = self.text()
-        doc = tomlkit.parse(before)
-        change(doc)
-        text = tomlkit.dumps(doc)
-        scn = self.scenario(text)
+        try:  # changed in place (a parse per edit is the slow part); restored on failure
+            change(self.doc)
+            text = tomlkit.dumps(self.doc)
+            scn = self.scenario(text)
+        except BaseException:
+            self.doc = tomlkit.parse(before)
+            raise
+        self.validated = (text, scn)
         if text == before:
             return scn
         self.undo_stack.append(Snapshot(label, before))
         self.redo_stack.clear()
         self.changes.append(label)
-        self.doc = doc
         return scn
 
     def set_value(self, path: str, value: Any):

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from itertools import groupby
 
 import numpy as np
 from rich.text import Text
@@ -109,11 +110,10 @@ def draw(series: list[Series], width: int, height: int, *, x_title: str = "time"
         ok = np.isfinite(lo)
         r_lo = np.clip(((y1 - hi) / (y1 - y0) * (py - 1)).round().astype(int), 0, py - 1)
         r_hi = np.clip(((y1 - lo) / (y1 - y0) * (py - 1)).round().astype(int), 0, py - 1)
-        mine = np.zeros((H, W), dtype=np.uint8)
-        for c in np.nonzero(ok)[0]:
-            rows = np.arange(r_lo[c], r_hi[c] + 1)
-            np.bitwise_or.at(mine, (rows // 4, np.full(rows.size, c // 2)),
-                             _BITS[rows % 4, c % 2])
+        r = np.arange(py)[:, None]
+        dots = (r >= r_lo[None, :]) & (r <= r_hi[None, :]) & ok[None, :]  # (py, px)
+        mine = (dots.reshape(H, 4, W, 2) * _BITS[None, :, None, :]).sum(axis=(1, 3))
+        mine = mine.astype(np.uint8)
         bits |= mine
         owner[mine > 0] = idx
     cur_col = None
@@ -125,14 +125,17 @@ def draw(series: list[Series], width: int, height: int, *, x_title: str = "time"
     for r in range(H):
         line = Text(y_ticks.get(r, "").rjust(gutter - 1) + " ", style="dim")
         line.append("┤" if r in y_ticks else "│", style="dim")
+        cells = []
         for c in range(W):
             b = int(bits[r, c])
             if c == cur_col:
-                line.append(chr(0x2800 + b) if b else "│", style="bold yellow")
+                cells.append((chr(0x2800 + b) if b else "│", "bold yellow"))
             elif b:
-                line.append(chr(0x2800 + b), style=series[owner[r, c]].style)
+                cells.append((chr(0x2800 + b), series[owner[r, c]].style))
             else:
-                line.append(" ")
+                cells.append((" ", ""))
+        for style, run in groupby(cells, key=lambda x: x[1]):  # one span per style run
+            line.append("".join(ch for ch, _ in run), style=style or None)
         lines.append(line)
     # x axis
     if xlog:
