@@ -17,6 +17,7 @@ Counts
 from __future__ import annotations
 
 import math
+import re
 
 __all__ = ["MAX_TABLE_ARRAY", "MAX_LIST", "MAX_NAMED", "MAX_STRING", "INT_LIMITS",
            "MAX_PROFILE_DEPTH", "MAX_PROFILE_STRETCHES", "PLAUSIBLE", "plausible_range",
@@ -83,13 +84,31 @@ def plausible_range(kind: str, value: float) -> str | None:
     return None
 
 
+#: Most parts of one dotted key (``a.b.c = 1`` has 3): the standard TOML reader takes time
+#: quadratic in the parts (40,000 parts: 46 s), so longer keys are refused before it runs.
+MAX_KEY_PARTS = 64
+_KEY_PREFIX = re.compile(r"[\w\-. \t\"'\[]*")
+
+
 def check_text(text: str, source: str | None) -> None:
-    """Refuse scenario text longer than the file cap (text given directly, not read from a
-    file)."""
+    """Refuse, before the TOML reader sees it, scenario text longer than the file cap (text
+    given directly, not read from a file) or a dotted key of more than ``MAX_KEY_PARTS``
+    parts.  Linear in the text."""
     from .safe_io import MAX_SCENARIO_BYTES
 
+    problem, line = None, None
     if len(text) > MAX_SCENARIO_BYTES:
+        problem = (f"{len(text)} characters of scenario text; expected at most "
+                   f"{MAX_SCENARIO_BYTES}")
+    elif text.count(".") > MAX_KEY_PARTS:
+        for no, raw in enumerate(text.splitlines(), start=1):
+            if raw.count(".") > MAX_KEY_PARTS:
+                head = _KEY_PREFIX.match(raw.lstrip())
+                if head and head.group().count(".") > MAX_KEY_PARTS:
+                    problem, line = (f"a dotted key of more than {MAX_KEY_PARTS} parts; "
+                                     "expected a short key path"), no
+                    break
+    if problem:
         from .scenario import ScenarioError
 
-        raise ScenarioError("", None, f"{len(text)} characters of scenario text; expected at "
-                            f"most {MAX_SCENARIO_BYTES}", None, source)
+        raise ScenarioError("", None, problem, line, source)

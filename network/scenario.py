@@ -105,7 +105,7 @@ class ScenarioError(ValueError):
 # ======================================================================================
 # Finding the line of a key path in TOML text
 # ======================================================================================
-_HEADER = re.compile(r"^\s*(\[\[?)\s*([^\]]+?)\s*\]\]?\s*(#.*)?$")
+_HEADER = re.compile(r"^\s*(\[\[?)([^\]]*)\]\]?\s*(#.*)?$")   # linear: no lazy group
 _KEYVAL = re.compile(r"""^\s*((?:[A-Za-z0-9_\-]+|"[^"]*"|'[^']*')(?:\s*\.\s*(?:[A-Za-z0-9_\-]+|"[^"]*"|'[^']*'))*)\s*=""")
 
 
@@ -139,6 +139,8 @@ def _key_lines(text: str) -> dict[str, int]:
     depth = 0  # open brackets of a multi-line value: skip its lines
     for no, raw in enumerate(text.splitlines(), start=1):
         line = raw.strip()
+        if len(line) > 4000:       # not a key line worth locating (and no regex time on it)
+            continue
         if depth > 0:
             depth += _bracket_balance(line)
             continue
@@ -585,9 +587,10 @@ def _check_text_value(value: str, path: str) -> None:
     if len(value) > MAX_STRING:
         raise ScenarioError(path, value[:40] + "...", f"a string of at most {MAX_STRING} "
                             "characters")
-    if not value.isprintable():
-        raise ScenarioError(path, value, "text without control characters (tabs, escape "
-                            "codes, line breaks)")
+    shown = value.replace("\n", "").replace("\t", "") if path == "description" else value
+    if not shown.isprintable():
+        raise ScenarioError(path, value, "text without control characters (escape codes; "
+                            "tabs and line breaks only in the description)")
 
 
 def _dimensionless(text: str, path: str) -> float:

@@ -191,8 +191,9 @@ case("escape_in_unknown_key", sub('coolant = "40 degC"', 'coolant = "40 degC"\n'
 case("escape_in_device_name", sub('name = "pa"', 'name = "pa\\u001b[31m"'), "devices[0].name")
 case("escape_in_probe_name", BASE + '\n[[probes]]\nname = "j\\u001b]0;owned\\u0007"\n'
      'node = "pa.junction"\n', "probes[0].name")
-case("newline_in_description", sub('coolant = "40 degC"', 'coolant = "40 degC"\n'
-                                   'description = "a\\nb"'), "description")
+case("escape_in_description", sub('coolant = "40 degC"', 'coolant = "40 degC"\n'
+                                  'description = "a\\nb\\u001b[2J"'), "description")
+case("newline_in_name", sub('name = "hostile base"', 'name = "a\\nb"'), "name")
 case("tab_in_scenario_name", sub('name = "hostile base"', 'name = "a\\tb"'), "name")
 case("nul_in_name", sub('name = "hostile base"', 'name = "a\\u0000b"'), "name")
 case("bidi_in_material", sub('material = "copper"', 'material = "cop\\u202eper"'),
