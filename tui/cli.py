@@ -88,7 +88,9 @@ def build_parser() -> argparse.ArgumentParser:
                         "per row (same count each; repeatable, or several joined by ';')")
     s.add_argument("--mc", action="append", default=[], metavar="PATH=DIST:WIDTH",
                    help="Monte Carlo: normal:SIGMA or uniform:HALFWIDTH (with unit)")
-    s.add_argument("--samples", type=int, default=100, help="Monte Carlo samples (100)")
+    s.add_argument("--samples", type=int, default=100,
+                   help="Monte Carlo samples per grid point (100; a sweep has at most "
+                        "100000 rows)")
     s.add_argument("--seed", type=int, default=0, help="random seed (0)")
     s.add_argument("--out", metavar="PATH", help="rows: .csv or .jsonl (JSON lines)")
     s.add_argument("--resume", action="store_true",
