@@ -34,7 +34,7 @@ def _meta(path: Path) -> tuple[str, list[str]]:
     return expect, args
 
 
-class _Hang(Exception):
+class _Hang(BaseException):
     pass
 
 

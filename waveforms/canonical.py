@@ -273,6 +273,12 @@ def common_period(periods: list[float]) -> float:
     return mult * base
 
 
+#: Most segments of several periodic waveforms tiled onto their common period (memory and
+#: time grow with it; a burst of 10^5 pulses against a period 10^4 times longer would
+#: need 2x10^9).
+MAX_ALIGNED_SEGMENTS = 4_000_000
+
+
 def align(pieces: list[Piecewise], duration: float | None = None):
     """Put several waveforms on one set of edges.
 
@@ -294,6 +300,12 @@ def align(pieces: list[Piecewise], duration: float | None = None):
                                     "state; use a transient with a duration")
         varying = [p for p in pieces if not p.is_constant]
         period = common_period([p.span for p in varying]) if varying else pieces[0].span
+        total = sum(int(round(period / p.span)) * p.n_segments for p in varying)
+        if total > MAX_ALIGNED_SEGMENTS:     # refused before tiling allocates anything
+            raise WaveformError(
+                f"align: the common period {period!r} s holds {total} segments of the "
+                f"waveforms together; expected at most {MAX_ALIGNED_SEGMENTS} (give periods "
+                "with a simple ratio, or fewer pulses per period)")
         tiled = []
         for p in pieces:
             if p.is_constant:

@@ -162,7 +162,7 @@ def make_case(case: int, seed: int) -> tuple[str, str]:
     return ex.name, text
 
 
-class _Hang(Exception):
+class _Hang(BaseException):
     pass
 
 
@@ -243,6 +243,9 @@ def main(argv=None) -> int:
     ap.add_argument("--timeout", type=float, default=20.0, help="seconds before a hang")
     ap.add_argument("--verb", default="run", choices=("run", "check", "zth"))
     ap.add_argument("--only", type=int, default=None, help="run one case and show it")
+    ap.add_argument("--max-seconds", type=float, default=None,
+                    help="stop after this long and report the cases run (the count is "
+                         "printed; nothing is extrapolated)")
     a = ap.parse_args(argv)
     folder = Path(tempfile.mkdtemp(prefix="pulsetherm-fuzz-"))
     cases = [a.only] if a.only is not None else range(a.start, a.start + a.n)
@@ -252,6 +255,8 @@ def main(argv=None) -> int:
     t_all = time.perf_counter()
     try:
         for k, case in enumerate(cases):
+            if a.max_seconds is not None and time.perf_counter() - t_all > a.max_seconds:
+                break
             name, text = make_case(case, a.seed)
             r = run_case(text, folder, a.timeout, a.verb)
             statuses[r["status"]] += 1
@@ -270,7 +275,8 @@ def main(argv=None) -> int:
         shutil.rmtree(folder, ignore_errors=True)
     n = len(times)
     total = sum(len(v) for v in defects.values())
-    print(f"fuzz_scenarios: seed {a.seed}, cases {a.start}..{a.start + n - 1} ({n}), verb "
+    print(f"fuzz_scenarios: seed {a.seed}, cases {a.start}..{a.start + n - 1} ({n} of "
+          f"{len(cases)} asked), verb "
           f"{a.verb}, {time.perf_counter() - t_all:.0f} s, load {os.getloadavg()[0]:.2f}")
     print("  exit statuses: " + ", ".join(f"{k}: {v}" for k, v in
                                            sorted(statuses.items(), key=str)))

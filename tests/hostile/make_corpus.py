@@ -181,6 +181,12 @@ case("deep_toml_arrays", sub('name = "hostile base"', 'name = "hostile base"\nde
 case("deep_inline_tables", sub('name = "hostile base"', 'name = "hostile base"\ndeep = '
                                + "{a = " * 2000 + "1" + "}" * 2000), "nested too deeply")
 case("deep_literal_set", BASE, "name", "run FILE --set name=" + "[" * 3000 + "]" * 3000)
+case("periods_without_a_simple_ratio", sub('kind = "pulses"\npeak = "50 W"\nwidth = "100 us"\n'
+                                          'period = "1 ms"', 'kind = "burst"\npeak = "50 W"\n'
+                                          'width = "1 us"\npri = "2 us"\npulses = 50000\n'
+                                          'period = "0.1 s"') + '\n[[devices]]\nname = "b"\n'
+     'power = { kind = "pulses", peak = "1 W", width = "1 ms", period = "0.1001 s" }\n'
+     'footprint = "1 mm"\nfoster = { R = ["1 K/W"], tau = ["1 ms"] }\n', "common period")
 case("many_devices", BASE + "".join(
     f'\n[[devices]]\nname = "d{i}"\npower = "1 W"\nfootprint = "1 mm"\nrth = "1 K/W"\n'
     for i in range(300)), "devices")
