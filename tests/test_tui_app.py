@@ -389,3 +389,21 @@ def test_json_report_is_written_to_a_new_file(tmp_path):
     data = json.loads((tmp_path / "demo.report.json").read_text())
     assert data["probes"]["final.junction"]["peak_C"] == res.probes["final.junction"].peak_C
     assert data["cautions"]
+
+
+def test_a_broken_limit_is_marked_in_text_and_the_trace_shows_before_and_after(tmp_path):
+    from pulsetherm.tui.trace_view import TraceView
+
+    async def script(app, pilot):
+        app.query_one(WhatIfBar).focus()
+        await pilot.press(*'devices[0].limit = "60 degC"', "enter")
+        await settle(app, pilot)
+        table = app.query_one(ProbeTable)
+        first = [str(c) for c in table.get_row_at(0)]
+        names = [s.name for s in app.query_one(TraceView).series]
+        return first, str(app.query_one("#status").render()), names
+    first, status, names = drive(script, save_dir=tmp_path)
+    assert first[0] == "! final.junction" and first[-1].endswith("OVER")
+    assert float(first[-1].split()[0]) < 0
+    assert "LIMIT BROKEN at final.junction" in status
+    assert names[0] == "final.junction (file)" and "final.junction" in names[1:]

@@ -69,7 +69,8 @@ class ProbeTable(DataTable):
         self._shown_width = self.size.width
         widths = [max([len(COLUMNS[c])] + [len(r[1][c]) for r in self._rows])
                   for c in range(len(COLUMNS))]
-        keep, name_w = fit_columns(widths, DROP_ORDER, avail, first_min=8)
+        # names keep up to 14 cells before a figure column is given up
+        keep, name_w = fit_columns(widths, DROP_ORDER, avail, first_min=min(widths[0], 14))
         cursor = self.cursor_row
         self.clear(columns=True)
         for c in keep:
