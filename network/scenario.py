@@ -1126,6 +1126,33 @@ class ModelSpec(_Section):
     periods: int | None = _f("int")
 
 
+def _check_table_paths(scn: "Scenario") -> None:
+    """Every table waveform's ``file`` inside the scenario's folder (or an allowed one),
+    checked when the scenario is read, before anything is built; the file itself is read
+    (regular files only, size capped) when the waveform is made."""
+    from .safe_io import resolve_inside
+
+    base = Path(scn.source).parent if scn.source else Path.cwd()
+
+    def visit(spec: Any, path: str) -> None:
+        if not isinstance(spec, WaveformSpec):
+            return
+        if spec.kind == "table" and spec.file is not None:
+            try:
+                resolve_inside(base, spec.file, scn.allow_paths)
+            except (ValueError, OSError) as exc:
+                raise ScenarioError(_join(path, "file"), spec.file, str(exc)) from None
+        for i, st in enumerate(spec.stretches or ()):
+            visit(st.power, f"{path}.stretches[{i}].power")
+
+    for name, spec in (scn.waveforms or {}).items():
+        visit(spec, f"waveforms.{name}")
+    for sec, items in (("devices", scn.devices), ("lines", scn.lines),
+                       ("heaters", scn.heaters)):
+        for i, item in enumerate(items or ()):
+            visit(item.power, f"{sec}[{i}].power")
+
+
 #: Plausible material properties, SI (common practice, no source): conductivity from
 #: aerogels to diamond, density from foams to tungsten, specific heat of solids.
 _MATERIAL_RANGES = {"k": (1e-3, 1e4), "k_inplane": (1e-3, 1e4), "rho": (1.0, 1e5),
@@ -1320,6 +1347,10 @@ class Scenario(_Section):
             raise exc.located(text, source) from None
         object.__setattr__(scn, "source", source)
         object.__setattr__(scn, "allow_paths", tuple(str(p) for p in allow_paths))
+        try:
+            _check_table_paths(scn)
+        except ScenarioError as exc:
+            raise exc.located(text, source) from None
         return scn
 
     def with_value(self, path: str, value: Any) -> "Scenario":

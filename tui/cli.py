@@ -149,7 +149,20 @@ def main(argv: Sequence[str] | None = None) -> int:
     handler = _HANDLERS[args.verb]
     # every verb runs through one guard: exit 2 for input errors (one line naming the key),
     # 3 for internal errors (see tui/exit_status.py)
-    return guarded(args.verb, lambda: handler(args), lambda exc: _located(exc, args))
+    allow = getattr(args, "allow_path", None)
+    if not allow:
+        return guarded(args.verb, lambda: handler(args), lambda exc: _located(exc, args))
+    # --allow-path also reaches sweep worker processes, through their environment
+    name = "PULSETHERM_ALLOW_PATH"        # pulsetherm.network.safe_io.ALLOW_ENV
+    old = os.environ.get(name)
+    os.environ[name] = os.pathsep.join([*allow, *([old] if old else [])])
+    try:
+        return guarded(args.verb, lambda: handler(args), lambda exc: _located(exc, args))
+    finally:
+        if old is None:
+            os.environ.pop(name, None)
+        else:
+            os.environ[name] = old
 
 
 def _located(exc: BaseException, args: argparse.Namespace) -> BaseException:
