@@ -744,6 +744,8 @@ class SweepResult:
     mode: str
     out: str | None = None
     cautions: list[str] = field(default_factory=list)
+    #: The sweep's fingerprint (scenario, the files it reads, seed), as in every row.
+    fingerprint: str = ""
 
     def percentiles(self, qs: Sequence[float] = PERCENTILES) -> dict[str, dict[str, float]]:
         """Probe -> {"p5": ..., "p50": ..., "p95": ...} of the peak (degC), rows without
@@ -765,8 +767,8 @@ class SweepResult:
     def to_dict(self) -> dict[str, Any]:
         return {"scenario": self.scenario, "mode": self.mode, "paths": self.paths,
                 "rows": len(self.rows), "skipped": self.skipped, "failed": self.failed,
-                "out": self.out, "percentiles": self.percentiles(),
-                "cautions": list(self.cautions)}
+                "internal": self.internal, "sweep": self.fingerprint, "out": self.out,
+                "percentiles": self.percentiles(), "cautions": list(self.cautions)}
 
     @property
     def internal(self) -> int:
@@ -846,7 +848,7 @@ def run_sweep(plan: SweepPlan, out: str | os.PathLike | None = None, resume: boo
     failed = sum(1 for r in rows if r.get("error"))
     return SweepResult(plan.scenario.name, plan.paths, plan.probes, rows, skipped, failed,
                        plan.mode, None if out is None else str(out),
-                       list(plan.cautions) or [CAUTION])
+                       list(plan.cautions) or [CAUTION], plan.fingerprint)
 
 
 def _start_method(env: dict[str, str | None]) -> str:

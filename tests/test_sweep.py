@@ -357,6 +357,8 @@ def test_a_value_the_scenario_refuses_fails_its_rows_only(scn):
     res = run_sweep(plan_sweep(scn, vary=["mount.sink.resistance=0 K/W,0.2 K/W",
                                           "coolant=20 degC,30 degC"]))
     assert res.failed == 2 and len(res.rows) == 4
+    d = res.to_dict()
+    assert d["failed"] == 2 and d["internal"] == 0 and d["sweep"] == res.rows[0]["sweep"]
     for row in res.rows:
         bad = row["mount.sink.resistance"] == "0 K/W"
         assert bool(row["error"]) == bad
