@@ -407,3 +407,27 @@ def test_a_broken_limit_is_marked_in_text_and_the_trace_shows_before_and_after(t
     assert float(first[-1].split()[0]) < 0
     assert "LIMIT BROKEN at final.junction" in status
     assert names[0] == "final.junction (file)" and "final.junction" in names[1:]
+
+
+def test_a_refused_whatif_names_the_users_file_and_line(scenario):
+    async def script(app, pilot):
+        app.query_one(WhatIfBar).focus()
+        await pilot.press(*"coolant = 30 degCC", "enter")
+        await pilot.pause()
+        return str(app.query_one("#status").render()), app.session.dirty
+    status, dirty = drive(script, scenario)
+    line = next(i for i, x in enumerate(scenario.read_text().splitlines(), 1)
+                if x.startswith("coolant"))
+    assert f"{scenario}:{line}:" in status and "degCC" in status and "kept 40 degC" in status
+    assert not dirty
+
+
+def test_escape_in_a_field_puts_the_stored_value_back(tmp_path):
+    async def script(app, pilot):
+        box = await type_into(app, pilot, GREASE, "-5 um")
+        shown = box.value
+        await pilot.press("escape")
+        await pilot.pause()
+        return shown, box.value, dict(app.query_one(ItemForm).errors)
+    shown, after, errors = drive(script, save_dir=tmp_path)
+    assert shown == "-5 um" and after == "50 um" and errors == {}

@@ -415,7 +415,7 @@ class ScenarioApp(App):
                 return head, int(idx)
         return None, None
 
-    def apply_value(self, path: str, value: Any, label_path: str | None = None) -> bool:
+    def apply_value(self, path: str, value: Any, from_line: bool = False) -> bool:
         """Keep one value (validated as a whole scenario) and recompute; False (and a
         message at the field or on the status line) when it is refused."""
         from pulsetherm.network.scenario import ScenarioError
@@ -429,8 +429,8 @@ class ScenarioApp(App):
         except ScenarioError as exc:
             kept = self._kept(path)
             msg = _one_line(exc) + (f" (kept {kept})" if kept else "")
-            if not form.show_error(path, msg):
-                self._status(msg, "-failed")
+            if not form.show_error(path, msg) or from_line:
+                self._status(msg, "-failed")  # the what-if line: the message where one types
             else:
                 self._status(f"{path}: not applied (see the field)", "-failed")
             return False
@@ -467,7 +467,7 @@ class ScenarioApp(App):
         self.apply_value(message.path, value)
 
     def on_what_if(self, message: WhatIf) -> None:
-        self.apply_value(message.path, literal_value(message.value))
+        self.apply_value(message.path, literal_value(message.value), from_line=True)
 
     def on_kind_switched(self, message: KindSwitched) -> None:
         from pulsetherm.network.scenario import ScenarioError
