@@ -107,3 +107,44 @@ def test_help_lists_keys_and_editable_paths_and_the_palette_has_the_apps_command
         assert t in titles
     assert was_help and "ctrl+s" in text and "mount.interface[0].thickness" in text
     assert after == "Screen"
+
+
+def test_waveform_kind_switch_swaps_the_form_fields():
+    from textual.widgets import Select
+
+    from pulsetherm.network.scenario import WAVEFORM_KEYS
+    from pulsetherm.tui.item_form import ItemForm
+
+    async def script(app, pilot):
+        app.choose("waveforms.radar")
+        await pilot.pause()
+        app.query_one(ItemForm).query_one(Select).value = "burst"
+        await _settle(app, pilot)
+        await pilot.pause()
+        return [f.key for f in app.query_one(ItemForm).fields], app.session.get(
+            "waveforms.radar"), app.result
+    keys, wave, res = _run(script)
+    assert set(keys) == {"kind", "delay", *WAVEFORM_KEYS["burst"]}
+    assert wave["kind"] == "burst" and wave["peak"] == "90 W"  # the peak carried over
+    assert res is not None and "final.junction" in res.probes
+
+
+@pytest.mark.slow
+def test_a_running_sweep_stops_on_request():
+    async def script(app, pilot):
+        app.apply_value("model.nonlinear", True)
+        app.cancel_solve()
+        app.query_one("#tree").focus()
+        await pilot.press("z")
+        await pilot.pause()
+        screen = app.screen
+        screen.query_one("#s-path", Input).value = "coolant"
+        screen.query_one("#s-range", Input).value = "30..50 degC"
+        await pilot.click("#s-sweep")
+        await pilot.pause(1.0)
+        busy = screen.stopper.busy("study")
+        await pilot.click("#s-stop")
+        await asyncio.wait_for(app.workers.wait_for_complete(), 20)
+        return busy, str(screen.query_one("#s-out", Static).render())
+    busy, out = _run(script)
+    assert busy and out == "stopped"

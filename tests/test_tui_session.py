@@ -8,6 +8,7 @@ from pathlib import Path
 import pytest
 
 from pulsetherm.network.scenario import ScenarioError, SINK_KEYS, WAVEFORM_KEYS, loads
+from pulsetherm.network.simulate import build
 from pulsetherm.tui.fields import (KIND_SWITCH, form_fields, kind_defaults, read_field,
                                    section_class)
 from pulsetherm.tui.session import Session, unique_name
@@ -127,6 +128,7 @@ def test_every_kind_switch_gives_a_valid_scenario(cls, path, kinds):
         new = kind_defaults(cls, s.get(path), kind)
         scn = s.replace_table(path, new, f"{path}.kind = {kind}")
         assert scn.get_value(f"{path}.kind") == kind
+        build(scn)  # the waveform objects and the sink are made without complaint
 
 
 def test_read_field_keeps_units_and_refuses_bad_text():

@@ -382,8 +382,12 @@ class ScenarioApp(App):
         self._status(text, "-failed")
 
     def on_probe_chosen(self, message: ProbeChosen) -> None:
+        changed = message.probe != self.probe
         self.probe = message.probe
         self._show_trace()
+        if changed and self.query_one(TabbedContent).active == "t-zth":
+            self._extras_seq = -1  # the Zth tab follows the chosen probe
+            self.request_extras()
 
     # -- editing -----------------------------------------------------------------------
     def on_item_chosen(self, message: ItemChosen) -> None:

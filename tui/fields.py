@@ -239,18 +239,19 @@ KIND_SWITCH: dict[str, dict[str, dict[str, Any]]] = {
 
 
 def kind_defaults(cls_name: str, old: dict[str, Any], kind: str) -> dict[str, Any]:
-    """The table after switching ``old`` to ``kind``: keys the new kind shares with the
-    old one are kept (a pulse's peak stays the burst's peak), the others start from
-    :data:`KIND_SWITCH`."""
+    """The table after switching ``old`` to ``kind``: levels the new kind shares with the
+    old one are kept (a pulse's peak stays the burst's peak), timings and the rest start
+    from :data:`KIND_SWITCH`."""
     from pulsetherm.network.scenario import SINK_KEYS, WAVEFORM_KEYS
 
     keys = SINK_KEYS[kind] if cls_name == "SinkSpec" else (*WAVEFORM_KEYS[kind], "delay")
     new: dict[str, Any] = {"kind": kind}
     for key, value in KIND_SWITCH[cls_name][kind].items():
         new[key] = value
+    # levels and the sink's own numbers carry over; timings start from the defaults
+    # (a pulse width kept from a train could exceed a burst's repetition interval)
+    carry = ("peak", "idle", "power", "delay", "resistance", "capacity", "h", "area")
     for key in keys:
-        if key in old and key not in ("stretches", "intervals", "widths"):
+        if key in old and key in carry:
             new[key] = old[key]
-    if cls_name == "WaveformSpec" and kind == "pulses" and "pri" in old:
-        new["period"] = old["pri"]
     return new
