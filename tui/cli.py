@@ -17,13 +17,12 @@ import argparse
 import os
 import sys
 from contextlib import contextmanager
-from pathlib import Path
 from typing import Iterator, Sequence, TextIO
 
 __all__ = ["main", "build_parser", "CliError", "atomic_output"]
 
 from pulsetherm.tui.exit_status import (EXIT_ERROR, EXIT_INTERNAL, EXIT_LIMIT, EXIT_OK,
-                                        guarded, message_of, one_line)
+                                        guarded)
 
 
 class CliError(ValueError):
@@ -182,10 +181,6 @@ def _located(exc: BaseException, args: argparse.Namespace) -> BaseException:
         return exc
     located = exc.located(text, file)
     return located if located.line is not None else exc
-
-
-def _short(exc: BaseException) -> str:
-    return one_line(message_of(exc))
 
 
 def _out(text: str = "", file: TextIO | None = None) -> None:
