@@ -421,6 +421,10 @@ def _reason(exc: BaseException, path: str) -> str:
     msg = " ".join(str(exc).split())
     if msg.startswith(path):
         msg = msg[len(path):].lstrip(" :=")
+    # the unit table's own "'text': why; expected an example" repeats what the caller says
+    m = re.match(r"^'(?:[^'\\]|\\.)*': (.*?)(?:; expected [^;]*)?$", msg[:600])
+    if m and m.group(1):
+        msg = m.group(1)
     return msg
 
 

@@ -332,8 +332,8 @@ class _UnitParser:
         self.i = m.end()
         digits = m.group(1).lstrip("-")
         if len(digits) > 2 or int(digits) > MAX_POWER:
-            raise _Bad(f"power '{m.group(1)[:12]}' out of range; expected a power of at most "
-                       f"{MAX_POWER}")
+            raise _Bad(f"exponent '{m.group(1)[:12]}' out of range; expected an exponent of "
+                       f"at most {MAX_POWER}")
         return int(m.group(1))
 
 
