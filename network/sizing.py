@@ -128,7 +128,7 @@ def size(scn: Scenario, adjust: str, range_text: str, margin: float = 0.0,
     if kind is None:
         raise SizingError(adjust, None, "a quantity field (with a unit) to size")
     scn.get_value(adjust)  # the field must be set in the scenario
-    (lo, hi), scale = parse_range(range_text, kind, "--range")
+    (lo, hi), scale = parse_range(range_text, kind, "--range", counted=False)
     if not (isinstance(margin, (int, float)) and math.isfinite(margin) and margin >= 0):
         raise SizingError("--margin", margin, "a temperature difference >= 0 K")
     if tol is None:

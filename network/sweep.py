@@ -76,11 +76,16 @@ def _split_values(text: str) -> list[str]:
     return [v.strip() for v in text.split(",") if v.strip()]
 
 
-def parse_range(text: str, kind: str, option: str) -> tuple[list[float], UnitScale]:
-    """``"LO..HI UNIT:N"`` -> N values evenly spaced in the unit (``:N`` optional for
-    sizing ranges, then the two ends).  Returns the numbers in the unit and its scale."""
+def parse_range(text: str, kind: str, option: str,
+                counted: bool = True) -> tuple[list[float], UnitScale]:
+    """``"LO..HI UNIT:N"`` -> N values evenly spaced in the unit (``:N`` optional, then the
+    two ends; refused when not ``counted``: a search range).  Returns the numbers in the
+    unit and its scale."""
     body, _, count = text.rpartition(":") if ":" in text else (text, "", "")
     count = count.strip().removesuffix("log").strip()
+    if count and not counted:
+        raise ScenarioError(option, text, "a range LO..HI UNIT without ':N' (the two ends of "
+                            "the search), e.g. '0.1..2 K/W'")
     lo_txt, sep, hi_txt = body.partition("..")
     if not sep:
         raise ScenarioError(option, text, "a range LO..HI UNIT[:N], e.g. '0.1..0.5 K/W:5'")

@@ -541,3 +541,14 @@ def test_a_row_of_waveform_keys_is_the_scenario_with_value_gives(scn, values):
         with pytest.raises(ValueError) as exc:
             with_values(scn, values)
         assert str(exc.value) == err
+
+
+def test_a_search_range_with_a_count_names_the_option(tmp_path, capsys):
+    """`size --range '1..200 W:5'` ended in "too many values to unpack".  A search range
+    takes no ':N'; the message names the option and the range.  Common practice, no
+    source."""
+    f = tmp_path / "s.toml"
+    f.write_text(TEXT)
+    assert main(["size", str(f), "--adjust", "waveforms.p.peak", "--range", "1..200 W:5"]) == 2
+    err = capsys.readouterr().err
+    assert "--range = '1..200 W:5'" in err and "without ':N'" in err and "unpack" not in err
