@@ -128,7 +128,8 @@ class Layer:
         part footprints, giving an effective through-plane conductivity in the via area.
     via_area
         Size (width, length) in m of the via field under each part; ``None`` = the
-        footprint of the heat path where it enters the board.
+        footprint of the part above it: its lowest stack layer with a size (a flange),
+        else its ``footprint`` (:func:`pulsetherm.network.builder.via_field_size`).
     """
 
     material: Material | str
