@@ -748,6 +748,16 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
         if profile is not None:
             pg, pct, pcb, pA = _profile_sublayers(profile, seg, profile.top[si], z, via,
                                                   profile.ts[si] / t)
+            if via is not None:
+                # never above a 1-D column of the footprint through the layer (a field
+                # smaller than the part: the flow area of the via-filled series can be
+                # narrower than the footprint where it leaves a wide plate)
+                kv, av = via
+                fp = w0 * l0
+                r_col = t / (seg.k_eff * fp + (kv - seg.k_eff) * min(fp, av))
+                r_sum = float(np.sum(1.0 / pg))
+                if r_sum > r_col:
+                    pg = pg * (r_sum / r_col)
         for kk in range(len(xi) - 1):
             if profile is not None:
                 g, c_top, c_bot = float(pg[kk]), float(pct[kk]), float(pcb[kk])
