@@ -815,7 +815,6 @@ class ModalSolver:
         kept: dict = {}
         t1, v1, r, j0 = self._sample(np.zeros_like(q0), edges, level, slope, rows,
                                      refine=False, keep=kept)
-        H = np.exp(-np.multiply.outer(t1, self.lam))          # (samples, modes)
         Pp = self.Phi[rows]
         Dp = self.Dp[rows]
         Tr = self.T_ref[rows][None, :]
@@ -853,8 +852,12 @@ class ModalSolver:
         sel = sorted(s for s in sel if 0 <= s < Nper)
         sel_f = np.asarray(sel, dtype=np.float64)
         Qsel = np.exp(-np.multiply.outer(sel_f, y)) * q0 + S(sel_f) * r   # (periods, modes)
-        vals = np.stack([v1[:, j][None, :] + (Qsel * Pp[j]) @ H.T
-                         for j in range(rows.size)], axis=2)    # (periods, samples, p)
+        vals = np.empty((len(sel), t1.size, rows.size))        # (periods, samples, p)
+        cs = max(1, 1_000_000 // max(self.lam.size, 1))        # e^{−λt} rows per block
+        for i in range(0, t1.size, cs):
+            H = np.exp(-np.multiply.outer(t1[i:i + cs], self.lam))
+            for j in range(rows.size):
+                vals[:, i:i + cs, j] = v1[i:i + cs, j][None, :] + (Qsel * Pp[j]) @ H.T
         ts, vs = {}, {}
         for i, n in enumerate(sel):
             ts[n], vs[n] = t1 + n * T, vals[i]

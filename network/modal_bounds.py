@@ -33,6 +33,8 @@ import numpy as np
 REL_TOL = 1e-10
 #: Most halvings of an interval (the bound's excess shrinks about 4x per halving).
 MAX_DEPTH = 60
+#: Largest modes x candidates block bounded at once (memory: a few such float64 arrays).
+CHUNK_ELEMENTS = 1_000_000
 
 
 def _derivs(solver, q0s, s, lv, sl):
@@ -156,7 +158,7 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
     ck, cj, sg, slot, sa, sb = _sample_intervals(t, edges, ck, cj, sg, slot)
     new_t, new_v = [], []
 
-    def record(sel, s, q0s, lv, sl):
+    def record(sel, s, q0s, lv, sl, ck, cj, sg, slot):
         """Exact values at offsets s of candidates sel; kept where they beat the best."""
         q, _, _ = _derivs(solver, q0s[:, sel], s, lv[sel], sl[sel])
         vals = (Pp @ q).T + (lv[sel] + s[:, None] * sl[sel]) @ Dp.T    # (c, p)
@@ -167,44 +169,53 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
             new_v.append(vals[gain])
             np.maximum.at(best, slot[sel][gain], mine[gain])
 
-    for _depth in range(MAX_DEPTH):
-        if ck.size == 0:
-            break
-        Pj = Pp[cj] * sg[:, None]
-        dj = Dp[cj] * sg[:, None]
-        q0s = starts[:, ck]
-        lv, sl = level[ck], slope[ck]
-        th_a, th_b, d_a, d_b, U, L, K = _interval_bounds(solver, Pj, dj, q0s, lv, sl, sa, sb)
-        ub = _line_bound(th_a, th_b, U, L, sb - sa)
-        live = ub > best[slot] + tol
-        if not live.any():
-            break
-        concave = live & (K <= 0)
-        root = np.flatnonzero(concave & (d_a > 0) & (d_b < 0))
-        if root.size:
-            def fun(s, idx, root=root):
-                r = root[idx]
-                _, dq, cq = _derivs(solver, q0s[:, r], s, lv[r], sl[r])
-                return (np.einsum("ci,ic->c", Pj[r], dq) + np.sum(dj[r] * sl[r], axis=1),
-                        np.einsum("ci,ic->c", Pj[r], cq))
-            xtol = np.maximum((sb[root] - sa[root]) * 1e-14, 1e-300)
-            s_star = newton(fun, sa[root], sb[root], d_a[root], d_b[root], xtol)
-            record(root, s_star, q0s, lv, sl)
-        split = np.flatnonzero(live & ~concave)
-        if split.size == 0:
-            break
-        mid = 0.5 * (sa[split] + sb[split])
-        ok = (mid > sa[split]) & (mid < sb[split])
-        split, mid = split[ok], mid[ok]
-        # the midpoints are exact values: they raise the best found so far
-        record(split, mid, q0s, lv, sl)
-        cj = np.concatenate([cj[split], cj[split]])
-        sg = np.concatenate([sg[split], sg[split]])
-        slot = np.concatenate([slot[split], slot[split]])
-        ck2 = ck[split]
-        sa = np.concatenate([sa[split], mid])
-        sb = np.concatenate([mid, sb[split]])
-        ck = np.concatenate([ck2, ck2])
+    # candidates per pass, so that the (modes, candidates) arrays stay near CHUNK_ELEMENTS
+    chunk = max(1, CHUNK_ELEMENTS // max(solver.lam.size, 1))
+
+    def search(ck, cj, sg, slot, sa, sb, depth):
+        while depth > 0 and ck.size:
+            if ck.size > chunk:
+                for i in range(0, ck.size, chunk):
+                    part = slice(i, i + chunk)
+                    search(ck[part], cj[part], sg[part], slot[part], sa[part], sb[part], depth)
+                return
+            depth -= 1
+            Pj = Pp[cj] * sg[:, None]
+            dj = Dp[cj] * sg[:, None]
+            q0s = starts[:, ck]
+            lv, sl = level[ck], slope[ck]
+            th_a, th_b, d_a, d_b, U, L, K = _interval_bounds(solver, Pj, dj, q0s, lv, sl,
+                                                             sa, sb)
+            ub = _line_bound(th_a, th_b, U, L, sb - sa)
+            live = ub > best[slot] + tol
+            if not live.any():
+                return
+            concave = live & (K <= 0)
+            root = np.flatnonzero(concave & (d_a > 0) & (d_b < 0))
+            if root.size:
+                def fun(s, idx, root=root):
+                    r = root[idx]
+                    _, dq, cq = _derivs(solver, q0s[:, r], s, lv[r], sl[r])
+                    return (np.einsum("ci,ic->c", Pj[r], dq) + np.sum(dj[r] * sl[r], axis=1),
+                            np.einsum("ci,ic->c", Pj[r], cq))
+                xtol = np.maximum((sb[root] - sa[root]) * 1e-14, 1e-300)
+                s_star = newton(fun, sa[root], sb[root], d_a[root], d_b[root], xtol)
+                record(root, s_star, q0s, lv, sl, ck, cj, sg, slot)
+            split = np.flatnonzero(live & ~concave)
+            mid = 0.5 * (sa[split] + sb[split])
+            ok = (mid > sa[split]) & (mid < sb[split])
+            split, mid = split[ok], mid[ok]
+            if split.size == 0:
+                return
+            # the midpoints are exact values: they raise the best found so far
+            record(split, mid, q0s, lv, sl, ck, cj, sg, slot)
+            cj = np.concatenate([cj[split], cj[split]])
+            sg = np.concatenate([sg[split], sg[split]])
+            slot = np.concatenate([slot[split], slot[split]])
+            ck = np.concatenate([ck[split], ck[split]])
+            sa, sb = np.concatenate([sa[split], mid]), np.concatenate([mid, sb[split]])
+
+    search(ck, cj, sg, slot, sa, sb, MAX_DEPTH)
     if not new_t:
         return t, v
     from .solvers import merge_samples

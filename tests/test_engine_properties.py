@@ -65,6 +65,7 @@ def test_superposition_of_inputs_with_different_periods(n, seed):
 @settings(**SETTINGS)
 @given(n=st.integers(2, 12), seed=st.integers(0, 2**31 - 1),
        d=st.floats(2e-4, 8e-4))
+@example(n=4, seed=4836159, d=0.0002498390767863963)   # rise of 3 µK: ulp-limited
 def test_periodic_state_time_shift_invariance(n, seed, d):
     """Periodic start of P(t + d) = state reached at t = d from the periodic start of P
     (transient of duration d); and one period of transient from the periodic start returns
@@ -78,11 +79,14 @@ def test_periodic_state_time_shift_invariance(n, seed, d):
     shifted = Piecewise([0.0, 1e-3 - d, 1.1e-3 - d, 1e-3], [0.0, 10.0, 0.0])
     moved = net.periodic({"a": shifted, "b": 0.0}, probes=probes)
     zero = net.periodic({"a": 0.0, "b": 0.0}, probes=probes)
+    # absolute temperatures (K) carry ~1e-16 relative rounding: a rise of a few µK
+    # (n=4, seed=4836159) can not be compared below a few ulp of them
     scale = np.abs(base.state_start - zero.state_start).max()
-    assert np.max(np.abs(moved.state_start - run.state_end)) <= 1e-9 * scale
-    assert abs(moved.mean("n0") - base.mean("n0")) <= 1e-9 * scale
+    tol = 1e-9 * scale + 4 * np.spacing(np.abs(base.state_start).max() + 273.15)
+    assert np.max(np.abs(moved.state_start - run.state_end)) <= tol
+    assert abs(moved.mean("n0") - base.mean("n0")) <= tol
     one = net.transient({"a": PULSE_A, "b": 0.0}, duration=1e-3, initial=start, probes=probes)
-    assert np.max(np.abs(one.state_end - base.state_start)) <= 1e-9 * scale
+    assert np.max(np.abs(one.state_end - base.state_start)) <= tol
 
 
 @settings(**SETTINGS)
