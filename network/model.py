@@ -491,6 +491,13 @@ class ThermalNetwork:
         ``fraction`` of its periodic-steady-state peak rise (exact, whole periods jumped)."""
         fr = _warmup_fraction("fraction", fraction)
         res = self.periodic(waveforms, probes=[node], method=method, warmup_fraction=fr)
+        if res.warmup_s is None and method == "auto":
+            # the solver picked for a large network has no warm-up search: the exact modal
+            # one has (was a TypeError on a 1 um laminate)
+            res = self.periodic(waveforms, probes=[node], method="modal", warmup_fraction=fr)
+        if res.warmup_s is None:
+            raise NetworkError(f"warm-up time: method {method!r} does not compute one; "
+                               "expected method 'auto' or 'modal'")
         if initial is None:
             return float(res.warmup_s[node])
         sys_ = self.system()

@@ -36,10 +36,16 @@ class ResultError(ValueError):
     what the model resolves (or a bug): the message says which probe and what broke."""
 
 
+#: Hottest temperature a result may show, K (as the plausibility limit on input
+#: temperatures, network/limits.py): beyond it every material has melted or burnt.
+MAX_RESULT_K = 5000.0
+
+
 def check_invariants(theta_K: np.ndarray, mean_K: np.ndarray, probes: tuple[str, ...]) -> None:
     """Refuse a response whose numbers cannot be physical.
 
-    For every probe: every temperature finite and above 0 K, and minimum <= mean <= peak
+    For every probe: every temperature finite, above 0 K and at most ``MAX_RESULT_K``, and
+    minimum <= mean <= peak
     within rounding (1e-6 of the largest temperature swing, plus 1e-9 of the absolute
     temperature).  ``theta_K`` (k, p) and ``mean_K`` (p,) in kelvin.  Raises
     :class:`ResultError` naming the probe.  Vectorised: a few passes over the samples.
@@ -61,6 +67,12 @@ def check_invariants(theta_K: np.ndarray, mean_K: np.ndarray, probes: tuple[str,
         j = int(np.flatnonzero(cold)[0])
         raise ResultError(f"probe {probes[j]!r}: a temperature at or below 0 K "
                           f"({min(lo[j], mean[j]) - KELVIN_OFFSET:.6g} degC); {hint}")
+    hot = hi > MAX_RESULT_K
+    if hot.any():
+        j = int(np.flatnonzero(hot)[0])
+        raise ResultError(f"probe {probes[j]!r}: peak {hi[j] - KELVIN_OFFSET:.6g} degC, above "
+                          f"{MAX_RESULT_K:g} K where no part survives and the model's "
+                          f"linear physics means nothing; {hint}")
     tol = 1e-6 * np.maximum(hi - lo, np.abs(mean - lo)) + 1e-9 * np.abs(hi)
     bad = (mean < lo - tol) | (mean > hi + tol)
     if bad.any():

@@ -265,3 +265,22 @@ def test_ounces_on_copper_layers_and_percent_duty(tmp_path, capsys):
     c = peak(GOOD.replace('thickness = "1 mm"', 'thickness = "1 mm"\nvoid_fraction = "10 %"'))
     d = peak(GOOD.replace('thickness = "1 mm"', 'thickness = "1 mm"\nvoid_fraction = 0.1'))
     assert c == d != peak(GOOD)
+
+
+# -- results that cannot be physical are refused ------------------------------------------
+def test_result_invariants_refuse_impossible_numbers():
+    """min <= mean <= peak, finite, above 0 K and at most 5000 K (common practice, no
+    source: a time average lies between the extremes)."""
+    import numpy as np
+
+    from pulsetherm.network.result import ResultError, check_invariants
+
+    theta = np.array([[300.0, 310.0], [320.0, 330.0]])
+    check_invariants(theta, np.array([310.0, 320.0]), ("a", "b"))      # fine
+    for mean, t, match in (([330.0, 320.0], theta, "'a': mean"),       # mean above peak
+                           ([310.0, 300.0], theta, "'b': mean"),       # below minimum
+                           ([310.0, 320.0], theta - 310.0, "at or below 0 K"),
+                           ([310.0, 320.0], theta * np.nan, "not a finite number"),
+                           ([310.0, 6000.0], theta + [0.0, 5700.0], "above 5000 K")):
+        with pytest.raises(ResultError, match=match):
+            check_invariants(t, np.array(mean), ("a", "b"))
