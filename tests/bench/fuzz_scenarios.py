@@ -288,6 +288,7 @@ def main(argv=None) -> int:
     for kind, items in sorted(defects.items()):
         case, name, err = items[0]
         print(f"    {kind}: {len(items)} (e.g. case {case}, {name}: {err!r})")
+        print(f"      cases: {' '.join(str(c) for c, _, _ in items[:40])}")
     return 1 if total else 0
 
 
