@@ -96,6 +96,7 @@ def test_periodic_state_time_shift_invariance(n, seed, d):
 @example(n=3, seed=0)    # massless n1 heated directly: right limits at t = 0 and at jumps
 @example(n=9, seed=133825)  # two near-equal maxima of n7: the samples pointed at the lower
 #                             one (dense peak 1.9e-4 K low); now certified by modal_bounds
+@example(n=11, seed=898)    # sparse minimum of n9 in a segment without a best sample (6.6e-6 K)
 def test_dense_and_sparse_paths_agree(n, seed):
     """Modal (dense) and sparse solvers: periodic peak, minimum, mean and a 2.5-period
     transient's end state agree to 1e-7 of the rise (the sparse path locates extremes
