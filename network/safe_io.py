@@ -33,7 +33,7 @@ from pathlib import Path
 from typing import Any, Iterator
 
 __all__ = ["InputFileError", "read_text", "atomic_open", "printable", "check_output_target",
-           "MAX_SCENARIO_BYTES", "MAX_TABLE_BYTES"]
+           "MAX_SCENARIO_BYTES", "MAX_TABLE_BYTES", "is_input_error"]
 
 #: Largest scenario file read, bytes (the shipped examples are 2-4 kB).
 MAX_SCENARIO_BYTES = 1_000_000
@@ -221,3 +221,46 @@ def resolve_inside(base: str | os.PathLike, name: str,
                              "(this one resolves outside it; pass --allow-path DIR to allow "
                              "another folder)")
     return target
+
+
+def is_input_error(exc: BaseException) -> bool:
+    """True when ``exc`` is the user's input error (exit 2, a failed sweep row), False when
+    it is a bug in pulsetherm (exit 3).
+
+    Input errors are the project's own error classes (``ValueError`` subclasses defined in
+    ``pulsetherm``: ``ScenarioError``, ``UnitError``, ``WaveformError`` ...), a plain
+    ``ValueError`` raised by pulsetherm's own code, files that cannot be read or written
+    (``OSError``), text that is not UTF-8 or not TOML, a name that is not there (``KeyError``)
+    and inputs too large or too deep for the machine (``MemoryError``, ``RecursionError``).
+    A ``ValueError`` subclass of a library (numpy's ``LinAlgError``, say) is not: the
+    project checks its inputs before calling the libraries, so one reaching the top is ours.
+    """
+    import tomllib
+
+    if isinstance(exc, (OSError, MemoryError, RecursionError, UnicodeError, KeyError,
+                        tomllib.TOMLDecodeError)):
+        return True
+    if not isinstance(exc, ValueError):
+        return False
+    cls = type(exc)
+    if cls.__module__.startswith("pulsetherm."):
+        return True
+    if cls is not ValueError:
+        return False
+    # a plain ValueError: the project's own (its innermost frame is pulsetherm's code, as
+    # for float('x') on a user's text), or one raised inside a library's Python code
+    tb = exc.__traceback__
+    while tb is not None and tb.tb_next is not None:
+        tb = tb.tb_next
+    return tb is None or _in_project(tb.tb_frame.f_code.co_filename)
+
+
+def _in_project(filename: str) -> bool:
+    """True for a source file of the pulsetherm packages (network, waveforms, tui)."""
+    here = Path(__file__).resolve().parent          # network/
+    roots = (here, here.parent / "waveforms", here.parent / "tui")
+    try:
+        path = Path(filename).resolve()
+    except (OSError, RuntimeError):
+        return False
+    return any(root == path.parent for root in roots)

@@ -490,10 +490,12 @@ def with_values(scn: Scenario, values: dict[str, Any]) -> Scenario:
 def _failure(exc: BaseException) -> str:
     """One line for a failed row: the message of an input error; the kind of a numerical
     failure; a request to report an internal error (a bug)."""
+    from .safe_io import is_input_error
+
     text = " ".join(str(exc).split())
     if len(text) > 400:
         text = text[:400] + " ..."
-    if isinstance(exc, (ValueError, OSError, KeyError)):
+    if isinstance(exc, (ValueError, OSError, KeyError)) and is_input_error(exc):
         return text or type(exc).__name__
     if isinstance(exc, (ArithmeticError, MemoryError, RecursionError)):
         what = {"MemoryError": "out of memory", "RecursionError": "nested too deeply"}.get(

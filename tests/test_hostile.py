@@ -13,6 +13,7 @@ import subprocess
 import sys
 from pathlib import Path
 
+import numpy as np
 import pytest
 
 from pulsetherm.tui.cli import main
@@ -233,6 +234,54 @@ def test_an_internal_error_exits_3_with_a_request_to_report(tmp_path, capsys, mo
     monkeypatch.setenv("PULSETHERM_DEBUG", "1")
     assert _run(["run", str(f)]) == 3
     assert "Traceback" in capsys.readouterr().err
+
+
+@pytest.mark.parametrize("raise_it", [
+    lambda: np.linalg.solve(np.zeros((2, 2)), np.ones(2)),     # LinAlgError (a ValueError)
+    lambda: np.linalg.cholesky(-np.eye(2)),                     # LinAlgError
+])
+def test_a_library_value_error_is_a_bug_not_the_users_input(tmp_path, capsys, monkeypatch,
+                                                             raise_it):
+    """A ValueError subclass raised by a library (numpy's LinAlgError: a singular matrix the
+    project should never have built) is an internal error, exit 3, not blamed on the input;
+    the project's own input errors stay exit 2.  Common practice, no source."""
+    import importlib
+
+    sim = importlib.import_module("pulsetherm.network.simulate")
+    monkeypatch.setattr(sim, "simulate", lambda scn: raise_it())
+    monkeypatch.delenv("PULSETHERM_DEBUG", raising=False)
+    f = _good(tmp_path)
+    status = _run(["run", str(f)])
+    err = capsys.readouterr().err
+    assert status == 3 and "internal error (LinAlgError" in err, err
+
+
+def test_is_input_error_classes():
+    """The classification behind exit 2 / exit 3 and a sweep's failed rows."""
+    import tomllib
+
+    from pulsetherm.network.safe_io import is_input_error
+    from pulsetherm.network.scenario import ScenarioError
+    from pulsetherm.network.units import UnitError
+
+    assert is_input_error(ScenarioError("a", "1", "a length"))
+    assert is_input_error(UnitError("x"))
+    assert is_input_error(OSError(2, "No such file"))
+    assert is_input_error(KeyError("probe 'x' is not there"))
+    try:
+        tomllib.loads("a = ")
+    except tomllib.TOMLDecodeError as exc:
+        assert is_input_error(exc)
+    try:
+        float("3 mm")
+    except ValueError as exc:   # a plain ValueError counts as input only when raised in
+        assert not is_input_error(exc)   # pulsetherm's own code; this file is not
+    try:
+        np.linalg.inv(np.zeros((2, 2)))
+    except np.linalg.LinAlgError as exc:
+        assert not is_input_error(exc)
+    assert not is_input_error(ZeroDivisionError())
+    assert not is_input_error(TypeError("boom"))
 
 
 def test_every_verb_goes_through_the_guard():

@@ -95,7 +95,11 @@ def guarded(verb: str, run: Callable[[], int],
         except (OSError, ValueError, AttributeError):
             pass
         return EXIT_OK
-    except (ValueError, OSError, KeyError, MemoryError, RecursionError) as exc:
+    except Exception as exc:
+        from pulsetherm.network.safe_io import is_input_error
+
+        if not is_input_error(exc):
+            return _internal(exc, err, verb)
         if locate is not None and isinstance(exc, ValueError):
             try:
                 exc = locate(exc)
@@ -103,9 +107,12 @@ def guarded(verb: str, run: Callable[[], int],
                 pass
         print(f"pulsetherm {verb}: error: {one_line(message_of(exc))}", file=err)
         return EXIT_ERROR
-    except Exception as exc:
-        if os.environ.get(DEBUG_ENV, "").strip() not in ("", "0"):
-            traceback.print_exc(file=err)
-        print(f"pulsetherm {verb}: internal error ({type(exc).__name__}: "
-              f"{one_line(str(exc))[:160]}); {REPORT_HINT}", file=err)
-        return EXIT_INTERNAL
+
+
+def _internal(exc: BaseException, err, verb: str) -> int:
+    """Status 3: one line asking for a report (the traceback with ``PULSETHERM_DEBUG=1``)."""
+    if os.environ.get(DEBUG_ENV, "").strip() not in ("", "0"):
+        traceback.print_exception(exc, file=err)
+    print(f"pulsetherm {verb}: internal error ({type(exc).__name__}: "
+          f"{one_line(str(exc))[:160]}); {REPORT_HINT}", file=err)
+    return EXIT_INTERNAL
