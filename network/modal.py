@@ -243,13 +243,12 @@ def _rtsafe(fun, a: float, b: float, fa: float, fb: float, xtol: float,
 
 
 def _eigh(A: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Eigenvalues (ascending) and orthonormal eigenvectors of the symmetric A: LAPACK's
-    divide-and-conquer driver dsyevd (10-30 % faster than the default dsyevr here, same
-    accuracy class), called directly; the default driver if it reports a failure."""
-    lam, U, info = sla.lapack.dsyevd(A, compute_v=1, lower=1)
-    if info != 0:
-        lam, U = sla.eigh(A, check_finite=False)
-    return lam, U
+    """Eigenvalues (ascending) and orthonormal eigenvectors of the symmetric A, by scipy's
+    default driver (dsyevr).  The divide-and-conquer driver dsyevd is 10-30 % faster here
+    but resolves the slowest modes of a stiff network less well: a 3-period transient of a
+    12-node network with time constants over 6.6e7 balanced its energy to 1.7e-9 with it
+    against 1.2e-12 with dsyevr (test_engine_random, n=12, seed=6435631)."""
+    return sla.eigh(A, check_finite=False)
 
 
 class ModalSolver:
