@@ -1,5 +1,6 @@
-"""Small assembled systems shared by the nonlinear-solver tests (not a test module: its name
-does not start with ``test_``; loaded by file path, since the tests are not a package)."""
+"""Small assembled systems and scenario texts shared by the tests (not a test module: its
+name does not start with ``test_``; loaded by file path, since the tests are not a package;
+``tests/hostile/make_corpus.py`` loads it the same way)."""
 from __future__ import annotations
 
 import numpy as np
@@ -28,3 +29,32 @@ def chain(C, g, *, a=0.0, Tref=300.0, T_b=300.0, tc=0.0, tc_ref=300.0):
                          ("sink",), np.array([T_b]), B, ("heater",), ei, ej, g,
                          np.full(N, float(a)), np.full(N, float(Tref)), np.array([float(tc)]),
                          np.array([float(tc_ref)]))
+
+
+#: A small valid scenario: 50 W pulses (100 us in 1 ms) into a data-sheet Foster device
+#: (3 terms, 2 K/W) on a copper flange over an ideal cold plate.  The command-line tests
+#: and the hostile corpus change one key of it at a time.
+SMALL_PULSED_SCENARIO = """name = "good"
+coolant = "40 degC"
+
+[waveforms.p]
+kind = "pulses"
+peak = "50 W"
+width = "100 us"
+period = "1 ms"
+
+[mount.sink]
+kind = "fixed"
+
+[[devices]]
+name = "pa"
+power = "p"
+footprint = ["3 mm", "3 mm"]
+limit = "150 degC"
+foster = { R = ["0.2 K/W", "0.5 K/W", "1.3 K/W"], tau = ["10 us", "1 ms", "100 ms"] }
+
+[[devices.stack]]
+name = "flange"
+material = "copper"
+thickness = "1 mm"
+"""

@@ -11,34 +11,12 @@ from pathlib import Path
 import pytest
 
 from pulsetherm.tui.cli import main
+from pulsetherm_test_systems import SMALL_PULSED_SCENARIO  # tests/_systems.py, by conftest
 
 ROOT = Path(__file__).resolve().parents[1]
 EX = ROOT / "examples"
 
-GOOD = """name = "good"
-coolant = "40 degC"
-
-[waveforms.p]
-kind = "pulses"
-peak = "50 W"
-width = "100 us"
-period = "1 ms"
-
-[mount.sink]
-kind = "fixed"
-
-[[devices]]
-name = "pa"
-power = "p"
-footprint = ["3 mm", "3 mm"]
-limit = "150 degC"
-foster = { R = ["0.2 K/W", "0.5 K/W", "1.3 K/W"], tau = ["10 us", "1 ms", "100 ms"] }
-
-[[devices.stack]]
-name = "flange"
-material = "copper"
-thickness = "1 mm"
-"""
+GOOD = SMALL_PULSED_SCENARIO
 
 
 def test_help_does_not_import_numpy_or_scipy():

@@ -16,30 +16,18 @@ from pathlib import Path
 
 HERE = Path(__file__).resolve().parent
 
-BASE = '''name = "hostile base"
-coolant = "40 degC"
+def _shared_scenario() -> str:
+    """The small valid scenario of tests/_systems.py, named "hostile base" (loaded by path:
+    this script runs outside pytest)."""
+    import importlib.util
 
-[waveforms.p]
-kind = "pulses"
-peak = "50 W"
-width = "100 us"
-period = "1 ms"
+    spec = importlib.util.spec_from_file_location("_systems", HERE.parent / "_systems.py")
+    mod = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(mod)
+    return mod.SMALL_PULSED_SCENARIO.replace('name = "good"', 'name = "hostile base"', 1)
 
-[mount.sink]
-kind = "fixed"
 
-[[devices]]
-name = "pa"
-power = "p"
-footprint = ["3 mm", "3 mm"]
-limit = "150 degC"
-foster = { R = ["0.2 K/W", "0.5 K/W", "1.3 K/W"], tau = ["10 us", "1 ms", "100 ms"] }
-
-[[devices.stack]]
-name = "flange"
-material = "copper"
-thickness = "1 mm"
-'''
+BASE = _shared_scenario()
 
 TABLE = '''name = "hostile table"
 coolant = "40 degC"
