@@ -22,9 +22,16 @@ def _screen(size):
                 await pilot.pause(0.02)
                 if app.done_seq == app.seq:
                     break
-            await pilot.pause(0.1)
-            lines = [s.text for s in app.screen._compositor.render_strips()]
             probes = list(app.result.probes)
+            # the result message is posted before the table repaints: under load (the full
+            # suite on 2 cores) 0.1 s was not always enough, so wait for the first probe row
+            for _ in range(250):
+                await pilot.pause(0.02)
+                lines = [s.text for s in app.screen._compositor.render_strips()]
+                head = [i for i, x in enumerate(lines) if " probe " in x]
+                if head and head[0] + 1 < len(lines) and \
+                        probes[0][:6] in lines[head[0] + 1]:
+                    break
             app.stopper.stop("extras")
             return lines, probes
     return asyncio.run(main())
