@@ -42,12 +42,13 @@ def _derivs(solver, q0s, s, lv, sl):
     return solver._seg_states(q0s, s, lv, sl)
 
 
-def _interval_bounds(solver, Pj, dj, q0s, lv, sl, sa, sb):
-    """θ, θ' at both ends and the bounds U, L on θ' and K on θ'' for intervals of segments.
+def _interval_bounds(Pj, dj, lv, sl, sa, sb, ends_a, ends_b):
+    """θ, θ' at both ends, the bounds L ≤ θ' ≤ U and Kl ≤ θ'' ≤ K for intervals of segments.
 
-    Pj (c, modes) signed probe rows, dj (c, m) signed direct rows, q0s (modes, c)."""
-    qa, da, ca = _derivs(solver, q0s, sa, lv, sl)
-    qb, db, cb = _derivs(solver, q0s, sb, lv, sl)
+    Pj (c, modes) signed probe rows, dj (c, m) signed direct rows; ``ends_a``/``ends_b``
+    the modal state and its two derivatives (q, q', q'') (modes, c) at the interval ends."""
+    qa, da, ca = ends_a
+    qb, db, cb = ends_b
     aPj = np.abs(Pj)
     direct_slope = np.sum(dj * sl, axis=1)
     th_a = np.einsum("ci,ic->c", Pj, qa) + np.sum(dj * (lv + sa[:, None] * sl), axis=1)
@@ -57,17 +58,33 @@ def _interval_bounds(solver, Pj, dj, q0s, lv, sl, sa, sb):
     spread = 0.5 * np.einsum("ci,ic->c", aPj, np.abs(da - db))
     U = 0.5 * (d_a + d_b) + spread + direct_slope
     L = 0.5 * (d_a + d_b) - spread + direct_slope
-    K = 0.5 * (np.einsum("ci,ic->c", Pj, ca + cb)
-               + np.einsum("ci,ic->c", aPj, np.abs(ca - cb)))
-    return th_a, th_b, d_a + direct_slope, d_b + direct_slope, U, L, K
+    c_mid = 0.5 * np.einsum("ci,ic->c", Pj, ca + cb)
+    c_spread = 0.5 * np.einsum("ci,ic->c", aPj, np.abs(ca - cb))
+    return (th_a, th_b, d_a + direct_slope, d_b + direct_slope, U, L, c_mid + c_spread,
+            c_mid - c_spread)
 
 
-def _line_bound(th_a, th_b, U, L, w):
-    """Upper bound of θ on [0, w] from θ(0), θ(w) and L ≤ θ' ≤ U."""
+def _line_bound(th_a, th_b, U, L, w, Kl=None):
+    """Upper bound of θ on [0, w] from θ(0), θ(w), L ≤ θ' ≤ U and (when given) Kl ≤ θ''.
+
+    The slope bounds give two lines through the ends; the curvature bound gives the chord
+    plus a parabola: θ − (Kl/2)·x(x − w) is convex, so it lies under its chord, and
+    θ(x) ≤ θ(0) + m x + (−Kl/2)·x(w − x) with m the chord's slope (≤ max(θ(0), θ(w)) when
+    Kl ≥ 0).  The smaller bound is returned."""
     with np.errstate(divide="ignore", invalid="ignore"):
         x = np.minimum(np.maximum((th_b - th_a - L * w) / (U - L), 0.0), w)
     ub = np.where(U <= 0, th_a, np.where(L >= 0, th_b, th_a + U * x))
-    return np.maximum(ub, np.maximum(th_a, th_b))
+    top = np.maximum(th_a, th_b)
+    ub = np.maximum(ub, top)
+    if Kl is None:
+        return ub
+    c = np.maximum(-0.5 * Kl, 0.0)                  # the parabola's weight, ≥ 0
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        m = (th_b - th_a) / w
+        xs = np.minimum(np.maximum(0.5 * w + m / (2.0 * c), 0.0), w)
+        ub2 = th_a + m * xs + c * xs * (w - xs)
+    ub2 = np.where((c > 0) & np.isfinite(ub2), np.maximum(ub2, top), top)
+    return np.minimum(ub, ub2)
 
 
 def _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol):
@@ -96,8 +113,10 @@ def _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol):
     mid = 0.5 * (d_a + d_b)
     spread = 0.5 * (aP @ np.abs(da - db))
     U, L = mid + spread, mid - spread
-    ub_max = _line_bound(th_a, th_b, U, L, h[None, :])
-    ub_min = _line_bound(-th_a, -th_b, -L, -U, h[None, :])
+    c_mid = 0.5 * (Pp @ (ca + cb))
+    c_spread = 0.5 * (aP @ np.abs(ca - cb))
+    ub_max = _line_bound(th_a, th_b, U, L, h[None, :], c_mid - c_spread)
+    ub_min = _line_bound(-th_a, -th_b, -L, -U, h[None, :], -(c_mid + c_spread))
     ub = np.concatenate([ub_max, ub_min])                          # (2p, N)
     live = ub > best[:, None] + tol
     if not live.any():
@@ -106,9 +125,16 @@ def _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol):
     return slot, ck
 
 
-def _sample_intervals(t, edges, ck, cj, sg, slot):
-    """Split each candidate segment k at the sample times inside it: the intervals
-    (offsets from the segment start) with their candidate labels repeated."""
+#: Cuts at these fractions of a segment on both sides of a probe's best sample (the
+#: maximum or minimum found by the refinement): graded intervals clear, or prove concave,
+#: in a level or two where halvings from the sample intervals would take ten.
+GRADED_CUTS = 10.0 ** -np.arange(1, 8)
+
+
+def _sample_intervals(t, edges, ck, cj, sg, slot, t_best):
+    """Split each candidate segment k at the sample times inside it, and at graded offsets
+    around its probe's best sample ``t_best[slot]`` when that lies in the segment: the
+    intervals (offsets from the segment start) with their candidate labels repeated."""
     segs = np.unique(ck)
     cuts = {}
     for k in segs.tolist():
@@ -120,6 +146,13 @@ def _sample_intervals(t, edges, ck, cj, sg, slot):
     out = [[], [], [], [], [], []]
     for c, k in enumerate(ck.tolist()):
         s = cuts[k]
+        tb = t_best[slot[c]] - edges[k]
+        hk = edges[k + 1] - edges[k]
+        if 0.0 <= tb <= hk:
+            g = hk * GRADED_CUTS
+            extra = np.concatenate([tb - g, tb + g])
+            extra = extra[(extra > 0.0) & (extra < hk)]
+            s = np.unique(np.concatenate([s, extra]))
         nint = s.size - 1
         out[0].append(np.full(nint, k))
         out[1].append(np.full(nint, cj[c]))
@@ -155,12 +188,13 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
     slot, ck = live
     cj = slot % p
     sg = np.where(slot < p, 1.0, -1.0)
-    ck, cj, sg, slot, sa, sb = _sample_intervals(t, edges, ck, cj, sg, slot)
+    t_best = t[np.concatenate([v.argmax(axis=0), v.argmin(axis=0)])]
+    ck, cj, sg, slot, sa, sb = _sample_intervals(t, edges, ck, cj, sg, slot, t_best)
     new_t, new_v = [], []
 
-    def record(sel, s, q0s, lv, sl, ck, cj, sg, slot):
-        """Exact values at offsets s of candidates sel; kept where they beat the best."""
-        q, _, _ = _derivs(solver, q0s[:, sel], s, lv[sel], sl[sel])
+    def record(sel, s, q, ck, cj, sg, slot, lv, sl):
+        """Exact values at offsets s (states q) of candidates sel; kept where they beat
+        the best."""
         vals = (Pp @ q).T + (lv[sel] + s[:, None] * sl[sel]) @ Dp.T    # (c, p)
         mine = vals[np.arange(sel.size), cj[sel]] * sg[sel]
         gain = mine > best[slot[sel]] + tol
@@ -172,21 +206,31 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
     # candidates per pass, so that the (modes, candidates) arrays stay near CHUNK_ELEMENTS
     chunk = max(1, CHUNK_ELEMENTS // max(solver.lam.size, 1))
 
-    def search(ck, cj, sg, slot, sa, sb, depth):
+    def take(ends, sel):
+        return tuple(e[:, sel] for e in ends)
+
+    def search(ck, cj, sg, slot, sa, sb, ends_a, ends_b, depth):
+        """Branch and bound; ``ends_a``/``ends_b`` are the states (q, q', q'') at the
+        interval ends (None: computed), so a halving evaluates only its midpoints."""
         while depth > 0 and ck.size:
             if ck.size > chunk:
                 for i in range(0, ck.size, chunk):
-                    part = slice(i, i + chunk)
-                    search(ck[part], cj[part], sg[part], slot[part], sa[part], sb[part], depth)
+                    part = np.arange(i, min(i + chunk, ck.size))
+                    search(ck[part], cj[part], sg[part], slot[part], sa[part], sb[part],
+                           None if ends_a is None else take(ends_a, part),
+                           None if ends_b is None else take(ends_b, part), depth)
                 return
             depth -= 1
             Pj = Pp[cj] * sg[:, None]
             dj = Dp[cj] * sg[:, None]
             q0s = starts[:, ck]
             lv, sl = level[ck], slope[ck]
-            th_a, th_b, d_a, d_b, U, L, K = _interval_bounds(solver, Pj, dj, q0s, lv, sl,
-                                                             sa, sb)
-            ub = _line_bound(th_a, th_b, U, L, sb - sa)
+            if ends_a is None:
+                ends_a = _derivs(solver, q0s, sa, lv, sl)
+                ends_b = _derivs(solver, q0s, sb, lv, sl)
+            th_a, th_b, d_a, d_b, U, L, K, Kl = _interval_bounds(Pj, dj, lv, sl, sa, sb,
+                                                                 ends_a, ends_b)
+            ub = _line_bound(th_a, th_b, U, L, sb - sa, Kl)
             live = ub > best[slot] + tol
             if not live.any():
                 return
@@ -200,7 +244,8 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
                             np.einsum("ci,ic->c", Pj[r], cq))
                 xtol = np.maximum((sb[root] - sa[root]) * 1e-14, 1e-300)
                 s_star = newton(fun, sa[root], sb[root], d_a[root], d_b[root], xtol)
-                record(root, s_star, q0s, lv, sl, ck, cj, sg, slot)
+                q_star, _, _ = _derivs(solver, q0s[:, root], s_star, lv[root], sl[root])
+                record(root, s_star, q_star, ck, cj, sg, slot, lv, sl)
             split = np.flatnonzero(live & ~concave)
             mid = 0.5 * (sa[split] + sb[split])
             ok = (mid > sa[split]) & (mid < sb[split])
@@ -208,14 +253,16 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
             if split.size == 0:
                 return
             # the midpoints are exact values: they raise the best found so far
-            record(split, mid, q0s, lv, sl, ck, cj, sg, slot)
-            cj = np.concatenate([cj[split], cj[split]])
-            sg = np.concatenate([sg[split], sg[split]])
-            slot = np.concatenate([slot[split], slot[split]])
-            ck = np.concatenate([ck[split], ck[split]])
+            ends_m = _derivs(solver, q0s[:, split], mid, lv[split], sl[split])
+            record(split, mid, ends_m[0], ck, cj, sg, slot, lv, sl)
+            two = np.concatenate([split, split])
+            cj, sg, slot, ck = cj[two], sg[two], slot[two], ck[two]
             sa, sb = np.concatenate([sa[split], mid]), np.concatenate([mid, sb[split]])
+            ea, eb = take(ends_a, split), take(ends_b, split)
+            ends_a = tuple(np.concatenate([x, m], axis=1) for x, m in zip(ea, ends_m))
+            ends_b = tuple(np.concatenate([m, y], axis=1) for m, y in zip(ends_m, eb))
 
-    search(ck, cj, sg, slot, sa, sb, MAX_DEPTH)
+    search(ck, cj, sg, slot, sa, sb, None, None, MAX_DEPTH)
     if not new_t:
         return t, v
     from .solvers import merge_samples
