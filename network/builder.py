@@ -1425,7 +1425,7 @@ def _truncate(ks: Sequence[float], ts: Sequence[float], depth: float
 def _equivalent_angle(r_layer: float, t: float, w: float, l: float, seg: _Seg) -> float:
     """Half-angle (degrees) of the frustum from w × l whose resistance through the layer is
     ``r_layer`` (reported in :class:`LayerInfo`; clamped to [0, 89])."""
-    from scipy.optimize import brentq
+    from .roots import brentq
 
     def f(theta: float) -> float:
         g, _, _ = frustum_sublayer(0.0, t, w, l, math.tan(math.radians(theta)), seg.cap,
@@ -1635,7 +1635,7 @@ def calibrate_angles(segs: list[_Seg], footprint: tuple[float, float], sink,
             return lee_1995(As, Ap, ks[0], ts[0], h).total
         return _disk_total(math.sqrt(As / math.pi), math.sqrt(Ap / math.pi), ks, ts, h)
 
-    from scipy.optimize import brentq
+    from .roots import brentq
     w, l = footprint
     angles = []
     for j, seg in enumerate(segs):

@@ -29,7 +29,7 @@ from functools import cached_property
 import numpy as np
 from scipy.constants import c as C0
 from scipy.constants import epsilon_0, mu_0
-from scipy.optimize import brentq
+from .roots import brentq  # Brent (1973); scipy.optimize costs ~0.1 s to import
 
 __all__ = [
     "MicrostripError", "Microstrip", "HurayRoughness",

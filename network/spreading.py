@@ -49,7 +49,7 @@ from dataclasses import dataclass
 from typing import Callable, Sequence
 
 import numpy as np
-from scipy.optimize import brentq
+from .roots import brentq  # Brent (1973); scipy.optimize costs ~0.1 s to import
 from scipy.special import j0, j1, jn_zeros
 
 __all__ = [
