@@ -25,11 +25,9 @@ import weakref
 from dataclasses import dataclass
 from functools import cached_property
 
-import networkx as nx
 import numpy as np
 import scipy.sparse as sp
 import scipy.linalg as sla
-import scipy.sparse.linalg as spla
 
 from .system import KELVIN_OFFSET, ThermalSystem
 
@@ -47,13 +45,14 @@ def _names(items, limit: int = 8) -> str:
     return ", ".join(repr(x) for x in items[:limit]) + more
 
 
-def assemble(graph: nx.Graph, inputs: dict) -> ThermalSystem:
+def assemble(graph, inputs: dict) -> ThermalSystem:
     """Build the :class:`ThermalSystem` of a network graph.
 
     Parameters
     ----------
     graph
-        Node attributes ``capacity`` (J/K), ``label``, ``boundary`` (bool) and, for
+        :class:`~pulsetherm.network.graph.Graph` (or a networkx graph).  Node attributes
+        ``capacity`` (J/K), ``label``, ``boundary`` (bool) and, for
         boundaries, ``temperature_K``; edge attribute ``branches``: list of
         ``(g W/K, a, Tref K)`` (parallel connections between one pair add).
     inputs
@@ -285,6 +284,7 @@ def static_field(system: ThermalSystem, power: np.ndarray | None = None,
                     return x
                 cache["static_lu"] = solve
             else:
+                import scipy.sparse.linalg as spla   # large networks only (~10 ms import)
                 cache["static_lu"] = spla.splu(Gs.tocsc()).solve
         out[idx] = T0 + cache["static_lu"](rhs[idx])
     return out
@@ -371,6 +371,7 @@ def condense(system: ThermalSystem) -> Condensed:
     else:
         Gmm = G[mass][:, mass].tocsc()
         Gmc = G[mass][:, cap]
+        import scipy.sparse.linalg as spla   # only with massless nodes (~10 ms import)
         lu = spla.splu(Gmm)
         rhs = np.hstack([Gmc.toarray(), Gb[mass].toarray(), B[mass].toarray()])
         sol = lu.solve(rhs)

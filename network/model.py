@@ -1,7 +1,9 @@
 """The thermal RC network model: named nodes, conductances, boundaries and heat inputs.
 
-A :class:`ThermalNetwork` is a :class:`networkx.Graph` of named nodes.  Free nodes carry a
-heat capacity C (J/K, 0 for a massless node) and a part/layer label; boundary nodes are held
+A :class:`ThermalNetwork` is a graph of named nodes (``net.graph``, a
+:class:`~pulsetherm.network.graph.Graph` with the part of the networkx interface it needs;
+``net.graph.to_networkx()`` for networkx's algorithms).  Free nodes carry a heat capacity C
+(J/K, 0 for a massless node) and a part/layer label; boundary nodes are held
 at a fixed temperature (several boundaries, at different temperatures, are allowed).  Edges
 are thermal conductances g (W/K); parallel connections between one pair add.  Heat inputs
 spread a power waveform over one or more nodes with weights (normalised to sum 1).
@@ -16,11 +18,11 @@ import math
 from dataclasses import dataclass, field
 from collections.abc import Mapping
 
-import networkx as nx
 import numpy as np
 
 from pulsetherm.waveforms.canonical import Piecewise, align, as_piecewise
 
+from .graph import Graph
 from .assemble import NetworkError, assemble, static_field, floating_nodes
 from .system import KELVIN_OFFSET, ThermalSystem
 
@@ -145,7 +147,7 @@ class ThermalNetwork:
     """
 
     def __init__(self) -> None:
-        self.graph = nx.Graph()
+        self.graph = Graph()
         self._inputs: dict[str, InputSpec] = {}
         self._system: ThermalSystem | None = None
         self._solvers: dict = {}
