@@ -49,6 +49,9 @@ __all__ = ["ModalSolver", "gk"]
 SAMPLE_BUDGET = 20_000
 #: Interior samples per segment when the budget allows.
 INTERIOR_POINTS = 10
+#: Roots x modes below which the refinement iterates on plain floats (numpy per-call
+#: costs more there).
+_SCALAR_LIMIT = 256
 #: Largest modes × segments array kept in memory (segment-start states for refinement).
 STORE_LIMIT = 4_000_000
 
@@ -697,7 +700,7 @@ class ModalSolver:
         if ok.size == 0:
             return t, v
         xtol = np.maximum((b[ok] - a[ok]) * 1e-14, 1e-300)
-        if A.shape[0] * ok.size <= 256:
+        if A.shape[0] * ok.size <= _SCALAR_LIMIT:
             # few modes and roots: the same iteration on plain floats
             lam_l = self.lam.tolist()
             s_star = np.empty(ok.size)

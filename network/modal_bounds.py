@@ -42,11 +42,13 @@ def _derivs(solver, q0s, s, lv, sl):
     return solver._seg_states(q0s, s, lv, sl)
 
 
-def _interval_bounds(Pj, dj, lv, sl, sa, sb, ends_a, ends_b):
-    """θ, θ' at both ends, the bounds L ≤ θ' ≤ U and Kl ≤ θ'' ≤ K for intervals of segments.
+def _interval_bounds(Pj, dj, lv, sl, sa, sb, ends_a, ends_b, lam):
+    """θ, θ' at both ends, the bounds L ≤ θ' ≤ U and Kl ≤ θ'' ≤ K for intervals of segments,
+    θ'' at both ends and bounds m3 ≤ θ''' ≤ M3 (q''' = −λ q'', each term monotone).
 
     Pj (c, modes) signed probe rows, dj (c, m) signed direct rows; ``ends_a``/``ends_b``
-    the modal state and its two derivatives (q, q', q'') (modes, c) at the interval ends."""
+    the modal state and its two derivatives (q, q', q'') (modes, c) at the interval ends.
+    Returns th_a, th_b, d_a, d_b, U, L, K, Kl, c2a, c2b, M3, m3."""
     qa, da, ca = ends_a
     qb, db, cb = ends_b
     aPj = np.abs(Pj)
@@ -58,10 +60,15 @@ def _interval_bounds(Pj, dj, lv, sl, sa, sb, ends_a, ends_b):
     spread = 0.5 * np.einsum("ci,ic->c", aPj, np.abs(da - db))
     U = 0.5 * (d_a + d_b) + spread + direct_slope
     L = 0.5 * (d_a + d_b) - spread + direct_slope
-    c_mid = 0.5 * np.einsum("ci,ic->c", Pj, ca + cb)
+    c2a = np.einsum("ci,ic->c", Pj, ca)
+    c2b = np.einsum("ci,ic->c", Pj, cb)
     c_spread = 0.5 * np.einsum("ci,ic->c", aPj, np.abs(ca - cb))
+    c_mid = 0.5 * (c2a + c2b)
+    lam = lam[:, None]
+    t3_mid = -0.5 * np.einsum("ci,ic->c", Pj, lam * (ca + cb))
+    t3_spread = 0.5 * np.einsum("ci,ic->c", aPj, lam * np.abs(ca - cb))
     return (th_a, th_b, d_a + direct_slope, d_b + direct_slope, U, L, c_mid + c_spread,
-            c_mid - c_spread)
+            c_mid - c_spread, c2a, c2b, t3_mid + t3_spread, t3_mid - t3_spread)
 
 
 def _line_bound(th_a, th_b, U, L, w, Kl=None):
@@ -85,6 +92,40 @@ def _line_bound(th_a, th_b, U, L, w, Kl=None):
         ub2 = th_a + m * xs + c * xs * (w - xs)
     ub2 = np.where((c > 0) & np.isfinite(ub2), np.maximum(ub2, top), top)
     return np.minimum(ub, ub2)
+
+
+def _cubic_max(A, B, C, D, h):
+    """Largest value of A + B x + C x² + D x³ on [0, h] (arrays): the ends and the real
+    roots of B + 2C x + 3D x² = 0 (clipped into the interval), elementwise."""
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        disc = C * C - 3.0 * D * B
+        sq = np.sqrt(np.maximum(disc, 0.0))
+        # stable roots of 3D x² + 2C x + B: with q = −(C + sign(C)·√disc), q/(3D) and B/q
+        qq = -(C + np.copysign(sq, C))
+        # both roots (and −B/2C, the one root when D = 0), clipped into [0, h]
+        x = np.stack([qq / (3.0 * D), B / qq, -B / (2.0 * C)])
+        x = np.minimum(np.maximum(x, 0.0), h)
+        x[~np.isfinite(x) | (disc < 0)] = 0.0
+        inner = (A + x * (B + x * (C + x * D))).max(axis=0)
+        return np.maximum(np.maximum(A, A + h * (B + h * (C + h * D))), inner)
+
+
+def _taylor_bound(th_a, th_b, d_a, d_b, c2a, c2b, M3, m3, w):
+    """Upper bound of θ on [0, w] from third-order Taylor expansions with the Lagrange
+    remainder, about the left end on [0, w/2] and about the right end on [w/2, w]:
+
+        θ(x) ≤ θ(0) + θ'(0) x + θ''(0) x²/2 + M3 x³/6,
+        θ(w − y) ≤ θ(w) − θ'(w) y + θ''(w) y²/2 − m3 y³/6,   with m3 ≤ θ‴ ≤ M3.
+
+    The exact derivatives at the ends carry the cancellation between modes that sums of
+    per-mode bounds lose (a slow probe's fast modes nearly cancel); only the third
+    derivative is bounded mode by mode, and it enters with x³ (Taylor models, common
+    practice, no source)."""
+    h = 0.5 * w
+    left = _cubic_max(th_a, d_a, 0.5 * c2a, M3 / 6.0, h)
+    right = _cubic_max(th_b, -d_b, 0.5 * c2b, -m3 / 6.0, h)
+    ub = np.maximum(left, right)
+    return np.where(np.isnan(ub), np.inf, ub)
 
 
 def _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol):
@@ -113,10 +154,17 @@ def _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol):
     mid = 0.5 * (d_a + d_b)
     spread = 0.5 * (aP @ np.abs(da - db))
     U, L = mid + spread, mid - spread
-    c_mid = 0.5 * (Pp @ (ca + cb))
+    c2a, c2b = Pp @ ca, Pp @ cb
+    c_mid = 0.5 * (c2a + c2b)
     c_spread = 0.5 * (aP @ np.abs(ca - cb))
-    ub_max = _line_bound(th_a, th_b, U, L, h[None, :], c_mid - c_spread)
-    ub_min = _line_bound(-th_a, -th_b, -L, -U, h[None, :], -(c_mid + c_spread))
+    t3_mid = -0.5 * (Pp @ (lam * (ca + cb)))
+    t3_spread = 0.5 * (aP @ (lam * np.abs(ca - cb)))
+    M3, m3 = t3_mid + t3_spread, t3_mid - t3_spread
+    w = h[None, :]
+    ub_max = np.minimum(_line_bound(th_a, th_b, U, L, w, c_mid - c_spread),
+                        _taylor_bound(th_a, th_b, d_a, d_b, c2a, c2b, M3, m3, w))
+    ub_min = np.minimum(_line_bound(-th_a, -th_b, -L, -U, w, -(c_mid + c_spread)),
+                        _taylor_bound(-th_a, -th_b, -d_a, -d_b, -c2a, -c2b, -m3, -M3, w))
     ub = np.concatenate([ub_max, ub_min])                          # (2p, N)
     live = ub > best[:, None] + tol
     if not live.any():
@@ -128,7 +176,7 @@ def _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol):
 #: Cuts at these fractions of a segment on both sides of a probe's best sample (the
 #: maximum or minimum found by the refinement): graded intervals clear, or prove concave,
 #: in a level or two where halvings from the sample intervals would take ten.
-GRADED_CUTS = 10.0 ** -np.arange(1, 8)
+GRADED_CUTS = 10.0 ** -np.arange(1, 4)
 
 
 def _sample_intervals(t, edges, ck, cj, sg, slot, t_best):
@@ -143,7 +191,7 @@ def _sample_intervals(t, edges, ck, cj, sg, slot, t_best):
         hk = edges[k + 1] - edges[k]
         s = np.minimum(np.maximum(t[lo:hi] - edges[k], 0.0), hk)
         cuts[k] = np.unique(np.concatenate([[0.0], s, [hk]]))
-    out = [[], [], [], [], [], []]
+    cut_list, lens = [], []
     for c, k in enumerate(ck.tolist()):
         s = cuts[k]
         tb = t_best[slot[c]] - edges[k]
@@ -153,14 +201,15 @@ def _sample_intervals(t, edges, ck, cj, sg, slot, t_best):
             extra = np.concatenate([tb - g, tb + g])
             extra = extra[(extra > 0.0) & (extra < hk)]
             s = np.unique(np.concatenate([s, extra]))
-        nint = s.size - 1
-        out[0].append(np.full(nint, k))
-        out[1].append(np.full(nint, cj[c]))
-        out[2].append(np.full(nint, sg[c]))
-        out[3].append(np.full(nint, slot[c]))
-        out[4].append(s[:-1])
-        out[5].append(s[1:])
-    return tuple(np.concatenate(o) for o in out)
+        cut_list.append(s)
+        lens.append(s.size - 1)
+    rep = np.repeat(np.arange(ck.size), lens)
+    allc = np.concatenate(cut_list)
+    ends = np.cumsum([n + 1 for n in lens])
+    left = np.ones(allc.size, dtype=bool)
+    left[ends - 1] = False                 # the last cut of a candidate starts no interval
+    right = np.roll(left, 1)
+    return ck[rep], cj[rep], sg[rep], slot[rep], allc[left], allc[right]
 
 
 def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=None):
@@ -228,10 +277,18 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
             if ends_a is None:
                 ends_a = _derivs(solver, q0s, sa, lv, sl)
                 ends_b = _derivs(solver, q0s, sb, lv, sl)
-            th_a, th_b, d_a, d_b, U, L, K, Kl = _interval_bounds(Pj, dj, lv, sl, sa, sb,
-                                                                 ends_a, ends_b)
-            ub = _line_bound(th_a, th_b, U, L, sb - sa, Kl)
-            live = ub > best[slot] + tol
+                # the ends are exact values too (the graded cuts are not samples)
+                allc = np.arange(ck.size)
+                record(allc, sa, ends_a[0], ck, cj, sg, slot, lv, sl)
+                record(allc, sb, ends_b[0], ck, cj, sg, slot, lv, sl)
+            (th_a, th_b, d_a, d_b, U, L, K, Kl, c2a, c2b, M3,
+             m3) = _interval_bounds(Pj, dj, lv, sl, sa, sb, ends_a, ends_b, solver.lam)
+            w = sb - sa
+            live = _taylor_bound(th_a, th_b, d_a, d_b, c2a, c2b, M3, m3, w) > best[slot] + tol
+            if live.any():      # the slope and curvature lines where the expansion fails
+                lv_ = np.flatnonzero(live)
+                live[lv_] = _line_bound(th_a[lv_], th_b[lv_], U[lv_], L[lv_], w[lv_],
+                                        Kl[lv_]) > best[slot[lv_]] + tol
             if not live.any():
                 return
             concave = live & (K <= 0)
