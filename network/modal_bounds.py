@@ -6,20 +6,31 @@ slope,
 
     Pp_i q'_i(s) = Pp_i [Wb_i/λ_i + (q'_i(0) − Wb_i/λ_i) e^{−λ_i s}]      (Pp_i(q'_i(0) + Wb_i s) at λ = 0),
 
-and of its curvature, Pp_i q''_i(s) = Pp_i q''_i(0) e^{−λ_i s}, is monotone in s, so on an
-interval [s_a, s_b] each term lies between its end values.  Summed over the modes (with
-Σ max(x, y) = (Σx + Σy)/2 + Σ|x − y|/2, one matrix product):
+and of its curvature, Pp_i q''_i(s) = Pp_i q''_i(0) e^{−λ_i s}, and of its third derivative
+(−λ_i times the curvature term), is monotone in s, so on an interval [s_a, s_b] each term
+lies between its end values.  Summed over the modes (with Σ max(x, y) = (Σx + Σy)/2 +
+Σ|x − y|/2, one matrix product):
 
-    L ≤ θ'(s) ≤ U,   θ''(s) ≤ K   on [s_a, s_b].
+    L ≤ θ'(s) ≤ U,   Kl ≤ θ''(s) ≤ K,   m3 ≤ θ'''(s) ≤ M3   on [s_a, s_b].
 
-Hence θ(s) ≤ min(θ(s_a) + U (s − s_a), θ(s_b) − L (s_b − s)) — the two lines meet at the
-interval's upper bound.  An interval whose bound is under the best value found is cleared;
-an interval with K ≤ 0 is concave, so its maximum is an end or, when θ'(s_a) > 0 > θ'(s_b),
-the single root of θ' (found by safeguarded Newton); any other interval is halved.  The
-search starts from whole segments, after the sample-based refinement has found the usual
-maximum, so it normally clears everything at once; it exists for responses with two nearly
-equal local maxima, where the samples alone can point at the wrong one.  Minima are the
-maxima of −θ.
+Three upper bounds of θ on the interval follow, and the smallest is used:
+
+* two lines, θ(s) ≤ min(θ(s_a) + U (s − s_a), θ(s_b) − L (s_b − s));
+* the chord plus a parabola: θ − (Kl/2)(s − s_a)(s − s_b) is convex, so it lies under its
+  chord (a convex stretch, Kl ≥ 0, has its maximum at an end);
+* third-order Taylor expansions with the Lagrange remainder about each end, each over its
+  half of the interval (:func:`_taylor_bound`).  These use the exact θ, θ', θ'' at the
+  ends, so the cancellation between the modal terms of a slow probe (terms of 10⁴ K/s
+  summing to a few K/s) does not enter; only the third derivative is bounded mode by mode,
+  with a factor x³.
+
+An interval whose bound is under the best value found is cleared; an interval with K ≤ 0
+is concave, so its maximum is an end or, when θ'(s_a) > 0 > θ'(s_b), the single root of θ'
+(found by safeguarded Newton); any other interval is halved.  The search starts from whole
+segments, then from the intervals between the samples, cut as well at 10⁻¹-10⁻³ of the
+segment on both sides of each probe's best sample, after the sample-based refinement has
+found the usual maximum; it exists for responses with two nearly equal local maxima, where
+the samples alone can point at the wrong one.  Minima are the maxima of −θ.
 
 This is interval bounding of a sum of monotone terms (common practice, no source); the
 monotone-term form follows from the modal solution (Carslaw and Jaeger, *Conduction of Heat
