@@ -693,6 +693,7 @@ def _add_lines(model: ScenarioModel, lib) -> None:
                             tan_delta=tan_d, thickness=t_cu,
                             frequency=spec.frequency.value,
                             roughness=spec.roughness.value if spec.roughness else 0.0)
+            _strip_not_narrower_than_copper(ms, t_cu, path, spec, lam_index, lam_spec)
             if ms.w * spec.length.value > W_board * L_board:
                 raise ScenarioError(_join(path, "length"), spec.length.text,
                                     f"a line that fits on the board: its strip covers "
@@ -764,6 +765,28 @@ def _line_dielectric(model: ScenarioModel, spec, path: str, lam) -> tuple[float,
                            f"{lam.name!r} (library class values; give the line's "
                            "permittivity/loss_tangent from the laminate's data sheet)")
     return float(eps_r), float(tan_d)
+
+
+def _strip_not_narrower_than_copper(ms, t_cu: float, path: str, spec, lam_index: int,
+                                    lam_spec) -> None:
+    """Refuse a strip narrower than its copper is thick (W < t).
+
+    The microstrip formulas (Hammerstad & Jensen 1980, with their thickness correction) are
+    fits for strips wider than they are thick, and an etched trace is no narrower than its
+    copper (common practice, no source).  A 50-ohm line on a 1 um laminate under 35 um
+    copper (W = 0.5 um) is not a transmission line; it also asked for a 2046-segment network
+    that took minutes (fuzz cases 8310 and 13843)."""
+    if ms.w >= t_cu:
+        return
+    if spec.width is not None:
+        key, text = _join(path, "width"), spec.width.text
+    else:
+        key, text = f"board.layers[{lam_index}].thickness", lam_spec.thickness.text
+    raise ScenarioError(key, text, f"a strip at least as wide as its copper is thick "
+                        f"(W >= t, the range of the microstrip formulas): line {spec.name!r} "
+                        f"gets W = {ms.w * 1e6:.4g} um on a {ms.height * 1e6:.4g} um laminate "
+                        f"under {t_cu * 1e6:.4g} um copper; give a thicker laminate, thinner "
+                        "copper or a wider strip (lower impedance)")
 
 
 def _line_error(exc: ValueError, path: str, spec, heaters) -> ScenarioError:
@@ -987,6 +1010,7 @@ def simulate(scn: Scenario | ScenarioModel) -> RunResult:
     _refuse_single_shot(s)
     extra = [n for group in model.groups.values() for n in group]
     nodes = list(dict.fromkeys(list(model.probes.values()) + extra))
+    _check_periodic_work(model, nodes)
     try:
         with np.errstate(over="ignore", invalid="ignore"):  # refused below, by name
             resp = net.periodic(model.waveforms, probes=nodes, method=model.method)
@@ -1012,6 +1036,36 @@ def simulate(scn: Scenario | ScenarioModel) -> RunResult:
     cautions = model.cautions() + (effects.cautions if effects is not None else [])
     return RunResult(s.name, amb, probes, warm, budget, cautions, resp, model, bprobe,
                      effects=effects)
+
+
+def _check_periodic_work(model: ScenarioModel, nodes: list[str]) -> None:
+    """Refuse, before the solve, a periodic run whose exact extremes search would take
+    minutes: (probe nodes, a line's every copper node among them) x (nodes with heat
+    capacity) x (segments of the common period + ``PERIODIC_WORK_CUTS``) above
+    ``limits.MAX_PERIODIC_WORK`` (measured rates in :mod:`~pulsetherm.network.limits`)."""
+    from .limits import MAX_PERIODIC_WORK, PERIODIC_WORK_CUTS
+    from .model import _aligned_period
+
+    net = model.network
+    try:
+        edges = _aligned_period(net._power_pieces(model.waveforms))[0]
+    except ValueError:
+        return                      # the solve names the problem (as before)
+    n_seg = int(edges.size - 1)
+    n_cap = int(np.count_nonzero(net.system().C > 0))
+    work = len(nodes) * n_cap * (n_seg + PERIODIC_WORK_CUTS)
+    if work <= MAX_PERIODIC_WORK:
+        return
+    lines = sum(len(bl.top_nodes) for bl in model.lines.values())
+    key = "waveforms" if n_seg >= PERIODIC_WORK_CUTS else ("lines" if lines else "probes")
+    raise ScenarioError(key, None,
+                        f"a periodic solve of at most {MAX_PERIODIC_WORK:.0e} probe nodes x "
+                        f"capacities x (segments + {PERIODIC_WORK_CUTS}); here {len(nodes)} "
+                        f"probe nodes ({lines} of them line segments), {n_cap} capacities and "
+                        f"{n_seg} segments in the common period {float(edges[-1]):.4g} s of "
+                        f"the waveforms: {work:.2g}; give periods with a shorter common period "
+                        "(one a small multiple of the others), fewer line segments or a "
+                        "smaller network")
 
 
 def _warmup(model: ScenarioModel, resp, probe: str | None) -> float:
