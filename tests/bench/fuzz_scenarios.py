@@ -1,6 +1,8 @@
 """Seeded mutation fuzzing of the shipped examples through the command line.
 
     python -P tests/bench/fuzz_scenarios.py --n 100000 [--seed 0] [--timeout 20] [--verb run]
+    python -P tests/bench/fuzz_scenarios.py --n 50000 --start 50000 --json B.json   # a shard
+    python -P tests/bench/fuzz_scenarios.py --combine A.json B.json                  # add shards
 
 Each case takes one example, applies one to three mutations (a quantity replaced by a hostile
 text, a number scaled by 10^k, a value replaced by another type, a key removed or added, an
@@ -11,11 +13,17 @@ array of tables repeated, bytes of the TOML text flipped, deleted or inserted) a
 * status 2 with more or less than one line on stderr, or a traceback;
 * status 0 with anything on stderr, or a warning raised (RuntimeWarning ...);
 * status 0 without the ``--csv`` file, or status 2 leaving any file behind;
-* no answer within ``--timeout`` seconds (a hang; SIGALRM).
+* no answer within ``--timeout`` seconds of CPU time (20 s: a hang; SIGPROF from an
+  ``ITIMER_PROF`` timer, so that other work on a shared machine does not turn a slow case
+  into a hang), or within ``--wall-timeout`` seconds of wall-clock time (120 s: a wait that
+  uses no CPU, such as a blocking read; SIGALRM).
 
 Refusals slower than 2 s are counted apart ("slow").  The summary prints the cases, the
 exit statuses, the defects by kind with one example each (seed and case number reproduce
-it: ``--only CASE``), and the load average.
+it: ``--only CASE``), and the load average.  ``--json FILE`` also writes the summary's
+counts (statuses, defects with their cases, per-case times) so that shards run in parallel
+with ``--start`` are added by ``--combine FILE ...`` (the combined wall time is the longest
+shard's).
 """
 from __future__ import annotations
 
@@ -23,6 +31,7 @@ import argparse
 import collections
 import contextlib
 import io
+import json
 import os
 import random
 import re
@@ -170,8 +179,14 @@ def _alarm(signum, frame):
     raise _Hang()
 
 
-def run_case(text: str, folder: Path, timeout: float, verb: str) -> dict:
-    """Run one mutated scenario; the outcome as a dict (status, stderr, files, time)."""
+WALL_TIMEOUT = 120.0
+
+
+def run_case(text: str, folder: Path, timeout: float, verb: str,
+             wall_timeout: float = WALL_TIMEOUT) -> dict:
+    """Run one mutated scenario; the outcome as a dict (status, stderr, files, time).
+
+    ``timeout`` is CPU time (ITIMER_PROF), ``wall_timeout`` wall-clock time (ITIMER_REAL)."""
     from pulsetherm.tui.cli import main
 
     for p in folder.iterdir():
@@ -189,8 +204,11 @@ def run_case(text: str, folder: Path, timeout: float, verb: str) -> dict:
     args = [verb, str(scn)] + (["--csv", str(out)] if verb in ("run", "zth") else [])
     o, e = io.StringIO(), io.StringIO()
     t0 = time.perf_counter()
+    c0 = time.process_time()
     signal.signal(signal.SIGALRM, _alarm)
-    signal.setitimer(signal.ITIMER_REAL, timeout)
+    signal.signal(signal.SIGPROF, _alarm)
+    signal.setitimer(signal.ITIMER_PROF, timeout)
+    signal.setitimer(signal.ITIMER_REAL, max(wall_timeout, timeout))
     caught: list = []
     try:
         with warnings.catch_warnings(record=True) as caught, \
@@ -204,10 +222,13 @@ def run_case(text: str, folder: Path, timeout: float, verb: str) -> dict:
     except BaseException as exc:              # noqa: BLE001 - everything is a finding
         status = f"raised {type(exc).__name__}"
     finally:
+        signal.setitimer(signal.ITIMER_PROF, 0)
         signal.setitimer(signal.ITIMER_REAL, 0)
     dt = time.perf_counter() - t0
+    cpu = time.process_time() - c0
     after = {p.name for p in folder.iterdir()} - before - {"case.toml"}
     return {"status": status, "stderr": e.getvalue(), "files": sorted(after), "time": dt,
+            "cpu": cpu,
             "warnings": [f"{w.category.__name__}: {w.message}" for w in caught]}
 
 
@@ -235,32 +256,85 @@ def defects_of(r: dict) -> list[str]:
     return out
 
 
+def _print_summary(sm: dict) -> int:
+    """Print a summary (from one run or several shards added); 1 when there are defects."""
+    n = sm["n"]
+    times = sorted(sm["times"])
+    total = sum(len(v) for v in sm["defects"].values())
+    shards = sm.get("shards", 1)
+    print(f"fuzz_scenarios: seed {sm['seed']}, cases {sm['ranges']} ({n} of {sm['asked']} "
+          f"asked{f', {shards} shards' if shards > 1 else ''}), verb {sm['verb']}, "
+          f"{sm['elapsed']:.0f} s, load {sm['load']:.2f}")
+    print("  exit statuses: " + ", ".join(f"{k}: {v}" for k, v in
+                                           sorted(sm["statuses"].items(), key=str)))
+    if times:
+        print(f"  time per case: median {times[n // 2]:.3f} s, max {times[-1]:.2f} s "
+              f"(CPU max {sm['cpu_max']:.2f} s); refusals over 2 s: {len(sm['slow'])}")
+    print(f"  defects: {total} in {len(sm['defects'])} kinds")
+    for kind, items in sorted(sm["defects"].items()):
+        case, name, err = items[0]
+        print(f"    {kind}: {len(items)} (e.g. case {case}, {name}: {err!r})")
+        print(f"      cases: {' '.join(str(c) for c, _, _ in items[:40])}")
+    return 1 if total else 0
+
+
+def _combine(paths: list[str]) -> dict:
+    """Add the JSON summaries of several shards (same seed and verb)."""
+    parts = [json.loads(Path(p).read_text(encoding="utf-8")) for p in paths]
+    if len({(p["seed"], p["verb"]) for p in parts}) != 1:
+        raise SystemExit("--combine: the shards differ in seed or verb")
+    sm = {"seed": parts[0]["seed"], "verb": parts[0]["verb"], "shards": len(parts),
+          "ranges": ", ".join(p["ranges"] for p in parts),
+          "n": sum(p["n"] for p in parts), "asked": sum(p["asked"] for p in parts),
+          "elapsed": max(p["elapsed"] for p in parts), "load": max(p["load"] for p in parts),
+          "times": [t for p in parts for t in p["times"]],
+          "cpu_max": max(p["cpu_max"] for p in parts),
+          "slow": [x for p in parts for x in p["slow"]],
+          "statuses": dict(collections.Counter()), "defects": {}}
+    st: collections.Counter = collections.Counter()
+    for p in parts:
+        st.update(p["statuses"])
+        for kind, items in p["defects"].items():
+            sm["defects"].setdefault(kind, []).extend(items)
+    sm["statuses"] = dict(st)
+    return sm
+
+
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--n", type=int, default=1000)
     ap.add_argument("--seed", type=int, default=0)
     ap.add_argument("--start", type=int, default=0, help="first case number")
-    ap.add_argument("--timeout", type=float, default=20.0, help="seconds before a hang")
+    ap.add_argument("--timeout", type=float, default=20.0,
+                    help="CPU seconds before a hang")
+    ap.add_argument("--wall-timeout", type=float, default=WALL_TIMEOUT,
+                    help="wall-clock seconds before a hang")
     ap.add_argument("--verb", default="run", choices=("run", "check", "zth"))
     ap.add_argument("--only", type=int, default=None, help="run one case and show it")
     ap.add_argument("--max-seconds", type=float, default=None,
                     help="stop after this long and report the cases run (the count is "
                          "printed; nothing is extrapolated)")
+    ap.add_argument("--json", default=None, help="also write the summary to this file")
+    ap.add_argument("--combine", nargs="+", default=None,
+                    help="print the summary of shards written with --json, added")
     a = ap.parse_args(argv)
+    if a.combine:
+        return _print_summary(_combine(a.combine))
     folder = Path(tempfile.mkdtemp(prefix="pulsetherm-fuzz-"))
     cases = [a.only] if a.only is not None else range(a.start, a.start + a.n)
     statuses: collections.Counter = collections.Counter()
     defects: dict[str, list] = collections.defaultdict(list)
-    slow, times = [], []
+    slow, times, cpu_max = [], [], 0.0
     t_all = time.perf_counter()
     try:
         for k, case in enumerate(cases):
             if a.max_seconds is not None and time.perf_counter() - t_all > a.max_seconds:
                 break
             name, text = make_case(case, a.seed)
-            r = run_case(text, folder, a.timeout, a.verb)
-            statuses[r["status"]] += 1
+            r = run_case(text, folder, a.timeout, a.verb, a.wall_timeout)
+            statuses[str(r["status"])] += 1
             times.append(r["time"])
+            cpu_max = max(cpu_max, r["cpu"])
             for d in defects_of(r):
                 defects[d].append((case, name, r["stderr"].strip()[:300]))
             if r["status"] == 2 and r["time"] > 2.0:
@@ -274,22 +348,15 @@ def main(argv=None) -> int:
     finally:
         shutil.rmtree(folder, ignore_errors=True)
     n = len(times)
-    total = sum(len(v) for v in defects.values())
-    print(f"fuzz_scenarios: seed {a.seed}, cases {a.start}..{a.start + n - 1} ({n} of "
-          f"{len(cases)} asked), verb "
-          f"{a.verb}, {time.perf_counter() - t_all:.0f} s, load {os.getloadavg()[0]:.2f}")
-    print("  exit statuses: " + ", ".join(f"{k}: {v}" for k, v in
-                                           sorted(statuses.items(), key=str)))
-    if times:
-        times.sort()
-        print(f"  time per case: median {times[n // 2]:.3f} s, max {times[-1]:.2f} s; "
-              f"refusals over 2 s: {len(slow)}")
-    print(f"  defects: {total} in {len(defects)} kinds")
-    for kind, items in sorted(defects.items()):
-        case, name, err = items[0]
-        print(f"    {kind}: {len(items)} (e.g. case {case}, {name}: {err!r})")
-        print(f"      cases: {' '.join(str(c) for c, _, _ in items[:40])}")
-    return 1 if total else 0
+    first = a.only if a.only is not None else a.start
+    sm = {"seed": a.seed, "verb": a.verb, "n": n, "asked": len(cases),
+          "ranges": f"{first}..{first + n - 1}" if a.only is None else str(a.only),
+          "elapsed": time.perf_counter() - t_all, "load": os.getloadavg()[0],
+          "times": times, "cpu_max": cpu_max, "slow": slow,
+          "statuses": dict(statuses), "defects": dict(defects)}
+    if a.json:
+        Path(a.json).write_text(json.dumps(sm), encoding="utf-8")
+    return _print_summary(sm)
 
 
 if __name__ == "__main__":
