@@ -9,7 +9,7 @@ Discretisation (finite volumes, vertex-centred in z as the ladder):
 
 * rows of nodes on the sub-layer faces (graded from the source as in the ladder, one
   fidelity step finer), rings between radial grid lines r_0 = 0 < r_1 < ... that contain
-  the source edge a and every layer radius, graded geometrically away from r = a;
+  the source edge a and every layer radius, graded geometrically away from each of them;
 * node (row, ring) holds ρc·π(r_{i+1}² − r_i²)·Δz/2 from each adjacent sub-layer;
 * axial conductance k_z·π(r_{i+1}² − r_i²)/Δz per ring and sub-layer; radial conductance
   between ring centres ρ_i, ρ_{i+1} across the face r_{i+1} for each adjacent half
@@ -44,29 +44,32 @@ __all__ = ["AxisymModel", "build_axisym", "radial_grid", "compare", "Comparison"
 def radial_grid(a: float, radii: Sequence[float], h0: float, growth: float) -> np.ndarray:
     """Radial grid lines from 0 to max(radii), containing a and every radius.
 
-    Lines move away from the source edge a geometrically on both sides (first step h0,
-    ratio ``growth``); a generated line closer to its predecessor than half the previous
-    step is dropped (or gives way to a required radius).
+    Lines move away from the source edge a, and from every layer edge inside the grid,
+    geometrically on both sides: the step at radius r is h0 + (growth − 1)·d, d the
+    distance to the nearest edge (the local step of a geometric sequence of first step h0
+    and ratio ``growth`` from that edge); a step that would end within half a step of a
+    required radius ends on it.  The flux crowds at the rim of a conductive layer on a
+    poorer one below it (a flange on a laminate) as it does at the source edge: grading
+    from the source edge alone left the flange's rim coarse, and the mesh ran up to 9 %
+    warm on flanges over boards against a grid ten times finer.
     """
+    if not (h0 > 0 and growth > 1.0):
+        raise StackupError(f"h0 = {h0!r}, growth = {growth!r}: expected a first step > 0 m "
+                           "and a growth ratio > 1")
     rmax = max(radii)
-    req = {0.0, a, *radii}
-    pts = set(req)
-    for sign in (-1.0, 1.0):
-        step, d = h0, h0
-        while 0.0 < a + sign * d < rmax:
-            pts.add(a + sign * d)
-            step *= growth
-            d += step
-    keep: list[float] = []
-    for p in sorted(pts):
-        if len(keep) >= 2 and p - keep[-1] < 0.5 * (keep[-1] - keep[-2]):
-            if keep[-1] not in req:
-                keep[-1] = p
-                continue
-            if p not in req:
-                continue
-        keep.append(p)
-    return np.array(keep)
+    req = sorted({0.0, a, *radii})
+    edges = np.array([x for x in req if 0.0 < x < rmax] or [a])
+    out = [0.0]
+    for target in req[1:]:
+        while True:
+            r0 = out[-1]
+            # the step of a geometric sequence at distance d from the nearest edge
+            step = h0 + (growth - 1.0) * float(np.min(np.abs(edges - r0)))
+            if r0 + 1.5 * step >= target:
+                out.append(target)
+                break
+            out.append(r0 + step)
+    return np.array(out)
 
 
 @dataclass(eq=False)
@@ -143,7 +146,7 @@ def _radius(size) -> float:
 
 def build_axisym(assembly: Assembly, part: str | None = None, *,
                  t_min: float = DEFAULT_T_MIN, fidelity: str | float | Grading = "normal",
-                 radial_cells: int = 12, radial_growth: float = 1.25,
+                 radial_cells: int = 24, radial_growth: float = 1.25,
                  library=None) -> AxisymModel:
     """Build the axisymmetric r-z network of one part's stack (accuracy mode).
 
@@ -158,7 +161,11 @@ def build_axisym(assembly: Assembly, part: str | None = None, *,
         Axial grading as in :func:`~pulsetherm.network.builder.build`, one step finer
         (the refinement number is doubled).
     radial_cells
-        Number of cells across the source edge scale: first radial step a/radial_cells.
+        First radial step (at the source edge and at every layer edge):
+        min(a, stack depth)/radial_cells.  The default 24 keeps the steady value within
+        1.2 % of a grid 10 times finer on random die / base / board stacks and within 3 % on
+        a flange heated over its whole top on a board (12, the default before: 1.3 % and
+        5 %; grading from the source edge alone at a/12: up to 9 % warm).
     radial_growth
         Ratio of successive radial steps away from the source edge.
     """
@@ -197,7 +204,11 @@ def build_axisym(assembly: Assembly, part: str | None = None, *,
             nb = [rad[i] for i in (j - 1, j + 1) if 0 <= i < len(segs)]
             rad[j] = min(nb)
     rad = [max(x, a) for x in rad]
-    r = radial_grid(a, rad, a / radial_cells, radial_growth)
+    # first step: the source radius or the stack's thickness, whichever is smaller, over
+    # radial_cells (a flange heated over its whole top has its rim at a)
+    depth_total = sum(s.thickness for s in segs)
+    scale = min(a, depth_total) if depth_total > 0 else a
+    r = radial_grid(a, rad, scale / radial_cells, radial_growth)
     area = math.pi * np.diff(r ** 2)                       # ring areas
     rho = 0.5 * (r[:-1] + r[1:])
     rho[0] = 0.5 * r[1]

@@ -10,8 +10,8 @@ import pytest
 from pulsetherm.network.axisym import build_axisym, compare, radial_grid
 from pulsetherm.network.builder import build
 from pulsetherm.network.materials import Material
-from pulsetherm.network.stackup import (Assembly, Film, FixedBase, Layer, LumpedSink, Mount,
-                                        Part, StackupError)
+from pulsetherm.network.stackup import (Assembly, Board, Film, FixedBase, Layer, LumpedSink,
+                                        Mount, Part, StackupError)
 
 CU = Material(name="cu-390", k=390.0, rho=8933.0, c=385.0)   # physics brief §3
 K150 = Material(name="k150", k=150.0, rho=3210.0, c=690.0)
@@ -81,6 +81,37 @@ def test_radial_grid_contains_required_radii():
     for x in (0.0, 1e-3, 2e-3, 5e-3):
         assert np.any(np.isclose(r, x, rtol=0, atol=1e-15))
     assert np.all(np.diff(r) > 0)
+
+
+def test_radial_grid_is_graded_at_every_edge():
+    """The steps either side of the source edge and of every inner layer edge are at most
+    2·h0 (geometric grading from each edge, then a last step onto the edge): a conductive
+    flange crowds the flux at its rim as the source does at its edge (common practice, no
+    source).  Graded from the source edge alone, the steps at the 4 mm rim were 0.3 and
+    0.4 mm."""
+    h0 = 1e-4
+    r = radial_grid(1e-3, [4e-3, 20e-3], h0, 1.25)
+    for edge in (1e-3, 4e-3):
+        i = int(np.argmin(np.abs(r - edge)))
+        assert r[i] == edge
+        assert r[i] - r[i - 1] <= 2 * h0 and r[i + 1] - r[i] <= 2 * h0
+    assert np.all(np.diff(r) > 0) and r[-1] == 20e-3
+
+
+def test_default_grid_converged_on_a_flange_over_a_board():
+    """Grid convergence (common practice, no source): a 3 mm copper flange heated over its
+    whole top on a 36 mm board (35 µm copper / 1.16 mm laminate / 35 µm copper), default
+    grid against one 4 times finer with growth 1.03: within 3 % (measured +2.6 %; the grid
+    graded from the source edge alone at a/12 read +4.7 %, 9 % on random stacks)."""
+    side = 13.7e-3
+    board = Board([Layer("pcb-copper", 35e-6, name="top"),
+                   Layer("hydrocarbon-ceramic", 1.16e-3, name="lam"),
+                   Layer("pcb-copper", 35e-6, name="gnd")], size=36e-3)
+    asm = Assembly([Part("f", (side, side), [Layer("copper", 3e-3, size=side)])], board,
+                   Mount(sink=FixedBase(25.0)))
+    fine = build_axisym(asm, t_min=1e-4, radial_cells=96, radial_growth=1.03)
+    default = build_axisym(asm, t_min=1e-4)
+    assert default.steady_resistance() == pytest.approx(fine.steady_resistance(), rel=0.03)
 
 
 def test_datasheet_part_refused():

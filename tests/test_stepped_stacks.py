@@ -8,7 +8,7 @@ Issue 9: a die of radius 3 mm on a 6 mm base ran 10.5-11 % below the mesh from 3
 dead end, filling as if the base below did not drain it.  It now hangs in the share
 G_lat/(G_lat + G_down) (builder._rim_share).  Measured over die / attach / base stacks of
 base-to-die radius ratio 1-4 (SiC or silicon die, CuW or copper base 1-3 mm, heated
-area the whole die or half its radius): −1.3 % to +4.9 % from 10 µs to 10 s; a heated area
+area the whole die or half its radius): −1.1 % to +4.3 % from 10 µs to 10 s; a heated area
 of half the die's radius on a single-size column 3 mm thick reads up to +7.4 % (the ladder
 warmer, its plate's rim left out), outside this family.
 """
