@@ -221,6 +221,12 @@ def _normalise(text: str) -> str:
 #: Word-like symbols whose plural ('mils', 'inches') is a slip, not a product of units.
 _NO_PLURAL = frozenset({"mil", "thou", "inch", "min", "deg", "rad", "oz", "ft"})
 
+#: Usual words and symbols that are not unit symbols here -> the symbols meant (a 'C' is a
+#: temperature in degC or, in a compound such as 'C/W', a kelvin-sized difference).
+_SLIPS = {"c": ["degC", "K"], "celsius": ["degC"], "kelvin": ["K"], "ounce": ["oz"],
+          "ounces": ["oz"], "watt": ["W"], "watts": ["W"], "micron": ["um"],
+          "microns": ["um"], "sec": ["s"], "secs": ["s"]}
+
 #: Longest quantity text read (characters), and the largest power of a unit symbol: the
 #: parser is linear, and these bounds keep hostile text (a 2000-digit number, ``kW^200``)
 #: from costing time or overflowing.
@@ -247,7 +253,10 @@ def _lookup(sym: str) -> list[tuple[float, _Dim, str]]:
     if len(splits) > 1:
         opts = " or ".join(f"{a}·{b}" for a, b in splits)
         raise _Bad(f"unit '{sym}' is ambiguous ({opts}); separate the symbols with '·'")
-    close = difflib.get_close_matches(sym, list(UNITS), n=2, cutoff=0.6)
+    # a slip of case ('w', 'uS': a microsiemens), a usual word, else the nearest spellings
+    close = [u for u in UNITS if u.lower() == sym.lower()] or _SLIPS.get(sym.lower(), [])
+    if not close:
+        close = difflib.get_close_matches(sym, list(UNITS), n=2, cutoff=0.6)
     hint = f"; did you mean {' or '.join(repr(c) for c in close)}?" if close else ""
     raise _Bad(f"unknown unit '{sym}'{hint}")
 
@@ -495,7 +504,8 @@ def _absolute(kelvin: float, field: str, text: object, spec: Kind) -> float:
 def _describe(dim: _Dim) -> str:
     for kname, k in KINDS.items():
         if k.dim == dim:
-            return f"a {kname.replace('_', ' ')} unit"
+            name = kname.replace("_", " ")
+            return f"{'an' if name[0] in 'aeiou' else 'a'} {name} unit"
     names = ("m", "kg", "s", "K", "rad", "Np")
     parts = [f"{n}^{e}" if e != 1 else n for n, e in zip(names, dim) if e]
     return "of dimension " + ("·".join(parts) if parts else "1 (dimensionless)")

@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import math
+import re
 
 import numpy as np
 import pint
@@ -264,3 +265,16 @@ def test_parse_range(text, kind, expect):
 def test_parse_range_errors(text, match):
     with pytest.raises(UnitError, match=match):
         parse_range(text, "length", field="sweep.thickness")
+
+
+@pytest.mark.parametrize("text,hint", [
+    ("50 w", "did you mean 'W'?"),            # a slip of case
+    ("100 uS", "did you mean 'us'?"),         # uS would be a microsiemens
+    ("30 C", "did you mean 'degC' or 'K'?"),
+    ("1.5 C/W", "did you mean 'degC' or 'K'?"),
+    ("1 ounce", "did you mean 'oz'?"),
+])
+def test_unknown_unit_hints_for_usual_slips(text, hint):
+    """Usual slips get the symbol meant (common practice, no source)."""
+    with pytest.raises(UnitError, match=re.escape(hint)):
+        parse_quantity(text)
