@@ -165,19 +165,31 @@ def _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol):
     mid = 0.5 * (d_a + d_b)
     spread = 0.5 * (aP @ np.abs(da - db))
     U, L = mid + spread, mid - spread
+    w = np.broadcast_to(h[None, :], th_a.shape)
+    live = np.concatenate([_line_bound(th_a, th_b, U, L, w),
+                           _line_bound(-th_a, -th_b, -L, -U, w)]) > best[:, None] + tol
+    if not live.any():
+        return None
+    # where the two lines leave a segment open: the chord plus parabola, then the Taylor
+    # bounds (their products only for the open segments)
     c2a, c2b = Pp @ ca, Pp @ cb
-    c_mid = 0.5 * (c2a + c2b)
     c_spread = 0.5 * (aP @ np.abs(ca - cb))
     t3_mid = -0.5 * (Pp @ (lam * (ca + cb)))
     t3_spread = 0.5 * (aP @ (lam * np.abs(ca - cb)))
     M3, m3 = t3_mid + t3_spread, t3_mid - t3_spread
-    w = h[None, :]
-    ub_max = np.minimum(_line_bound(th_a, th_b, U, L, w, c_mid - c_spread),
-                        _taylor_bound(th_a, th_b, d_a, d_b, c2a, c2b, M3, m3, w))
-    ub_min = np.minimum(_line_bound(-th_a, -th_b, -L, -U, w, -(c_mid + c_spread)),
-                        _taylor_bound(-th_a, -th_b, -d_a, -d_b, -c2a, -c2b, -m3, -M3, w))
-    ub = np.concatenate([ub_max, ub_min])                          # (2p, N)
-    live = ub > best[:, None] + tol
+    p = th_a.shape[0]
+    for lo, sg in ((0, 1.0), (p, -1.0)):
+        jj, kk = np.nonzero(live[lo:lo + p])
+        if jj.size == 0:
+            continue
+        ta, tb, da_, db_ = (sg * x[jj, kk] for x in (th_a, th_b, d_a, d_b))
+        ca_, cb_ = sg * c2a[jj, kk], sg * c2b[jj, kk]
+        Ul, Ll = (U[jj, kk], L[jj, kk]) if sg > 0 else (-L[jj, kk], -U[jj, kk])
+        hi3, lo3 = (M3[jj, kk], m3[jj, kk]) if sg > 0 else (-m3[jj, kk], -M3[jj, kk])
+        kl = 0.5 * (ca_ + cb_) - c_spread[jj, kk]
+        ub = np.minimum(_line_bound(ta, tb, Ul, Ll, w[jj, kk], kl),
+                        _taylor_bound(ta, tb, da_, db_, ca_, cb_, hi3, lo3, w[jj, kk]))
+        live[lo + jj, kk] = ub > best[lo + jj] + tol
     if not live.any():
         return None
     slot, ck = np.nonzero(live)
@@ -193,7 +205,8 @@ GRADED_CUTS = 10.0 ** -np.arange(1, 4)
 def _sample_intervals(t, edges, ck, cj, sg, slot, t_best):
     """Split each candidate segment k at the sample times inside it, and at graded offsets
     around its probe's best sample ``t_best[slot]`` when that lies in the segment: the
-    intervals (offsets from the segment start) with their candidate labels repeated."""
+    intervals (offsets from the segment start) with their candidate labels repeated, and
+    whether each interval starts at a graded cut (a point that is not a sample)."""
     segs = np.unique(ck)
     cuts = {}
     for k in segs.tolist():
@@ -202,9 +215,10 @@ def _sample_intervals(t, edges, ck, cj, sg, slot, t_best):
         hk = edges[k + 1] - edges[k]
         s = np.minimum(np.maximum(t[lo:hi] - edges[k], 0.0), hk)
         cuts[k] = np.unique(np.concatenate([[0.0], s, [hk]]))
-    cut_list, lens = [], []
+    cut_list, new_list, lens = [], [], []
     for c, k in enumerate(ck.tolist()):
         s = cuts[k]
+        new = np.zeros(s.size, dtype=bool)
         tb = t_best[slot[c]] - edges[k]
         hk = edges[k + 1] - edges[k]
         if 0.0 <= tb <= hk:
@@ -212,7 +226,9 @@ def _sample_intervals(t, edges, ck, cj, sg, slot, t_best):
             extra = np.concatenate([tb - g, tb + g])
             extra = extra[(extra > 0.0) & (extra < hk)]
             s = np.unique(np.concatenate([s, extra]))
+            new = ~np.isin(s, cuts[k])
         cut_list.append(s)
+        new_list.append(new)
         lens.append(s.size - 1)
     rep = np.repeat(np.arange(ck.size), lens)
     allc = np.concatenate(cut_list)
@@ -220,7 +236,8 @@ def _sample_intervals(t, edges, ck, cj, sg, slot, t_best):
     left = np.ones(allc.size, dtype=bool)
     left[ends - 1] = False                 # the last cut of a candidate starts no interval
     right = np.roll(left, 1)
-    return ck[rep], cj[rep], sg[rep], slot[rep], allc[left], allc[right]
+    new_left = np.concatenate(new_list)[left]
+    return ck[rep], cj[rep], sg[rep], slot[rep], allc[left], allc[right], new_left
 
 
 def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=None):
@@ -249,7 +266,8 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
     cj = slot % p
     sg = np.where(slot < p, 1.0, -1.0)
     t_best = t[np.concatenate([v.argmax(axis=0), v.argmin(axis=0)])]
-    ck, cj, sg, slot, sa, sb = _sample_intervals(t, edges, ck, cj, sg, slot, t_best)
+    ck, cj, sg, slot, sa, sb, graded = _sample_intervals(t, edges, ck, cj, sg, slot,
+                                                         t_best)
     new_t, new_v = [], []
 
     def record(sel, s, q, ck, cj, sg, slot, lv, sl):
@@ -269,16 +287,18 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
     def take(ends, sel):
         return tuple(e[:, sel] for e in ends)
 
-    def search(ck, cj, sg, slot, sa, sb, ends_a, ends_b, depth):
+    def search(ck, cj, sg, slot, sa, sb, ends_a, ends_b, depth, graded=None):
         """Branch and bound; ``ends_a``/``ends_b`` are the states (q, q', q'') at the
-        interval ends (None: computed), so a halving evaluates only its midpoints."""
+        interval ends (None: computed), so a halving evaluates only its midpoints;
+        ``graded`` marks the intervals that start at a graded cut (first level only)."""
         while depth > 0 and ck.size:
             if ck.size > chunk:
                 for i in range(0, ck.size, chunk):
                     part = np.arange(i, min(i + chunk, ck.size))
                     search(ck[part], cj[part], sg[part], slot[part], sa[part], sb[part],
                            None if ends_a is None else take(ends_a, part),
-                           None if ends_b is None else take(ends_b, part), depth)
+                           None if ends_b is None else take(ends_b, part), depth,
+                           None if graded is None else graded[part])
                 return
             depth -= 1
             Pj = Pp[cj] * sg[:, None]
@@ -288,10 +308,10 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
             if ends_a is None:
                 ends_a = _derivs(solver, q0s, sa, lv, sl)
                 ends_b = _derivs(solver, q0s, sb, lv, sl)
-                # the ends are exact values too (the graded cuts are not samples)
-                allc = np.arange(ck.size)
-                record(allc, sa, ends_a[0], ck, cj, sg, slot, lv, sl)
-                record(allc, sb, ends_b[0], ck, cj, sg, slot, lv, sl)
+                # the graded cuts are exact values too (every other end is a sample)
+                if graded is not None and graded.any():
+                    g = np.flatnonzero(graded)
+                    record(g, sa[g], ends_a[0][:, g], ck, cj, sg, slot, lv, sl)
             (th_a, th_b, d_a, d_b, U, L, K, Kl, c2a, c2b, M3,
              m3) = _interval_bounds(Pj, dj, lv, sl, sa, sb, ends_a, ends_b, solver.lam)
             w = sb - sa
@@ -330,7 +350,7 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
             ends_a = tuple(np.concatenate([x, m], axis=1) for x, m in zip(ea, ends_m))
             ends_b = tuple(np.concatenate([m, y], axis=1) for m, y in zip(ends_m, eb))
 
-    search(ck, cj, sg, slot, sa, sb, None, None, MAX_DEPTH)
+    search(ck, cj, sg, slot, sa, sb, None, None, MAX_DEPTH, graded)
     if not new_t:
         return t, v
     from .solvers import merge_samples
