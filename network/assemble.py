@@ -258,6 +258,8 @@ def static_field(system: ThermalSystem, power: np.ndarray | None = None,
             ok[[system.index(v) for v in g]] = False
     T0 = float(system.T_boundary[0]) if system.nb else KELVIN_OFFSET
     cache = _cached(system)
+    if power is None and "static0" in cache:       # the zero-power field, solved once
+        return cache["static0"].copy()
     if "static_maps" not in cache:
         # small networks: dense copies of Gb and B (sparse products cost more here)
         small = n <= SMALL_N
@@ -273,20 +275,30 @@ def static_field(system: ThermalSystem, power: np.ndarray | None = None,
         if "static_lu" not in cache:
             Gs = system.G if idx.size == n else system.G.tocsr()[idx][:, idx]
             if idx.size <= SMALL_N:
-                # dense LU (LAPACK getrf/getrs, partial pivoting)
-                lu, piv, info = sla.lapack.dgetrf(Gs.toarray())
-                if info != 0:
-                    raise NetworkError("the conductance matrix is singular (a part with "
-                                       "no path to a boundary)")
+                # dense Cholesky (LAPACK potrf/potrs: G of a grounded network is symmetric
+                # positive definite), else LU with partial pivoting (getrf/getrs)
+                Gd = Gs.toarray()
+                c, info = sla.lapack.dpotrf(Gd, lower=1, clean=0)
+                if info == 0:
+                    def solve(b, c=c):
+                        x, inf = sla.lapack.dpotrs(c, b, lower=1)
+                        return x
+                else:
+                    lu, piv, info = sla.lapack.dgetrf(Gd)
+                    if info != 0:
+                        raise NetworkError("the conductance matrix is singular (a part with "
+                                           "no path to a boundary)")
 
-                def solve(b, lu=lu, piv=piv):
-                    x, inf = sla.lapack.dgetrs(lu, piv, b)
-                    return x
+                    def solve(b, lu=lu, piv=piv):
+                        x, inf = sla.lapack.dgetrs(lu, piv, b)
+                        return x
                 cache["static_lu"] = solve
             else:
                 import scipy.sparse.linalg as spla   # large networks only (~10 ms import)
                 cache["static_lu"] = spla.splu(Gs.tocsc()).solve
         out[idx] = T0 + cache["static_lu"](rhs[idx])
+    if power is None:
+        cache["static0"] = out.copy()
     return out
 
 

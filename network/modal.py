@@ -250,8 +250,9 @@ def _eigh(A: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     default driver (dsyevr).  The divide-and-conquer driver dsyevd is 10-30 % faster here
     but resolves the slowest modes of a stiff network less well: a 3-period transient of a
     12-node network with time constants over 6.6e7 balanced its energy to 1.7e-9 with it
-    against 1.2e-12 with dsyevr (test_engine_random, n=12, seed=6435631)."""
-    return sla.eigh(A, check_finite=False)
+    against 1.2e-12 with dsyevr (test_engine_random, n=12, seed=6435631).  A is
+    overwritten."""
+    return sla.eigh(A, check_finite=False, overwrite_a=True)
 
 
 class ModalSolver:
@@ -297,8 +298,9 @@ class ModalSolver:
         cond = condense(system)
         self.cond = cond
         s = 1.0 / np.sqrt(cond.C)
-        A = s[:, None] * cond.G * s[None, :]
-        lam, U = _eigh(A)
+        A = cond.G * s[None, :]
+        A *= s[:, None]
+        lam, U = _eigh(A)                       # A is scratch from here on
         lam = np.maximum(lam, 0.0)
         n_float = len(floating_nodes(system))
         if n_float:
@@ -307,12 +309,14 @@ class ModalSolver:
         self.V = s[:, None] * U
         self.W = self.V.T @ cond.B
         n, nc = system.n, cond.nc
-        Phi = np.empty((n, nc))
-        Phi[cond.cap] = self.V
         Dp = np.zeros((n, system.m))
         if cond.mass.size:
+            Phi = np.empty((n, nc))
+            Phi[cond.cap] = self.V
             Phi[cond.mass] = -cond.K @ self.V
             Dp[cond.mass] = cond.Mp
+        else:                                   # every node has mass: cap is 0 .. n−1
+            Phi = self.V
         self.Phi = Phi
         self.Dp = Dp
         # Zero-power static field; floating parts referred to 0 K (their q is absolute).
