@@ -64,17 +64,18 @@ def assemble(graph, inputs: dict) -> ThermalSystem:
     NetworkError
         No free node; a massless group with no link to a capacitive node or a boundary.
     """
-    free = [v for v, d in graph.nodes(data=True) if not d["boundary"]]
-    bnds = [v for v, d in graph.nodes(data=True) if d["boundary"]]
+    nodes = graph.nodes                       # one view (a property makes a new one)
+    free = [v for v, d in nodes(data=True) if not d["boundary"]]
+    bnds = [v for v, d in nodes(data=True) if d["boundary"]]
     if not free:
         raise NetworkError("the network has no free (non-boundary) node: add_node(...) first")
     n, nb = len(free), len(bnds)
     index = {v: i for i, v in enumerate(free)}
     index.update({v: n + b for b, v in enumerate(bnds)})
 
-    C = np.array([graph.nodes[v]["capacity"] for v in free], dtype=np.float64)
-    labels = tuple(str(graph.nodes[v]["label"]) for v in free)
-    T_b = np.array([graph.nodes[v]["temperature_K"] for v in bnds], dtype=np.float64)
+    C = np.array([nodes[v]["capacity"] for v in free], dtype=np.float64)
+    labels = tuple(str(nodes[v]["label"]) for v in free)
+    T_b = np.array([nodes[v]["temperature_K"] for v in bnds], dtype=np.float64)
 
     ei, ej, eg, ea, er = [], [], [], [], []
     for u, v, d in graph.edges(data=True):
