@@ -329,6 +329,9 @@ class ModalSolver:
         self.T_ref = T_ref
         self.n_float = n_float
         self.n_eval = 0
+        #: The latest periodic response asked of this solver through its network, reused
+        #: for the same power times one factor (:mod:`pulsetherm.network.rescale`).
+        self.memo: dict = {}
 
     # -- basic pieces ------------------------------------------------------------------
     @property

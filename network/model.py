@@ -24,6 +24,7 @@ from pulsetherm.waveforms.canonical import Piecewise, align, as_piecewise
 
 from .graph import Graph
 from .assemble import NetworkError, assemble, static_field, floating_nodes
+from .rescale import power_factor, scaled_raw
 from .system import KELVIN_OFFSET, ThermalSystem
 
 __all__ = ["ThermalNetwork", "NetworkError", "InputSpec"]
@@ -468,11 +469,23 @@ class ThermalNetwork:
         ambient = static_field(sys_)  # raises for adiabatic parts, naming them
         rows = self._probe_rows(probes)
         solver = self._solver(method)
-        raw = solver.periodic(edges, level, slope, rows)
         T = float(edges[-1])
-        res = Response.from_raw(raw, sys_, rows, periodic=True,
-                                method=getattr(solver, "name", str(method)), energy_in=e_in,
+        name = getattr(solver, "name", str(method))
+        # the last modal response of this system and probes, reused when the power is the
+        # same times one factor (exact by linearity: network/rescale.py)
+        memos = getattr(solver, "memo", None) if name == "modal" else None
+        memo_key = (rows.tobytes(), warmup_fraction)
+        memo = None if memos is None else memos.get(memo_key)
+        a = None if memo is None else power_factor(edges, level, slope, *memo[:3])
+        raw = (solver.periodic(edges, level, slope, rows) if a is None
+               else scaled_raw(memo[3], a, ambient, rows))
+        res = Response.from_raw(raw, sys_, rows, periodic=True, method=name, energy_in=e_in,
                                 span=T, ambient_K=ambient)
+        if a is not None:
+            first = memo[4]
+            res.warmup_fn = (None if first.warmup_fn is None
+                             else (lambda probe: first.warmup_s[probe]))
+            return res
         if hasattr(solver, "warmup_crossing"):
             q_ps = raw.info.get("q_start")
 
@@ -485,6 +498,9 @@ class ThermalNetwork:
                 return solver.warmup_crossing(edges, level, slope, r, target, raw.t, rise,
                                               q_ps=q_ps)
             res.warmup_fn = warmup
+        if memos is not None:
+            memos.clear()                   # one response per solver: the latest
+            memos[memo_key] = (edges, level, slope, raw, res)
         return res
 
     def warmup_time(self, waveforms: Mapping, node: str, fraction: float = 0.99,

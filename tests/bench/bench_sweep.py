@@ -5,7 +5,11 @@ Cases (``examples/xband_gan_coldplate.toml``):
 
 * **waveform-only**: ``waveforms.radar.peak`` stepped over N values.  Every row after the
   first reuses the built network and its eigendecomposition
-  (:mod:`pulsetherm.network.sweepcache`); goal >= 500 rows/s per worker.
+  (:mod:`pulsetherm.network.sweepcache`), and, the power being the first row's times one
+  factor, its periodic response (:mod:`pulsetherm.network.rescale`); goal >= 500 rows/s
+  per worker.
+* **pulse width**: ``waveforms.radar.width`` stepped: also waveform-only, so the network
+  is reused, but every row solves its periodic state; goal >= 500 rows/s per worker.
 * **geometry**: ``devices[0].stack[2].thickness`` (the flange) stepped over N values: every
   row builds its ladder and spreading calibration; goal >= 250 rows/s per worker.
 
@@ -39,6 +43,7 @@ EXAMPLE = Path(__file__).resolve().parents[2] / "examples" / "xband_gan_coldplat
 #: name -> (axis path, unit, low, high, goal rows/s per worker)
 CASES = {
     "waveform-only": ("waveforms.radar.peak", "W", 50.0, 150.0, 500.0),
+    "pulse width": ("waveforms.radar.width", "us", 50.0, 150.0, 500.0),
     "geometry": ("devices[0].stack[2].thickness", "mm", 0.5, 1.5, 250.0),
 }
 
@@ -135,7 +140,7 @@ def main(rows: int = 400, repeat: int = 3) -> None:
         row = sum(parts.values())
         print(f"{case}: one row in process {row * 1e3:.2f} ms = " + ", ".join(
             f"{k} {v * 1e3:.2f} ms ({v / row:.0%})" for k, v in parts.items()))
-        if case == "waveform-only":
+        if case in ("waveform-only", "pulse width"):
             alone = row - parts["network"] - parts["solve"] + rebuilt
             print(f"  without reuse (network, assembly and eigendecomposition again): "
                   f"{alone * 1e3:.2f} ms a row, {alone / row:.2f}x as long")
