@@ -436,6 +436,10 @@ def plan_sweep(scn: Scenario, vary: Sequence[str] = (), mc: Sequence[str] = (),
 # One row (runs in the workers)
 # ======================================================================================
 _BASE: dict[str, Any] = {}
+#: Set in the parent while a pool of forked workers starts: (scenario, model cache) with
+#: the first row's network already built; a forked worker starts from it instead of
+#: loading the scenario and building that network again.  None otherwise.
+_PREWARM: tuple[Any, Any] | None = None
 
 
 def _init_worker(base: dict[str, Any] | None = None, source: str | None = None,
@@ -449,6 +453,8 @@ def _init_worker(base: dict[str, Any] | None = None, source: str | None = None,
         _BASE["data"] = base
         _BASE["source"] = source
         _BASE["allow"] = tuple(allow)
+        if _PREWARM is not None:        # forked from the parent: its warm cache
+            _BASE["scenario"], _BASE["cache"] = _PREWARM
 
 
 _NAME = re.compile(r"^[A-Za-z0-9_\-]+$")
@@ -907,6 +913,9 @@ def _run_pool(plan: SweepPlan, todo: list[tuple[str, dict[str, Any]]], workers: 
         ctx.set_forkserver_preload(["pulsetherm.network.sweep", "pulsetherm.network.simulate",
                                     "pulsetherm.network.modal", "pulsetherm.network.builder"])
     size = chunk_size(len(todo), workers)
+    global _PREWARM
+    if method == "fork":
+        _PREWARM = _prewarm(plan, todo)
     initargs = (plan.scenario.to_dict(), plan.scenario.source,
                 getattr(plan.scenario, "allow_paths", ()))
 
@@ -961,11 +970,28 @@ def _run_pool(plan: SweepPlan, todo: list[tuple[str, dict[str, Any]]], workers: 
                     break
                 failed(dead[0], why)
     finally:
+        _PREWARM = None
         for k, v in saved.items():
             if v is None:
                 os.environ.pop(k, None)
             else:
                 os.environ[k] = v
+
+
+def _prewarm(plan: SweepPlan, todo: list[tuple[str, dict[str, Any]]]):
+    """(scenario, model cache) with the first row's network built, when the rows change
+    only waveforms (so that later rows reuse it); None otherwise.  Built once here, before
+    the workers fork, instead of once in every worker."""
+    from .sweepcache import ModelCache, is_waveform_path
+
+    if not todo or not all(is_waveform_path(p) for p in todo[0][1]):
+        return None
+    cache = ModelCache()
+    try:
+        cache.model(with_values(plan.scenario, todo[0][1]), todo[0][1])
+    except Exception:  # noqa: BLE001 - the row fails in its worker, as it would alone
+        pass
+    return plan.scenario, cache
 
 
 def _run_dask(plan: SweepPlan, todo: list[tuple[str, dict[str, Any]]], scheduler: Any,

@@ -13,7 +13,10 @@ built :class:`~pulsetherm.network.simulate.ScenarioModel` of recent rows keyed b
 
 and hands out a copy with the row's own waveforms bound to the same network.  The network
 object (and so its cached system and modal solver) is shared, never changed: a solve only
-reads it.  A cached row is therefore the same computation as a fresh build, bit for bit.
+reads it.  A cached row is therefore the same computation as a fresh build, bit for bit;
+a row whose power is the previous solve's times one factor then takes that response scaled
+(:mod:`pulsetherm.network.rescale`), equal to a fresh solve to rounding (about 1e-12 of the
+rise), so such a row's last digits may depend on the row solved before it.
 """
 from __future__ import annotations
 

@@ -552,3 +552,21 @@ def test_a_search_range_with_a_count_names_the_option(tmp_path, capsys):
     assert main(["size", str(f), "--adjust", "waveforms.p.peak", "--range", "1..200 W:5"]) == 2
     err = capsys.readouterr().err
     assert "--range = '1..200 W:5'" in err and "without ':N'" in err and "unpack" not in err
+
+
+def test_drive_level_rows_equal_single_runs_serial_and_in_workers(scn):
+    """A drive-level axis: the rows after the first reuse a periodic response scaled by
+    linearity (network/rescale.py), in this process and in two workers (which start from
+    the parent's built network); each equals a single run of its value to 1e-9 K
+    (rounding; superposition, Carslaw and Jaeger 1959)."""
+    plan = plan_sweep(scn, vary=["waveforms.p.peak=10..80 W:8"])
+    serial = {r["key"]: r for r in run_sweep(plan).rows}
+    pooled = {r["key"]: r for r in run_sweep(plan, workers=2).rows}
+    assert serial.keys() == pooled.keys() and len(serial) == 8
+    for key, row in serial.items():
+        single = simulate(scn.with_value("waveforms.p.peak", row["waveforms.p.peak"]))
+        for got in (row, pooled[key]):
+            assert not got["error"]
+            for f in ("peak_C", "mean_C"):
+                want = getattr(single.probes["pa.junction"], f)
+                assert abs(got[f"pa.junction.{f}"] - want) <= 1e-9, (key, f)
