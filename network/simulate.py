@@ -33,6 +33,14 @@ CAUTION = ("engineering estimates; verify by measurement; follow the device make
            "and derating, local codes and licensed practice")
 
 
+#: Caution for a ladder with a via field: the field enters the 1-D calibration smeared over
+#: the board and is taken back depth by depth, so its accuracy is that measured against the
+#: r-z mesh on random stacks (tests/test_ladder_vs_rz.py; README, Known limits).
+VIA_FIELD_NOTE = ("via field(s) in the ladder model: against the r-z mesh within -16 to +16 % "
+                  "for a field the size of the part above it or wider, -26 to +34 % for a "
+                  "smaller one; cross-check with model.fidelity = \"axisymmetric\"")
+
+
 def massless_caution(scn: Scenario) -> list[str]:
     """One caution per device given by ``rth`` alone (no ``capacity``): its junction has
     no heat capacity, so it jumps by P·rth at every power edge and its peak is an upper
@@ -500,6 +508,8 @@ def build(scn: Scenario, t_min: float | None = None) -> ScenarioModel:
     if asm is not None:  # the via fields used (sizes by builder.via_field_size)
         from .builder import via_fields
         model.via_fields = via_fields(asm, lib)
+        if model.via_fields and fidelity != "axisymmetric":
+            model.notes.append(VIA_FIELD_NOTE)
     model.t_min = t_min if asm is not None else None
     _add_lines(model, lib)
     _add_elements(model)

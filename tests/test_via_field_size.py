@@ -104,3 +104,19 @@ def test_area_without_unit_is_refused(tmp_path, capsys):
     f.write_text(SCN.replace("{area}", 'area = "200"'))
     assert main(["run", str(f)]) == 2
     assert "vias.area" in capsys.readouterr().err
+
+
+def test_ladder_output_states_the_via_field_accuracy():
+    """A ladder with a via field says how far such fields read from the r-z mesh (the bands
+    measured in tests/test_ladder_vs_rz.py); the r-z mode itself does not, and a board
+    without vias does not (common practice, no source: a default that decides the answer
+    is said in the output)."""
+    from pulsetherm.network.simulate import VIA_FIELD_NOTE
+
+    assert VIA_FIELD_NOTE in _run().to_dict()["cautions"]
+    rz = loads(SCN.replace("{area}", "") + '[model]\nfidelity = "axisymmetric"\n')
+    assert VIA_FIELD_NOTE not in simulate(rz).to_dict()["cautions"]
+    plain = SCN.replace("{area}", "")
+    start = plain.index("[board.layers.vias]")
+    end = plain.index("[[board.layers]]", start)
+    assert VIA_FIELD_NOTE not in simulate(loads(plain[:start] + plain[end:])).to_dict()["cautions"]
