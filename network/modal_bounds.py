@@ -312,6 +312,7 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
                 if graded is not None and graded.any():
                     g = np.flatnonzero(graded)
                     record(g, sa[g], ends_a[0][:, g], ck, cj, sg, slot, lv, sl)
+            graded = None                   # first level only (the intervals split below)
             (th_a, th_b, d_a, d_b, U, L, K, Kl, c2a, c2b, M3,
              m3) = _interval_bounds(Pj, dj, lv, sl, sa, sb, ends_a, ends_b, solver.lam)
             w = sb - sa
