@@ -213,60 +213,15 @@ for i, (name, expect) in enumerate([
 case("table_single_shot_run", TABLE.replace("FILE", "hostile_csv/good.csv").replace(
     "periodic = true", "periodic = false"), "waveforms.env.periodic")
 # -- a line whose strip is narrower than its copper, a solve too long to wait for --------
-LINE = '''name = "hostile line"
-coolant = "50 degC"
-
-[waveforms.rf]
-kind = "pulses"
-peak = "10 W"
-width = "50 us"
-period = "1 ms"
-
-[board]
-size = ["30 mm", "20 mm"]
-
-[[board.layers]]
-name = "top-copper"
-material = "pcb-copper"
-thickness = "35 um"
-
-[[board.layers]]
-name = "laminate"
-material = "ptfe-ceramic"
-thickness = "0.508 mm"
-
-[[board.layers]]
-name = "ground"
-material = "pcb-copper"
-thickness = "35 um"
-
-[mount.sink]
-kind = "fixed"
-
-[[lines]]
-name = "feed"
-power = "rf"
-length = "25 mm"
-frequency = "3 GHz"
-impedance = "50 ohm"
-
-[[heaters]]
-name = "term"
-power = "rf"
-line = "feed"
-position = "24 mm"
-length = "2 mm"
-resistance = "10 K/W"
-capacity = "5 mJ/K"
-'''
+# the shipped line example (a 50-ohm microstrip feeding a chip termination)
+LINE = (HERE.parents[1] / "examples" / "termination_line.toml").read_text(encoding="utf-8")
 case("line_laminate_1um", sub('"0.508 mm"', '"1 um"', LINE), "board.layers[1].thickness")
 case("line_laminate_1nm", sub('"0.508 mm"', '"1 nm"', LINE), "board.layers[1].thickness")
 case("line_width_under_copper", sub('impedance = "50 ohm"', 'width = "10 um"', LINE),
      "lines[0].width")
-case("line_long_common_period", sub('[[heaters]]\nname = "term"\npower = "rf"',
-                                    '[waveforms.load]\nkind = "pulses"\npeak = "1 W"\n'
-                                    'width = "50 us"\nperiod = "10 s"\n\n[[heaters]]\n'
-                                    'name = "term"\npower = "load"', LINE), "waveforms")
+case("line_long_common_period", sub('peak = "9.5 W"\nwidth = "50 us"\nperiod = "1 ms"',
+                                    'peak = "9.5 W"\nwidth = "50 us"\nperiod = "10 s"',
+                                    LINE), "waveforms")
 # -- command-line options ----------------------------------------------------------------
 case("set_quoted_number", BASE, "devices[0].stack[0].thickness",
      "run FILE --set \"devices[0].stack[0].thickness='2'\"")
