@@ -470,17 +470,17 @@ class ThermalNetwork:
         rows = self._probe_rows(probes)
         solver = self._solver(method)
         T = float(edges[-1])
-        name = getattr(solver, "name", str(method))
-        # the last modal response of this system and probes, reused when the power is the
-        # same times one factor (exact by linearity: network/rescale.py)
-        memos = getattr(solver, "memo", None) if name == "modal" else None
+        solver_name = getattr(solver, "name", str(method))
+        # the solver's last response for these probes (the exact modal solver keeps one),
+        # reused when the power is the same times one factor (linearity: rescale.py)
+        memos = getattr(solver, "memo", None)
         memo_key = (rows.tobytes(), warmup_fraction)
         memo = None if memos is None else memos.get(memo_key)
         a = None if memo is None else power_factor(edges, level, slope, *memo[:3])
         raw = (solver.periodic(edges, level, slope, rows) if a is None
                else scaled_raw(memo[3], a, ambient, rows))
-        res = Response.from_raw(raw, sys_, rows, periodic=True, method=name, energy_in=e_in,
-                                span=T, ambient_K=ambient)
+        res = Response.from_raw(raw, sys_, rows, periodic=True, method=solver_name,
+                                energy_in=e_in, span=T, ambient_K=ambient)
         if a is not None:
             first = memo[4]
             res.warmup_fn = (None if first.warmup_fn is None
