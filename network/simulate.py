@@ -460,11 +460,21 @@ class ScenarioModel:
         return out
 
 
+#: Steps per decade of the time the ladder is graded for (see :func:`waveform_t_min`).
+T_MIN_STEPS_PER_DECADE = 4
+
+
 def waveform_t_min(scn: Scenario, waves: dict[str, Any]) -> float:
-    """All the network build takes from the waveforms: the shortest feature of the devices'
-    power, s (it sets the thinnest ladder sub-layer).  Sweeps key their reuse of a built
-    network on it (:mod:`pulsetherm.network.sweepcache`): keep the two in step."""
-    return min(_shortest_feature(waves[d.name] for d in scn.devices or ()), 1e3)
+    """All the network build takes from the waveforms, s: the shortest feature of the
+    devices' power, rounded *down* onto a grid of four steps a decade (1, 1.78, 3.16,
+    5.62 × 10^k s).  It sets the thinnest ladder sub-layer (√(α·t_min) scaling), so the
+    rounding only ever makes the ladder finer (the first sub-layer at most 1.33× thinner),
+    and waveforms whose shortest features fall in one step (a pulse-width sweep from 60 to
+    99 µs) share one network: sweeps key their reuse of a built network on this value
+    (:mod:`pulsetherm.network.sweepcache`), keep the two in step."""
+    t = min(_shortest_feature(waves[d.name] for d in scn.devices or ()), 1e3)
+    k = math.floor(T_MIN_STEPS_PER_DECADE * math.log10(t) + 1e-9)
+    return 10.0 ** (k / T_MIN_STEPS_PER_DECADE)
 
 
 def build(scn: Scenario, t_min: float | None = None) -> ScenarioModel:

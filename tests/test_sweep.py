@@ -509,6 +509,32 @@ def test_rows_reusing_a_built_network_equal_single_runs(axes):
 
 
 
+def test_pulse_widths_within_one_grading_step_share_one_network():
+    """The ladder is graded for the shortest waveform feature rounded down onto four steps
+    a decade (simulate.waveform_t_min), so a pulse-width axis inside one step builds one
+    network; every row still equals a single run of its scenario, and the rounded time is
+    never above the shortest feature nor more than one step below it.  Common practice,
+    no source; the reference is the single run."""
+    from pulsetherm.network.simulate import _shortest_feature, _waveforms, waveform_t_min
+    from pulsetherm.network.sweep import run_row
+    from pulsetherm.network.sweepcache import ModelCache
+
+    scn = _line_scenario()
+    plan = plan_sweep(scn, vary=["waveforms.rf.width=60 us,70 us,85 us,99 us"])
+    cache = ModelCache()
+    rows = [run_row(scn, values, plan.key(values), cache) for values in plan.rows]
+    assert (cache.misses, cache.hits) == (1, 3)
+    for row in rows:
+        s = scn.with_value("waveforms.rf.width", row["waveforms.rf.width"])
+        waves = _waveforms(s)
+        shortest = _shortest_feature(waves[d.name] for d in s.devices)
+        t = waveform_t_min(s, waves)
+        assert shortest / 10 ** 0.25 < t <= shortest
+        single = simulate(s)
+        for name, p in single.probes.items():
+            assert row[f"{name}.peak_C"] == pytest.approx(p.peak_C, rel=1e-12, abs=1e-12)
+
+
 @pytest.mark.parametrize("values", [
     {"waveforms.p.peak": "90 W"},
     {"waveforms.p.width": "50 us", "waveforms.p.peak": "10 W"},
