@@ -31,7 +31,7 @@ _EXPORTS = {
     "ScenarioError": ("scenario", "ScenarioError"), "dumps": ("scenario", "dumps"),
     "load": ("scenario", "load"), "loads": ("scenario", "loads"), "save": ("scenario", "save"),
     "RunResult": ("simulate", "RunResult"), "simulate": ("simulate", "simulate"),
-    "thermal_impedance": ("simulate", "thermal_impedance"),
+    "thermal_impedance": ("impedance", "thermal_impedance"),
     "build_scenario": ("simulate", "build"), "SizingError": ("sizing", "SizingError"),
     "SizingResult": ("sizing", "SizingResult"), "size": ("sizing", "size"),
     "SparseSolver": ("sparse", "SparseSolver"), "SOLVERS": ("solvers", "SOLVERS"),

@@ -344,7 +344,6 @@ def _sink(scn: Scenario):
 
 def to_assembly(scn: Scenario, lib=None, used: dict | None = None):
     """The :class:`~pulsetherm.network.stackup.Assembly` of the scenario's devices."""
-    from .foster import Foster
     from .stackup import Assembly, Board, Mount, Part
 
     lib = lib if lib is not None else _library(scn)
@@ -355,6 +354,8 @@ def to_assembly(scn: Scenario, lib=None, used: dict | None = None):
         stack = [_layer(l, lib, f"{path}.stack[{j}]", used) for j, l in enumerate(d.stack or ())]
         foster = None
         if d.foster is not None:
+            from .foster import Foster
+
             try:
                 foster = Foster(np.array([q.value for q in d.foster.R]),
                                 np.array([q.value for q in d.foster.tau]))
@@ -364,6 +365,8 @@ def to_assembly(scn: Scenario, lib=None, used: dict | None = None):
         if rth is not None and d.capacity is not None and d.capacity.value > 0:
             # rth with a junction-to-case capacity: one stage, R·C = τ (a one-term Foster
             # network is the one-stage Cauer ladder: the capacity sits on the junction)
+            from .foster import Foster
+
             foster, rth = Foster(np.array([rth]), np.array([rth * d.capacity.value])), None
         try:
             parts.append(Part(d.name, tuple(q.value for q in d.footprint), stack,
@@ -1050,9 +1053,11 @@ def simulate(scn: Scenario | ScenarioModel) -> RunResult:
     hottest = max(model.probes, key=lambda n: probes[n].peak_C) if probes else None
     warm = _warmup(model, resp, hottest)
     budget, bprobe = _budget(model)
-    from .device_effects import device_effects  # [devices.rf] / [devices.cycling]
+    effects = None
+    if any(d.rf or d.cycling for d in s.devices or ()):      # [devices.rf] / [devices.cycling]
+        from .device_effects import device_effects
 
-    effects = device_effects(model)
+        effects = device_effects(model)
     cautions = model.cautions() + (effects.cautions if effects is not None else [])
     return RunResult(s.name, amb, probes, warm, budget, cautions, resp, model, bprobe,
                      effects=effects)
@@ -1142,5 +1147,12 @@ def _mean_power(w) -> float:
 # ======================================================================================
 # Thermal impedance
 # ======================================================================================
-from .impedance import ImpedanceResult, thermal_impedance  # noqa: E402  (re-exported)
+def __getattr__(name: str) -> Any:
+    """``ImpedanceResult`` and ``thermal_impedance`` (re-exported from
+    :mod:`~pulsetherm.network.impedance`), imported on first use: ``run`` needs neither."""
+    if name in ("ImpedanceResult", "thermal_impedance"):
+        from . import impedance
+
+        return getattr(impedance, name)
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 

@@ -63,3 +63,46 @@ def test_guard_sees_an_import():
     out = _fresh(_run_and_list(["zth", str(path), "--probe", "pa.junction"],
                                ("scipy.optimize",)))
     assert out.returncode == 1, out.stdout[-2000:] + out.stderr[-2000:]
+
+
+#: Project modules only other commands or other scenarios need: ``zth`` (impedance), data-sheet
+#: Foster devices (foster), ``[devices.rf]`` / ``[devices.cycling]`` (device_effects).  Each
+#: costs ~0.5-1.5 ms of import per ``run`` (common practice, no source).
+ONLY_FOR_OTHERS = ("pulsetherm.network.impedance", "pulsetherm.network.foster",
+                   "pulsetherm.network.device_effects")
+
+
+def test_run_of_a_die_stack_imports_only_what_it_needs():
+    path = ROOT / "examples" / "xband_gan_coldplate.toml"
+    out = _fresh(_run_and_list(["run", str(path)], ONLY_FOR_OTHERS))
+    assert out.returncode != 1, f"`pulsetherm run` imported {out.stdout.splitlines()[-1]}"
+    assert out.returncode == 0, out.stdout[-2000:] + out.stderr[-2000:]
+
+
+@pytest.mark.parametrize("scenario, module", [
+    ("foster", "pulsetherm.network.foster"),
+    ("stagger_burst_phase.toml", "pulsetherm.network.device_effects"),
+])
+def test_the_lazy_guard_sees_the_import(tmp_path, scenario, module):
+    """The guard above can fail: a Foster device needs foster, ``[devices.rf]`` needs
+    device_effects."""
+    if scenario == "foster":
+        path = tmp_path / "small.toml"
+        path.write_text(SMALL_PULSED_SCENARIO)
+    else:
+        path = ROOT / "examples" / scenario
+    out = _fresh(_run_and_list(["run", str(path)], (module,)))
+    assert out.returncode == 1, out.stdout[-2000:] + out.stderr[-2000:]
+
+
+def test_impedance_names_still_reach_through_simulate():
+    """``simulate.thermal_impedance`` / ``ImpedanceResult`` load their module on first use."""
+    import importlib
+
+    impedance = importlib.import_module("pulsetherm.network.impedance")
+    simulate = importlib.import_module("pulsetherm.network.simulate")  # the module, not the
+    #                                                                   # function of that name
+    assert simulate.thermal_impedance is impedance.thermal_impedance
+    assert simulate.ImpedanceResult is impedance.ImpedanceResult
+    with pytest.raises(AttributeError):
+        simulate.no_such_name

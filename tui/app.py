@@ -235,7 +235,7 @@ class ScenarioApp(App):
 
     @work(thread=True, exclusive=True, group="extras", exit_on_error=False)
     def extras(self, result: Any, seq: int, probe: str | None) -> None:
-        from pulsetherm.network.simulate import thermal_impedance
+        from pulsetherm.network.impedance import thermal_impedance
 
         worker = get_current_worker()
         try:

@@ -283,7 +283,7 @@ def _cmd_check(args: argparse.Namespace) -> int:
 
 # -- zth ---------------------------------------------------------------------------------
 def _cmd_zth(args: argparse.Namespace) -> int:
-    from pulsetherm.network.simulate import thermal_impedance
+    from pulsetherm.network.impedance import thermal_impedance
     from pulsetherm.tui.report import zth_text
 
     from pulsetherm.network.scenario import parse_quantity
