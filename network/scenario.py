@@ -39,6 +39,7 @@ import difflib
 import functools
 import math
 import re
+import reprlib
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -702,10 +703,42 @@ def _dump_section(obj) -> dict[str, Any]:
     return out
 
 
+@functools.lru_cache(maxsize=None)
+def _field_names(cls, use: str) -> tuple[str, ...]:
+    """Names of the fields of the dataclass ``cls`` that take part in ``use``: ``"compare"``
+    (==), ``"hash"`` or ``"repr"``, chosen as :mod:`dataclasses` chooses them."""
+    fields = dataclasses.fields(cls)
+    if use == "hash":
+        return tuple(f.name for f in fields if (f.compare if f.hash is None else f.hash))
+    return tuple(f.name for f in fields if getattr(f, use))
+
+
 class _Section:
-    """Base of the schema dataclasses: cross-field checks and the dict form."""
+    """Base of the schema dataclasses: cross-field checks and the dict form.
+
+    The sections are declared ``@dataclass(frozen=True, eq=False, repr=False)`` and take
+    ``==``, ``hash`` and ``repr`` from here, written as ``dataclass(frozen=True)`` writes
+    them (same fields, same results): Python 3.11 compiles every generated method on its
+    own, and these three cost ~3 ms of each ``pulsetherm run`` (17 sections).
+    """
 
     _what = "section"
+
+    def __eq__(self, other: object) -> bool:
+        if other.__class__ is self.__class__:
+            names = _field_names(self.__class__, "compare")
+            return (tuple(getattr(self, n) for n in names)
+                    == tuple(getattr(other, n) for n in names))
+        return NotImplemented
+
+    def __hash__(self) -> int:
+        return hash(tuple(getattr(self, n) for n in _field_names(self.__class__, "hash")))
+
+    @reprlib.recursive_repr()
+    def __repr__(self) -> str:
+        return (self.__class__.__qualname__ + "("
+                + ", ".join(f"{n}={getattr(self, n)!r}"
+                            for n in _field_names(self.__class__, "repr")) + ")")
 
     def check(self, path: str) -> None:
         """Cross-field rules; raise :class:`ScenarioError` naming the key."""
@@ -736,7 +769,7 @@ WAVEFORM_KEYS: dict[str, tuple[str, ...]] = {
 }
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
 class StretchSpec(_Section):
     """One stretch of a profile: a duration with a constant power or a named waveform."""
 
@@ -747,7 +780,7 @@ class StretchSpec(_Section):
     label: str | None = _f("str")
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
 class WaveformSpec(_Section):
     """A heat waveform: ``kind`` and the keys of that kind (see :data:`WAVEFORM_KEYS`)."""
 
@@ -801,7 +834,7 @@ _WAVE_FIELD = {"Burst.period": "period", "Burst.gap": "gap", "Burst.pulses": "pu
                "PulseTrain.period": "pri", "PulseTrain.prf": "prf"}
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
 class ViaSpec(_Section):
     """A field of thermal vias in a board laminate (under every part)."""
 
@@ -831,7 +864,7 @@ def _is_copper_weight(text: str) -> bool:
     return text.rstrip().endswith("oz")
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
 class LayerSpec(_Section):
     """One layer (material and thickness) or a thin interface (``area_resistance``)."""
 
@@ -869,7 +902,7 @@ class LayerSpec(_Section):
                                 "material (one whose name contains 'copper')")
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
 class BoardSpec(_Section):
     _what = "board"
     size: tuple = _f("qpair", kind="length", required=True)
@@ -886,7 +919,7 @@ SINK_KEYS = {"fixed": (), "lumped": ("resistance", "capacity"),
              "film": ("h", "area", "capacity")}
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
 class SinkSpec(_Section):
     """Heat sink: ``fixed`` (ideal cold plate / fixed-temperature base at the coolant
     temperature), ``lumped`` (resistance and capacity to ambient) or ``film`` (film
@@ -911,14 +944,14 @@ class SinkSpec(_Section):
             raise ScenarioError(_join(path, need), None, f"missing; a {self.kind!r} sink needs {need}")
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
 class MountSpec(_Section):
     _what = "mount"
     interface: tuple | None = _f("list", cls=LayerSpec)
     sink: SinkSpec = _f("section", cls=SinkSpec, required=True)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
 class FosterSpec(_Section):
     """Data-sheet Foster network, junction to case: R (K/W) and tau (s) per term."""
 
@@ -937,7 +970,7 @@ class FosterSpec(_Section):
                                 f"as many time constants as resistances ({len(self.R)})")
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
 class RFSpec(_Section):
     """A device's signal sensitivity to its junction temperature: gain (dB/K) and
     insertion-phase (deg/K) coefficients, and optional limits on the worst droop across a
@@ -963,7 +996,7 @@ class RFSpec(_Section):
                                 "a phase limit with phase_tc (the phase comes from it)")
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
 class CyclingSpec(_Section):
     """Thermal-cycling figures of a device (relative only; :mod:`pulsetherm.network.
     cycling`): reference cycle range, Coffin-Manson exponent, activation energy and
@@ -978,7 +1011,7 @@ class CyclingSpec(_Section):
                             "the die or the data-sheet device)")
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
 class DeviceSpec(_Section):
     """A heated device: a die stack (``stack``) or a data-sheet device (``rth`` or
     ``foster``, junction to case, optionally on a ``stack`` of package/attach layers)."""
@@ -1016,7 +1049,7 @@ class DeviceSpec(_Section):
                      for i, lay in enumerate(self.stack)], "layer name")
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
 class LineSpec(_Section):
     """A microstrip line carrying RF power; its conductor and dielectric losses heat it."""
 
@@ -1043,7 +1076,7 @@ class LineSpec(_Section):
         self._one_of(path, ("width", "impedance"))
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
 class HeaterSpec(_Section):
     """A point heat source at a named node (a chip termination, a bias resistor)."""
 
@@ -1077,7 +1110,7 @@ class HeaterSpec(_Section):
                                 "a capacity needs a resistance to the line copper")
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
 class ProbeSpec(_Section):
     _what = "probe"
     name: str = _f("str", required=True)
@@ -1085,7 +1118,7 @@ class ProbeSpec(_Section):
     limit: Quantity | None = _f("q", kind="temperature", check="kelvin")
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
 class ElementSpec(_Section):
     """An extra lumped element: ``mass`` (a heat capacity joined to ``node`` through
     ``resistance``) or ``resistance`` (between two named nodes, e.g. a copper strap)."""
@@ -1113,7 +1146,7 @@ class ElementSpec(_Section):
                                     f"missing; a {self.kind!r} element needs {', '.join(need)}")
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
 class ModelSpec(_Section):
     """How to model: ``fidelity`` ladder (columns of graded sub-layers) or axisymmetric;
     ``grading`` coarse/normal/fine; ``spreading`` calibrated (the default: each column
@@ -1246,7 +1279,7 @@ def _unique(items: list[tuple[str, str]], what: str) -> None:
         seen[name] = path
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
 class Scenario(_Section):
     """A whole scenario (see the module docstring).  Load with :func:`load` / :func:`loads`,
     change one value with :meth:`with_value`, write with :func:`save`."""

@@ -265,3 +265,71 @@ def test_table_waveform_equals_the_same_pulse_train(tmp_path):
     (tmp_path / "env.csv").unlink()
     with pytest.raises(ScenarioError, match=r"waveforms\.radar\.file"):
         simulate(load(tmp_path / "table.toml"))
+
+
+def _sections(obj, out):
+    """Every section object inside ``obj`` (depth first), ``obj`` included."""
+    import dataclasses
+
+    if dataclasses.is_dataclass(obj) and not isinstance(obj, type):
+        out.append(obj)
+        for f in dataclasses.fields(obj):
+            _sections(getattr(obj, f.name), out)
+    elif isinstance(obj, (tuple, list)):
+        for v in obj:
+            _sections(v, out)
+    elif isinstance(obj, dict):
+        for v in obj.values():
+            _sections(v, out)
+    return out
+
+
+def _generated_twin(obj):
+    """``obj`` as an instance of a class that :func:`dataclasses.dataclass` (frozen, default
+    eq/repr/hash) generates from the same fields: the reference for the sections' shared
+    ``==``, ``hash`` and ``repr``."""
+    import dataclasses
+
+    cls = type(obj)
+    if cls not in _TWINS:
+        spec = [(f.name, f.type, dataclasses.field(default=None, repr=f.repr,
+                                                   compare=f.compare, hash=f.hash))
+                for f in dataclasses.fields(cls)]
+        _TWINS[cls] = dataclasses.make_dataclass(cls.__name__, spec, frozen=True)
+        _TWINS[cls].__qualname__ = cls.__qualname__
+    return _TWINS[cls](**{f.name: getattr(obj, f.name) for f in dataclasses.fields(cls)})
+
+
+_TWINS: dict[type, type] = {}
+
+
+def _hash_or_error(obj):
+    try:
+        return hash(obj)
+    except TypeError as exc:        # a section holding a dict (waveforms, materials)
+        return str(exc)
+
+
+@pytest.mark.parametrize("path", EXAMPLES, ids=lambda p: p.stem)
+def test_sections_eq_hash_repr_match_the_generated_ones(path):
+    """The sections take ==, hash and repr from their base class (generated per class they
+    cost import time); each must give what dataclass(frozen=True) would (common practice,
+    no source)."""
+    scn = load(path)
+    again = load(path)
+    other = scn.with_value("name", "another name")
+    moved = loads(path.read_text(), source="elsewhere.toml")   # source: compare=False
+    objs = _sections(scn, [])
+    assert len(objs) > 5
+    for obj in objs:
+        twin = _generated_twin(obj)
+        assert repr(obj) == repr(twin)
+        assert _hash_or_error(obj) == _hash_or_error(twin)
+        assert obj == obj and not obj != obj
+        assert (obj == "text") is False and obj.__eq__("text") is NotImplemented
+    for a, b in ((scn, again), (scn, other), (scn, moved), (scn.mount, scn.mount.sink)):
+        assert (a == b) == (_generated_twin(a) == _generated_twin(b)), (a, b)
+        assert (a != b) == (_generated_twin(a) != _generated_twin(b))
+    assert scn == again and scn == moved and scn != other
+    assert _hash_or_error(scn) == _hash_or_error(moved)
+    assert repr(scn).startswith("Scenario(name=") and "source=" not in repr(scn)
