@@ -69,6 +69,9 @@ _MAX_BESSEL_TERMS = 1 << 20
 _CENTRE_BESSEL_TERMS = 1 << 14
 _MAX_RECT_TERMS = 4096
 _CHUNK = 1 << 20   # largest block of double-series terms evaluated at once
+_CACHE_BLOCK = 1 << 15  # series terms per block of depths (the arrays stay in cache)
+#: tanh(x) is 1.0 in double precision for x above ~19.06 (1 − tanh x ≈ 2e^(−2x) < 2^-54)
+_TANH_ONE = 20.0
 
 
 class SpreadingError(ValueError):
@@ -486,6 +489,39 @@ def circular_series(a: float, b: float, k, t, h: float, *,
                            abs(c2 - c1) / abs(cen) / (2.0 ** 1.5 - 1.0))
 
 
+def _compose_down(zeta: np.ndarray, ks: np.ndarray, ts: np.ndarray, upto: Sequence[int]
+                  ) -> dict[int, tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]]:
+    """The upward recursion of :func:`layer_phi` through the layers above a cut in layer j,
+    composed into one linear fractional map per mode ζ, for every j of ``upto``.
+
+    Layer i maps the φ below it to φ_i = (c_i·φ + T_i)/(c_i·T_i·φ + 1),
+    c_i = k_i/k_{i+1}, T_i = tanh(ζt_i): the matrix [[c_i, T_i], [c_i·T_i, 1]] acting on
+    (φ, 1).  For a cut in layer j the product M = M_0·M_1···M_{j−1} = [[α, β], [γ, δ]]
+    gives φ_0 = (αφ_j + β)/(γφ_j + δ) and dφ_0/dφ_j = det M/(γφ_j + δ)²,
+    det M = Π c_i(1 − T_i²) (a linear fractional map composes by matrix products; common
+    practice, no source).  The products are built from the top, one layer more for each
+    j, and rescaled to δ = 1 after each layer (the map is unchanged, det M by the square
+    of the scale), so they stay finite for any number of layers.  Returns
+    j -> (α, β, γ, det M) with δ = 1 (arrays like ζ); j = 0 is the identity."""
+    al, be = np.ones_like(zeta), np.zeros_like(zeta)
+    ga, det = np.zeros_like(zeta), np.ones_like(zeta)
+    out = {}
+    last = max(upto, default=0)
+    for jj in range(last + 1):
+        if jj in upto:
+            out[jj] = (al, be, ga, det)
+        if jj == last:
+            break
+        c = ks[jj] / ks[jj + 1]
+        th = np.tanh(zeta * ts[jj])
+        ct = c * th
+        # [[α, β], [γ, 1]]·[[c, T], [cT, 1]], then divided by its new δ = γT + 1
+        s = 1.0 / (ga * th + 1.0)
+        al, be, ga = (al + be * th) * c * s, (al * th + be) * s, (ga + th) * c * s
+        det = det * (c * (1.0 - th * th)) * s * s
+    return out
+
+
 def circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = None
                            ) -> tuple[np.ndarray, np.ndarray]:
     """Cached front of :func:`_circular_depth_profile` (same arguments and results; the
@@ -522,7 +558,10 @@ def _circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = 
 
     φ_j = tanh(δ(z − z_j)) in the cut layer, φ_j' = δ·(1 − φ_j²), and upwards
     φ_i = (T + r)/(1 + rT), r = (k_i/k_{i+1})φ_{i+1}, T = tanh(δt_i), so
-    dφ_i/dz = (k_i/k_{i+1})·(1 − T²)/(1 + rT)²·dφ_{i+1}/dz.
+    dφ_i/dz = (k_i/k_{i+1})·(1 − T²)/(1 + rT)²·dφ_{i+1}/dz.  The layers above the cut
+    are one linear fractional map per mode (:func:`_compose_down`), composed once for all
+    depths in layer j; a mode with δ(z − z_j) ≥ 20 has φ_j = 1 to the last bit and
+    φ_j' = 0, so only the modes below that are evaluated depth by depth.
 
     R(z) is the resistance the stack down to z puts between the source and a plane at z;
     A_eff(z) = 1/(k(z)·dR/dz) is the area of a 1-D path with the same resistance per unit
@@ -566,22 +605,50 @@ def _circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = 
     fac, zq = _tail_factor(a, b, n)
     dd = np.concatenate([d, zq])
     ww = np.concatenate([w, fac * _TAIL_W])
-    rows = max(1, _CHUNK // dd.size)
-    for j in range(ks.size):
+    order = np.argsort(dd, kind="stable")   # modes by wavenumber (the tail is descending)
+    dd, ww = dd[order], ww[order]
+    cuts = np.unique(j_of).tolist()
+    maps = _compose_down(dd, ks, ts, cuts)
+    for j in cuts:
         idx = np.flatnonzero(j_of == j)
-        for s in range(0, idx.size, rows):
-            sel = idx[s:s + rows]
-            p = np.tanh(dd[None, :] * (zf[sel, None] - zb[j]))
-            dp = dd[None, :] * (1.0 - p * p)
-            for i in range(j - 1, -1, -1):
-                ratio = ks[i] / ks[i + 1]
-                r = ratio * p
-                th = np.tanh(dd * ts[i])[None, :]
-                den = 1.0 + r * th
-                dp = dp * ratio * (1.0 - th * th) / (den * den)
-                p = (th + r) / den
-            R[sel] = p @ ww / ks[0]
-            dR[sel] = dp @ ww / ks[0]
+        # the layers above the cut as one map per mode: φ_1 = (α·φ_j + β)/(γ·φ_j + 1),
+        # dφ_1/dz = det·δ(1 − φ_j²)/(γ·φ_j + 1)²
+        al, be, ga, det = maps[j]
+        ddet = dd * det
+        p_sat = (al + be) / (ga + 1.0)         # every mode with tanh(δ(z − z_j)) = 1
+        x = zf[idx] - zb[j]
+        # a mode with δ·(z − z_j) ≥ _TANH_ONE has tanh = 1 exactly and dφ_j/dz = 0: only
+        # the first `live` modes are evaluated at each depth; depths are grouped by their
+        # number of live modes rounded up to a power of two
+        lim = np.full(x.shape, np.inf)
+        np.divide(_TANH_ONE, x, out=lim, where=x > 0)
+        live = np.maximum(np.searchsorted(dd, lim, side="left"), 1)
+        group = np.minimum(2 ** np.ceil(np.log2(live)).astype(int), dd.size)
+        for g in np.unique(group).tolist():
+            sel_g = idx[group == g]
+            rows = max(1, _CACHE_BLOCK // g)
+            for s in range(0, sel_g.size, rows):
+                sel = sel_g[s:s + rows]
+                p = np.empty((sel.size, dd.size))
+                dp = np.empty((sel.size, dd.size))
+                pl, dpl = p[:, :g], dp[:, :g]
+                pj = np.multiply(dd[:g], (zf[sel] - zb[j])[:, None])
+                np.tanh(pj, out=pj)
+                inv = np.multiply(ga[:g], pj)
+                inv += 1.0
+                np.reciprocal(inv, out=inv)
+                np.multiply(al[:g], pj, out=pl)
+                pl += be[:g]
+                pl *= inv
+                np.multiply(pj, pj, out=dpl)
+                np.subtract(1.0, dpl, out=dpl)
+                dpl *= ddet[:g]
+                inv *= inv
+                dpl *= inv
+                p[:, g:] = p_sat[g:]
+                dp[:, g:] = 0.0
+                R[sel] = p @ ww / ks[0]
+                dR[sel] = dp @ ww / ks[0]
     return (R + one_d).reshape(z.shape), (dR + one_d_slope).reshape(z.shape)
 
 
