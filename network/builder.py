@@ -66,7 +66,7 @@ import functools
 import math
 from dataclasses import dataclass, field
 from functools import cached_property
-from typing import Any, Mapping, Sequence
+from typing import Any, Callable, Mapping, Sequence
 
 import numpy as np
 
@@ -636,7 +636,9 @@ def build(assembly: Assembly, *, t_min: float = DEFAULT_T_MIN,
         profile = None
         if spreading == "calibrated":
             if reference == "series":
-                profile = depth_profile(segs, part.footprint, sink)
+                xis = _column_xis(segs, grade, t_min)
+                profile = depth_profile(segs, part.footprint, sink,
+                                        lambda pr: _profile_points(pr, segs, xis))
             if profile is None:
                 for s in segs:
                     s.cap_angle = s.angle
@@ -676,6 +678,13 @@ def _via_field(seg: _Seg) -> tuple[float, float] | None:
     return (seg.k_via * (1.0 - seg.element.void_fraction), seg.via_area)
 
 
+def _column_xis(segs: list[_Seg], grade: Grading, t_min: float) -> list[np.ndarray]:
+    """Sub-layer faces of a column's elements (:func:`sublayer_edges`; first sub-layer
+    ``grade.first``·√t_min in the diffusion coordinate)."""
+    s_len = [s.thickness / math.sqrt(s.alpha) if s.thickness > 0 else 0.0 for s in segs]
+    return sublayer_edges(s_len, grade.first * math.sqrt(t_min), grade.growth)
+
+
 def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min: float,
                   sink, sink_node: str, merge: bool, nonlinear: bool,
                   node_map: dict, board_faces: dict,
@@ -684,8 +693,10 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
     junction = part.junction
     top = f"{p}.case" if part.datasheet else junction
     w, l = part.footprint
-    s_len = [s.thickness / math.sqrt(s.alpha) if s.thickness > 0 else 0.0 for s in segs]
-    xis = sublayer_edges(s_len, grade.first * math.sqrt(t_min), grade.growth)
+    xis = _column_xis(segs, grade, t_min)
+    # profile mode: the profile read at every depth the ladder needs, in one evaluation
+    # (:func:`_profile_points`, in element order)
+    reads = iter(profile.readings) if profile is not None and profile.readings else None
     layers: list[LayerInfo] = []
 
     if not segs:
@@ -729,7 +740,8 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
             r = seg.element.r_area / (w * l)
             if profile is not None:
                 zv0 = profile.top[si]
-                rr, _ = profile(np.array([zv0, zv0 + profile.ts[si]]))
+                rr, _ = next(reads) if reads is not None else profile(
+                    np.array([zv0, zv0 + profile.ts[si]]))
                 r = float(rr[1] - rr[0])
             nl.connect(current, name, 1.0 / r)
             faces.append(name)
@@ -746,8 +758,9 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
         R_layer, C_layer = 0.0, 0.0
         z = xi * t
         if profile is not None:
+            at = (next(reads), next(reads)) if reads is not None else None
             pg, pct, pcb, pA = _profile_sublayers(profile, seg, profile.top[si], z, via,
-                                                  profile.ts[si] / t)
+                                                  profile.ts[si] / t, at)
             if via is not None:
                 # never above a 1-D column of the footprint through the layer (a field
                 # smaller than the part: the flow area of the via-filled series can be
@@ -1035,6 +1048,7 @@ class _Profile:
     r_stack: float            # the ladder's resistance at the column's bottom face, K/W
     runs: list[_Run] = field(default_factory=list)
     _cross_tab: dict = field(default_factory=dict, repr=False)
+    readings: list = field(default_factory=list, repr=False)  # see :func:`depth_profile`
 
     def run_of(self, j: int) -> _Run:
         """The run element ``j`` belongs to."""
@@ -1071,11 +1085,11 @@ class _Profile:
                 [faces, 0.5 * (faces[:-1] + faces[1:])]))
             vals = np.zeros(zq.size)
             if nxt.b > run.b * (1 + 1e-9):
-                for q in range(0 if m > j + 1 else 1, zq.size):
-                    depth = cut.z0 + zq[q] - run.z0
-                    ks, ts = _truncate(self.ks[run.first:], self.ts[run.first:], depth)
-                    vals[q] = _cross_term(run.a, run.b, nxt.b, ks, ts,
-                                          run.last + 1 - run.first, math.inf)
+                qs = range(0 if m > j + 1 else 1, zq.size)
+                stacks = [_truncate(self.ks[run.first:], self.ts[run.first:],
+                                    cut.z0 + zq[q] - run.z0) for q in qs]
+                vals[qs.start:] = _cross_terms(run.a, run.b, nxt.b, stacks,
+                                               run.last + 1 - run.first, math.inf)
             self._cross_tab[key] = (zq, vals)
         zq, vals = self._cross_tab[key]
         zc = np.clip(z, zq[0], zq[-1])
@@ -1101,6 +1115,12 @@ class _Profile:
         bottoms = np.array([r.z0 + sum(r.ts) for r in self.runs])
         idx = np.minimum(np.searchsorted(bottoms, zv * (1 - 1e-12), side="left"),
                          len(self.runs) - 1)
+        # run j's spreading part at every depth below run j, in one series evaluation
+        below = []
+        for j, up in enumerate(self.runs[:-1]):
+            deeper = idx > j
+            below.append((deeper, *self._sp_merged(j, np.maximum(zv[deeper] - up.z0, 1e-300))
+                           ) if np.any(deeper) else None)
         for m, run in enumerate(self.runs):
             sel = idx == m
             if not np.any(sel):
@@ -1109,7 +1129,9 @@ class _Profile:
             Rl, dRl = run.local(z)
             for j in range(m):
                 up = self.runs[j]
-                sp, dsp = self._sp_merged(j, np.maximum(zv[sel] - up.z0, 1e-300))
+                deeper, sp_j, dsp_j = below[j]
+                pick = sel[deeper]
+                sp, dsp = sp_j[pick], dsp_j[pick]
                 x, dx = self._cross(j, m, z)
                 Rl = Rl + up.r_1d + sp + x
                 dRl = dRl + dsp + dx
@@ -1121,6 +1143,13 @@ class _Profile:
             dR[sel] = np.maximum(dRl, 1.0 / (k_at * math.pi * run.b * run.b))
             R[sel] = Rl
         return R, dR
+
+    def read(self, sets: Sequence[np.ndarray]) -> list[tuple[np.ndarray, np.ndarray]]:
+        """:meth:`__call__` at several sets of depths in one evaluation (the series are
+        summed once for all of them); one (R, dR/dz) pair per set."""
+        R, dR = self(np.concatenate([np.ravel(x) for x in sets]))
+        ends = np.cumsum([np.size(x) for x in sets])[:-1]
+        return list(zip(np.split(R, ends), np.split(dR, ends)))
 
     def path(self, area: float, w0: float, l0: float,
              plate: tuple[float, float] | None = None) -> tuple[float, float]:
@@ -1220,12 +1249,14 @@ def _transfer(zeta: np.ndarray, ks: Sequence[float], ts: Sequence[float]) -> np.
         q_b/q_t = 1/[cosh(ζt_i) + (k_i/k_{i+1})·φ_{i+1}·sinh(ζt_i)]
 
     (the last layer: 1/cosh(ζt); written with e^{−ζt} to stay finite)."""
-    from .spreading import layer_phi
+    from .spreading import _phi
+    ks = np.asarray(ks, dtype=float)
+    ts = np.asarray(ts, dtype=float)
     out = np.ones_like(zeta)
     for i in range(len(ks)):
         if i + 1 < len(ks):
             ratio = ks[i] / ks[i + 1]
-            phi = layer_phi(zeta, ks[i + 1:], ts[i + 1:], math.inf)
+            phi = _phi(zeta, ks[i + 1:], ts[i + 1:], math.inf)
         else:
             ratio, phi = 0.0, np.zeros_like(zeta)
         e = np.exp(-2.0 * zeta * ts[i])
@@ -1242,28 +1273,48 @@ _COUPLED_WIDE_MAX = 4096
 
 def _cross_term(a: float, b: float, b2: float, ks: Sequence[float], ts: Sequence[float],
                 n_run: int, h: float, n_up: int | None = None) -> float:
-    """Cached :func:`_cross_term_uncached` (a pure function of its numbers): sweeps that
-    vary power, timing or the sink rebuild the same columns, and this series is the costly
-    part of a calibrated build."""
+    """:func:`_cross_term_uncached` through the cache of :func:`_cross_terms` (one stack)."""
+    return float(_cross_terms(a, b, b2, [(ks, ts)], n_run, h, n_up)[0])
+
+
+def _cross_terms(a: float, b: float, b2: float,
+                 stacks: Sequence[tuple[Sequence[float], Sequence[float]]], n_run: int,
+                 h: float, n_up: int | None = None) -> np.ndarray:
+    """:func:`_cross_term_uncached` for several stacks ``(ks, ts)`` that share the run (their
+    first ``n_run`` layers) and differ below it (the column cut at several depths), cached
+    as a pure function of its numbers: sweeps that vary power, timing or the sink rebuild
+    the same columns, and this series is the costly part of a calibrated build.  Returns a
+    fresh array, one value per stack."""
     if n_up is None:
         n_up = _COUPLED_MODES
-    return _cross_term_cached(float(a), float(b), float(b2), tuple(map(float, ks)),
-                              tuple(map(float, ts)), int(n_run), float(h), int(n_up))
+    key = tuple((tuple(map(float, k)), tuple(map(float, t))) for k, t in stacks)
+    return np.array(_cross_terms_cached(float(a), float(b), float(b2), key, int(n_run),
+                                        float(h), int(n_up)))
 
 
-@functools.lru_cache(maxsize=4096)
-def _cross_term_cached(a, b, b2, ks, ts, n_run, h, n_up) -> float:
-    return _cross_term_uncached(a, b, b2, ks, ts, n_run, h, n_up)
+@functools.lru_cache(maxsize=1024)
+def _cross_terms_cached(a, b, b2, stacks, n_run, h, n_up) -> tuple[float, ...]:
+    return tuple(_cross_terms_uncached(a, b, b2, stacks, n_run, h, n_up))
 
 
 def _cross_term_uncached(a: float, b: float, b2: float, ks: Sequence[float],
                          ts: Sequence[float], n_run: int, h: float,
                          n_up: int = _COUPLED_MODES) -> float:
+    """Coupling of a narrow run and the wider region below it, K/W: one stack of
+    :func:`_cross_terms_uncached` (the equations are there)."""
+    return _cross_terms_uncached(a, b, b2, [(ks, ts)], n_run, h, n_up)[0]
+
+
+def _cross_terms_uncached(a: float, b: float, b2: float,
+                          stacks: Sequence[tuple[Sequence[float], Sequence[float]]],
+                          n_run: int, h: float, n_up: int = _COUPLED_MODES) -> list[float]:
     """Coupling of a narrow run (radius ``b``, its ``n_run`` layers at the head of ``ks``,
     ``ts``) and the wider region below it (radius ``b2``, the remaining layers over the
     film ``h``): the exact mean source rise minus the modal split of :func:`depth_profile`,
     K/W (negative when the run carries heat to its rim, where the wider layers take it
-    up: a flange on a board).
+    up: a flange on a board); one value for each stack ``(ks, ts)`` of ``stacks``, which
+    must share their first ``n_run`` layers (the parts of the run alone are computed
+    once).
 
     Interface r < b between the run and the region below, solved in the run's modes
     J0(δ_n r), δ_n = λ_n/b (λ_0 = 0, λ_n the roots of J1), n = 0 ... N:
@@ -1291,18 +1342,12 @@ def _cross_term_uncached(a: float, b: float, b2: float, ks: Sequence[float],
     :mod:`pulsetherm.network.axisym` (tests/test_ladder_vs_rz.py): a flange of 0.1-3 mm
     on a board, split +11 to +21 %, coupled within 0.3 % of the refined mesh.
     """
-    from .spreading import layer_phi
-    ks = np.asarray(ks, dtype=float)
-    ts = np.asarray(ts, dtype=float)
-    kr, tr, kl, tl = ks[:n_run], ts[:n_run], ks[n_run:], ts[n_run:]
-    if kl.size == 0:
-        return 0.0
+    from .spreading import _phi
+    k0 = np.asarray(stacks[0][0], dtype=float)
+    t0 = np.asarray(stacks[0][1], dtype=float)
+    kr, tr = k0[:n_run], t0[:n_run]
     d, d2, j0lam, inv_n, I, inv_k = _cross_kernel(b, b2, n_up)
     N = d.size
-    Zk = layer_phi(d2, kl, tl, h) / (kl[0] * d2)
-    G = I.T @ (I * (Zk * inv_k)[:, None])
-    z0 = float(np.sum(tl / kl)) + (0.0 if math.isinf(h) else 1.0 / h)
-    G[0, 0] += z0 * (0.5 * b * b) ** 2 / (0.5 * b2 * b2)
     A0 = 1.0 / (math.pi * b * b)
     if a < b * (1 - 1e-12):
         from scipy.special import j1 as J1
@@ -1312,18 +1357,32 @@ def _cross_term_uncached(a: float, b: float, b2: float, ks: Sequence[float],
     else:
         A = np.zeros(N)
         s = np.zeros(N)
+    # the run alone: the same for every stack
     T = _transfer(d, kr, tr)
-    Zu = layer_phi(d, kr, tr, math.inf) / (kr[0] * d)
+    Zu = _phi(d, kr, tr, math.inf) / (kr[0] * d)
     D = 1.0 / (_admittance_up(d, kr, tr) * inv_n)
-    M = G[1:, 1:] + np.diag(D)
-    c = np.linalg.solve(M, D * T * A - G[1:, 0] * A0)
-    theta = (G[1:, 0] * A0 + G[1:, 1:] @ c) * inv_n
-    r_coupled = float((G[0, 0] * A0 + G[0, 1:] @ c) / (0.5 * b * b)
-                      + np.sum(tr / kr) * A0 + np.sum((T * theta + Zu * A) * s))
-    phi_all = layer_phi(d, ks, ts, h) / (ks[0] * d)
-    r_split = float(G[0, 0] * A0 / (0.5 * b * b) + np.sum(tr / kr) * A0
-                    + np.sum(A * s * phi_all))
-    return r_coupled - r_split
+    r_run = np.sum(tr / kr) * A0
+    out = []
+    for ks, ts in stacks:
+        ks = np.asarray(ks, dtype=float)
+        ts = np.asarray(ts, dtype=float)
+        kl, tl = ks[n_run:], ts[n_run:]
+        if kl.size == 0:
+            out.append(0.0)
+            continue
+        Zk = _phi(d2, kl, tl, h) / (kl[0] * d2)
+        G = I.T @ (I * (Zk * inv_k)[:, None])
+        z0 = float(np.sum(tl / kl)) + (0.0 if math.isinf(h) else 1.0 / h)
+        G[0, 0] += z0 * (0.5 * b * b) ** 2 / (0.5 * b2 * b2)
+        M = G[1:, 1:] + np.diag(D)
+        c = np.linalg.solve(M, D * T * A - G[1:, 0] * A0)
+        theta = (G[1:, 0] * A0 + G[1:, 1:] @ c) * inv_n
+        r_coupled = float((G[0, 0] * A0 + G[0, 1:] @ c) / (0.5 * b * b)
+                          + r_run + np.sum((T * theta + Zu * A) * s))
+        phi_all = _phi(d, ks, ts, h) / (ks[0] * d)
+        r_split = float(G[0, 0] * A0 / (0.5 * b * b) + r_run + np.sum(A * s * phi_all))
+        out.append(r_coupled - r_split)
+    return out
 
 
 @functools.lru_cache(maxsize=8)
@@ -1362,8 +1421,14 @@ def _cross_kernel(b: float, b2: float, n_up: int):
     return out
 
 
-def depth_profile(segs: list[_Seg], footprint: tuple[float, float], sink) -> _Profile | None:
+def depth_profile(segs: list[_Seg], footprint: tuple[float, float], sink,
+                  points: Callable[[_Profile], list[np.ndarray]] | None = None
+                  ) -> _Profile | None:
     """The exact steady spreading of a column as a function of depth, run by run.
+
+    ``points(profile)``: more sets of virtual depths to read the profile at, in the same
+    evaluation as the column's bottom face (:meth:`_Profile.read`); the readings are left
+    in ``profile.readings``, one (R, dR/dz) pair per set.
 
     The column is split, top to bottom, into *runs* of consecutive elements of one lateral
     size (die → flange → board; a layer with no size takes the nearest sized layer below,
@@ -1485,7 +1550,10 @@ def depth_profile(segs: list[_Seg], footprint: tuple[float, float], sink) -> _Pr
     for run in runs:
         run.r_1d = sum(t / k for k, t in zip(run.ks, run.ts)) / (math.pi * run.b * run.b)
     prof = _Profile(runs[0].a, runs[0].b, ks, ts, top, runs[-1].plate, totals[0], 0.0, runs)
-    prof.r_stack = float(prof(np.array([sum(ts)]))[0][0])
+    sets = [np.array([sum(ts)])] + (points(prof) if points is not None else [])
+    readings = prof.read(sets)
+    prof.r_stack = float(readings[0][0][0])
+    prof.readings = readings[1:]
     return prof
 
 
@@ -1522,8 +1590,36 @@ def _equivalent_angle(r_layer: float, t: float, w: float, l: float, seg: _Seg) -
     return float(brentq(f, 0.0, 89.0, xtol=1e-4))
 
 
+def _gauss6(z: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """6-point Gauss-Legendre nodes and weights on each sub-layer [z_i, z_{i+1}], shape
+    (n, 6)."""
+    zq = 0.5 * (z[:-1, None] + z[1:, None]) + 0.5 * (z[1:, None] - z[:-1, None]) * _GL6_X
+    wq = 0.5 * (z[1:, None] - z[:-1, None]) * _GL6_W
+    return zq, wq
+
+
+def _profile_points(prof: _Profile, segs: list[_Seg], xis: list[np.ndarray]
+                    ) -> list[np.ndarray]:
+    """The virtual depths at which the ladder reads the profile, element by element: the
+    two faces of an area resistance; a layer's sub-layer faces and then their Gauss
+    points (as :func:`_profile_sublayers` asks for them)."""
+    out = []
+    for si, (seg, xi) in enumerate(zip(segs, xis)):
+        zv0 = prof.top[si]
+        if isinstance(seg.element, AreaResistance):
+            out.append(np.array([zv0, zv0 + prof.ts[si]]))
+            continue
+        t = seg.thickness
+        z = xi * t
+        scale = prof.ts[si] / t
+        out.append(zv0 + scale * z)
+        out.append(zv0 + scale * _gauss6(z)[0].ravel())
+    return out
+
+
 def _profile_sublayers(prof: _Profile, seg: _Seg, zv0: float, z: np.ndarray,
-                       via: tuple[float, float] | None, scale: float = 1.0
+                       via: tuple[float, float] | None, scale: float = 1.0,
+                       at: tuple | None = None
                        ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """Conductances, top/bottom capacities and face areas of a layer's sub-layers on the
     equivalent flow area A_eff(z) = 1/(k·dR/dz) of the exact depth profile (k the layer's
@@ -1542,12 +1638,15 @@ def _profile_sublayers(prof: _Profile, seg: _Seg, zv0: float, z: np.ndarray,
         G = 1/∫ dR/dz · k_v·A/(k·A + (k_v − k)·min(A, A_v)) dz
 
     (never above 1/ΔR: the finite field only takes conduction away).
+
+    ``at``: the profile already read at the faces and at the Gauss points
+    (``((R, dR) at the faces, (R, dR) at the points)``, :func:`_profile_points`).
     """
     n = len(z) - 1
-    zq = 0.5 * (z[:-1, None] + z[1:, None]) + 0.5 * (z[1:, None] - z[:-1, None]) * _GL6_X
-    wq = 0.5 * (z[1:, None] - z[:-1, None]) * _GL6_W
-    Rf, dRf = prof(zv0 + scale * z)
-    _, dRq = prof(zv0 + scale * zq.ravel())
+    zq, wq = _gauss6(z)
+    if at is None:
+        at = (prof(zv0 + scale * z), prof(zv0 + scale * zq.ravel()))
+    (Rf, dRf), (_, dRq) = at
     dRq = scale * dRq.reshape(n, -1)
     dRf = scale * dRf
     k = seg.k_eff if via is None else via[0]

@@ -99,3 +99,25 @@ def test_copper_plane_on_laminate_spreads_like_a_fin(src):
     assert r == pytest.approx(fin, rel=0.25)
     rz = build_axisym(_plane(src), t_min=1e-4, radial_cells=8).steady_resistance()
     assert r == pytest.approx(rz, rel=0.10)
+
+
+def test_cross_terms_batched_equal_one_at_a_time():
+    """The coupling term of one run over several cut depths (builder._cross_terms, the run
+    alone computed once) equals the term of each stack computed alone, to the last bit
+    (common practice, no source)."""
+    from pulsetherm.network.builder import _cross_terms_uncached
+    rng = np.random.default_rng(3)
+    for _ in range(6):
+        run_k = list(10 ** rng.uniform(0, 2.6, 2))
+        run_t = list(10 ** rng.uniform(-4.5, -3, 2))
+        below_k = list(10 ** rng.uniform(-0.5, 2.6, 3))
+        below_t = list(10 ** rng.uniform(-4.5, -3, 3))
+        stacks = [(run_k + below_k[:m], run_t + below_t[:m - 1] + [below_t[m - 1] * f])
+                  for m in (1, 2, 3) for f in (0.3, 1.0)]
+        b = float(rng.uniform(1e-3, 3e-3))
+        b2 = b * float(rng.uniform(1.5, 5.0))
+        a = b * float(rng.uniform(0.2, 0.9))
+        batch = _cross_terms_uncached(a, b, b2, stacks, 2, math.inf)
+        alone = [_cross_terms_uncached(a, b, b2, [s], 2, math.inf)[0] for s in stacks]
+        assert batch == alone
+        assert all(math.isfinite(x) for x in batch)
