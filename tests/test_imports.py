@@ -66,10 +66,11 @@ def test_guard_sees_an_import():
 
 
 #: Project modules only other commands or other scenarios need: ``zth`` (impedance), data-sheet
-#: Foster devices (foster), ``[devices.rf]`` / ``[devices.cycling]`` (device_effects).  Each
-#: costs ~0.5-1.5 ms of import per ``run`` (common practice, no source).
+#: Foster devices (foster), ``[devices.rf]`` / ``[devices.cycling]`` (device_effects), and
+#: ``fractions`` (with ``decimal``: waveforms of unequal periods).  Each costs ~0.5-1.5 ms of
+#: import per ``run`` (common practice, no source).
 ONLY_FOR_OTHERS = ("pulsetherm.network.impedance", "pulsetherm.network.foster",
-                   "pulsetherm.network.device_effects")
+                   "pulsetherm.network.device_effects", "fractions")
 
 
 def test_run_of_a_die_stack_imports_only_what_it_needs():

@@ -239,6 +239,22 @@ def test_replace_keeps_period():
     assert "prf" not in repr(tr)
 
 
+def test_common_period_of_equal_periods_is_that_period():
+    """Equal periods skip the fraction search (it costs an import per run) and give what it
+    gives; unequal or odd ones still go through it (common practice, no source)."""
+    from pulsetherm.waveforms.canonical import MAX_PERIOD_MULTIPLE, common_period
+
+    for p in (1e-3, 0.2, 1.7e-7, 3.3e5, 1e-300):
+        assert common_period([p]) == p and common_period([p, p, p]) == p
+    assert common_period([1e-3, 0.5e-3]) == 1e-3
+    assert common_period([2e-3, 3e-3]) == pytest.approx(6e-3, rel=1e-15)
+    with pytest.raises(WaveformError):
+        common_period([1.0, 1.0 / (MAX_PERIOD_MULTIPLE + 0.5)])
+    for bad in ([-1.0], [-1.0, -1.0]):               # refused as before (no positive period)
+        with pytest.raises(WaveformError):
+            common_period(bad)
+
+
 # -- algebra --------------------------------------------------------------------------------
 def test_sum_common_period_and_average():
     """Sums over the common period: mean(a + b) = mean(a) + mean(b) (linearity of the
