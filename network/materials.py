@@ -15,7 +15,6 @@ import functools
 import math
 import tomllib
 from dataclasses import asdict, dataclass, fields, replace
-from importlib import resources
 from os import PathLike
 from pathlib import Path
 from typing import Any, Iterable, Iterator, Mapping
@@ -242,8 +241,9 @@ def _with_unit(name: str, key: str, value: Any) -> float:
 
 @functools.lru_cache(maxsize=1)
 def _default_materials() -> tuple[Material, ...]:
-    text = resources.files(__name__.rpartition(".")[0]).joinpath("materials.toml").read_text(
-        encoding="utf-8")
+    # the file beside this module (package data), read directly: importlib.resources.files
+    # took ~0.5 ms of every run for the same text
+    text = Path(__file__).with_name("materials.toml").read_text(encoding="utf-8")
     data = tomllib.loads(text)
     return tuple(Material.from_dict(name, entry) for name, entry in data.items())
 
