@@ -106,8 +106,12 @@ class ScenarioError(ValueError):
 # ======================================================================================
 # Finding the line of a key path in TOML text
 # ======================================================================================
-_HEADER = re.compile(r"^\s*(\[\[?)([^\]]*)\]\]?\s*(#.*)?$")   # linear: no lazy group
-_KEYVAL = re.compile(r"""^\s*((?:[A-Za-z0-9_\-]+|"[^"]*"|'[^']*')(?:\s*\.\s*(?:[A-Za-z0-9_\-]+|"[^"]*"|'[^']*'))*)\s*=""")
+@functools.lru_cache(maxsize=None)
+def _line_patterns() -> tuple[re.Pattern, re.Pattern]:
+    """(table header, ``key =``) patterns of :func:`_key_lines`, compiled on first use: only
+    an error's line is looked up, and compiling them took ~0.5 ms of every import."""
+    return (re.compile(r"^\s*(\[\[?)([^\]]*)\]\]?\s*(#.*)?$"),   # linear: no lazy group
+            re.compile(r"""^\s*((?:[A-Za-z0-9_\-]+|"[^"]*"|'[^']*')(?:\s*\.\s*(?:[A-Za-z0-9_\-]+|"[^"]*"|'[^']*'))*)\s*="""))
 
 
 def _split_dotted(key: str) -> list[str]:
@@ -134,6 +138,7 @@ def _key_lines(text: str) -> dict[str, int]:
     inside inline tables and multi-line arrays are not indexed (the caller falls back to
     the nearest enclosing key).
     """
+    header, keyval = _line_patterns()
     found: dict[str, int] = {}
     counts: dict[str, int] = {}
     prefix: list[str] = []
@@ -147,8 +152,8 @@ def _key_lines(text: str) -> dict[str, int]:
             continue
         if not line or line.startswith("#"):
             continue
-        mh = _HEADER.match(line)
-        if mh and not _KEYVAL.match(line):
+        mh = header.match(line)
+        if mh and not keyval.match(line):
             parts = _split_dotted(mh.group(2))
             # resolve every parent against the arrays of tables met so far
             resolved: list[str] = []
@@ -169,7 +174,7 @@ def _key_lines(text: str) -> dict[str, int]:
             prefix = resolved
             found.setdefault(_norm(".".join(prefix)), no)
             continue
-        mk = _KEYVAL.match(line)
+        mk = keyval.match(line)
         if mk:
             full = prefix + _split_dotted(mk.group(1))
             found.setdefault(_norm(".".join(full)), no)
@@ -904,6 +909,8 @@ class LayerSpec(_Section):
 
 @dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
 class BoardSpec(_Section):
+    """The circuit board: its size and its layers, top first."""
+
     _what = "board"
     size: tuple = _f("qpair", kind="length", required=True)
     layers: tuple = _f("list", cls=LayerSpec, required=True)
@@ -946,6 +953,8 @@ class SinkSpec(_Section):
 
 @dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
 class MountSpec(_Section):
+    """How the board meets the sink: interface layers (grease, pad) and the sink."""
+
     _what = "mount"
     interface: tuple | None = _f("list", cls=LayerSpec)
     sink: SinkSpec = _f("section", cls=SinkSpec, required=True)
@@ -1112,6 +1121,8 @@ class HeaterSpec(_Section):
 
 @dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
 class ProbeSpec(_Section):
+    """A named node whose temperature is reported, with an optional limit."""
+
     _what = "probe"
     name: str = _f("str", required=True)
     node: str | None = _f("str", doc="node name (default: the probe name)")
