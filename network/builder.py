@@ -304,7 +304,12 @@ class NodeInfo:
 
 @dataclass(frozen=True)
 class LayerInfo:
-    """One layer of a column after discretisation."""
+    """One layer of a column after discretisation.
+
+    The spreading half-angle (:attr:`angle`) is given as a number, or, for a calibrated
+    layer, as a function that finds it (the equivalent frustum, a root search that a
+    sweep row never reads): it runs on first access, once.  Equality ignores the angle
+    (it follows from the layer's resistance, thickness and areas)."""
 
     part: str
     name: str
@@ -314,10 +319,19 @@ class LayerInfo:
     nodes: tuple[str, ...]     # face nodes, top first (shared with the neighbours)
     resistance: float          # K/W along the path through this layer
     capacity: float            # J/K stored in this layer
-    angle: float | None        # spreading half-angle used, degrees
+    _angle: float | None | Callable[[], float] = field(compare=False)  # see angle
     area_top: float            # m²
     area_bottom: float         # m²
     limit_C: float | None      # material limit, degC
+
+    @property
+    def angle(self) -> float | None:
+        """Spreading half-angle used, degrees (None where nothing spreads)."""
+        a = self._angle
+        if callable(a):
+            a = a()
+            object.__setattr__(self, "_angle", a)
+        return a
 
     @property
     def time_constant(self) -> float:
@@ -800,7 +814,7 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
             current = name
         if profile is not None:
             w_new, l_new = profile.path(float(pA[-1]), w0, l0, profile.run_of(si).plate)
-            seg.angle = _equivalent_angle(R_layer, t, w, l, seg)
+            seg.angle = functools.partial(_equivalent_angle, R_layer, t, w, l, seg)
         else:
             w_new, l_new = path_size(t, w, l, tan, seg.cap)
         wc, lc = path_size(t, wc, lc, tan_c, seg.cap)
@@ -1018,15 +1032,18 @@ class _Run:
     r_cut: float = 0.0         # R of the run alone over an isothermal plane at its bottom
     cross: float = 0.0         # coupling with the wider run below (:func:`_cross_term`)
 
-    def local(self, z: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """R and dR/dz of the run alone, cut at local depths ``z`` (0 < z ≤ Σt, or 0)."""
+    def local(self, z: np.ndarray, slope_only: np.ndarray | None = None
+              ) -> tuple[np.ndarray, np.ndarray]:
+        """R and dR/dz of the run alone, cut at local depths ``z`` (0 < z ≤ Σt, or 0);
+        where ``slope_only`` is true R may be NaN (not summed)."""
         from .spreading import circular_depth_profile
         R = np.zeros(z.shape)
         dR = np.full(z.shape, 1.0 / (self.ks[0] * math.pi * self.a * self.a))
         pos = z > 0
         if np.any(pos):
-            R[pos], dR[pos] = circular_depth_profile(self.a, self.b, self.ks, self.ts,
-                                                     np.minimum(z[pos], sum(self.ts)))
+            R[pos], dR[pos] = circular_depth_profile(
+                self.a, self.b, self.ks, self.ts, np.minimum(z[pos], sum(self.ts)),
+                slope_only=None if slope_only is None else slope_only[pos])
         return R, dR
 
 
@@ -1054,15 +1071,17 @@ class _Profile:
         """The run element ``j`` belongs to."""
         return next(r for r in self.runs if r.first <= j <= r.last)
 
-    def _sp_merged(self, j: int, d: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    def _sp_merged(self, j: int, d: np.ndarray, slope_only: np.ndarray | None = None
+                   ) -> tuple[np.ndarray, np.ndarray]:
         """Spreading part (total minus 1-D) of run j's source over the whole stack below it
-        taken at run j's radius, cut at depth ``d`` below the run's top; and its slope."""
+        taken at run j's radius, cut at depth ``d`` below the run's top; and its slope
+        (where ``slope_only`` is true the part itself may be NaN)."""
         from .spreading import circular_depth_profile
         run = self.runs[j]
         if run.a >= run.b * (1 - 1e-12):
             return np.zeros(d.shape), np.zeros(d.shape)
         ks, ts = self.ks[run.first:], self.ts[run.first:]
-        R, dR = circular_depth_profile(run.a, run.b, ks, ts, d)
+        R, dR = circular_depth_profile(run.a, run.b, ks, ts, d, slope_only=slope_only)
         zb = np.concatenate([[0.0], np.cumsum(ts)])
         cum = np.concatenate([[0.0], np.cumsum(np.array(ts) / np.array(ks))])
         i = np.minimum(np.searchsorted(zb, d, side="right") - 1, len(ks) - 1)
@@ -1097,7 +1116,8 @@ class _Profile:
         slope = (vals[i + 1] - vals[i]) / (zq[i + 1] - zq[i])
         return vals[i] + slope * (zc - zq[i]), slope
 
-    def __call__(self, zv: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    def __call__(self, zv: np.ndarray, slope_only: np.ndarray | None = None
+                 ) -> tuple[np.ndarray, np.ndarray]:
         """The ladder's cumulative resistance R(z) and dR/dz at virtual depths ``zv``
         (R(0) = 0): the column cut at z, every run above the cut complete, evaluated by the
         chain of :func:`depth_profile` over an isothermal cut plane.  For z in run m
@@ -1119,14 +1139,16 @@ class _Profile:
         below = []
         for j, up in enumerate(self.runs[:-1]):
             deeper = idx > j
-            below.append((deeper, *self._sp_merged(j, np.maximum(zv[deeper] - up.z0, 1e-300))
+            below.append((deeper, *self._sp_merged(
+                j, np.maximum(zv[deeper] - up.z0, 1e-300),
+                None if slope_only is None else slope_only[deeper])
                            ) if np.any(deeper) else None)
         for m, run in enumerate(self.runs):
             sel = idx == m
             if not np.any(sel):
                 continue
             z = np.maximum(zv[sel] - run.z0, 0.0)
-            Rl, dRl = run.local(z)
+            Rl, dRl = run.local(z, None if slope_only is None else slope_only[sel])
             for j in range(m):
                 up = self.runs[j]
                 deeper, sp_j, dsp_j = below[j]
@@ -1144,11 +1166,14 @@ class _Profile:
             R[sel] = Rl
         return R, dR
 
-    def read(self, sets: Sequence[np.ndarray]) -> list[tuple[np.ndarray, np.ndarray]]:
-        """:meth:`__call__` at several sets of depths in one evaluation (the series are
-        summed once for all of them); one (R, dR/dz) pair per set."""
-        R, dR = self(np.concatenate([np.ravel(x) for x in sets]))
-        ends = np.cumsum([np.size(x) for x in sets])[:-1]
+    def read(self, sets: Sequence[tuple[np.ndarray, bool]]
+             ) -> list[tuple[np.ndarray, np.ndarray]]:
+        """:meth:`__call__` at several sets of depths ``(depths, slope_only)`` in one
+        evaluation (the series are summed once for all of them); one (R, dR/dz) pair per
+        set, R NaN in a set read for its slope only."""
+        R, dR = self(np.concatenate([np.ravel(x) for x, _ in sets]),
+                     np.concatenate([np.full(np.size(x), bool(so)) for x, so in sets]))
+        ends = np.cumsum([np.size(x) for x, _ in sets])[:-1]
         return list(zip(np.split(R, ends), np.split(dR, ends)))
 
     def path(self, area: float, w0: float, l0: float,
@@ -1422,13 +1447,13 @@ def _cross_kernel(b: float, b2: float, n_up: int):
 
 
 def depth_profile(segs: list[_Seg], footprint: tuple[float, float], sink,
-                  points: Callable[[_Profile], list[np.ndarray]] | None = None
+                  points: Callable[[_Profile], list[tuple[np.ndarray, bool]]] | None = None
                   ) -> _Profile | None:
     """The exact steady spreading of a column as a function of depth, run by run.
 
-    ``points(profile)``: more sets of virtual depths to read the profile at, in the same
-    evaluation as the column's bottom face (:meth:`_Profile.read`); the readings are left
-    in ``profile.readings``, one (R, dR/dz) pair per set.
+    ``points(profile)``: more sets of virtual depths ``(depths, slope_only)`` to read the
+    profile at, in the same evaluation as the column's bottom face (:meth:`_Profile.read`);
+    the readings are left in ``profile.readings``, one (R, dR/dz) pair per set.
 
     The column is split, top to bottom, into *runs* of consecutive elements of one lateral
     size (die → flange → board; a layer with no size takes the nearest sized layer below,
@@ -1550,7 +1575,7 @@ def depth_profile(segs: list[_Seg], footprint: tuple[float, float], sink,
     for run in runs:
         run.r_1d = sum(t / k for k, t in zip(run.ks, run.ts)) / (math.pi * run.b * run.b)
     prof = _Profile(runs[0].a, runs[0].b, ks, ts, top, runs[-1].plate, totals[0], 0.0, runs)
-    sets = [np.array([sum(ts)])] + (points(prof) if points is not None else [])
+    sets = [(np.array([sum(ts)]), False)] + (points(prof) if points is not None else [])
     readings = prof.read(sets)
     prof.r_stack = float(readings[0][0][0])
     prof.readings = readings[1:]
@@ -1599,21 +1624,22 @@ def _gauss6(z: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _profile_points(prof: _Profile, segs: list[_Seg], xis: list[np.ndarray]
-                    ) -> list[np.ndarray]:
-    """The virtual depths at which the ladder reads the profile, element by element: the
-    two faces of an area resistance; a layer's sub-layer faces and then their Gauss
-    points (as :func:`_profile_sublayers` asks for them)."""
+                    ) -> list[tuple[np.ndarray, bool]]:
+    """The virtual depths at which the ladder reads the profile, element by element, as
+    ``(depths, slope_only)``: the two faces of an area resistance; a layer's sub-layer
+    faces and then their Gauss points, where only the slope is used (as
+    :func:`_profile_sublayers` asks for them)."""
     out = []
     for si, (seg, xi) in enumerate(zip(segs, xis)):
         zv0 = prof.top[si]
         if isinstance(seg.element, AreaResistance):
-            out.append(np.array([zv0, zv0 + prof.ts[si]]))
+            out.append((np.array([zv0, zv0 + prof.ts[si]]), False))
             continue
         t = seg.thickness
         z = xi * t
         scale = prof.ts[si] / t
-        out.append(zv0 + scale * z)
-        out.append(zv0 + scale * _gauss6(z)[0].ravel())
+        out.append((zv0 + scale * z, False))
+        out.append((zv0 + scale * _gauss6(z)[0].ravel(), True))
     return out
 
 

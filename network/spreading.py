@@ -44,6 +44,7 @@ eccentric heat sources on rectangular flux channels", J. Electronic Packaging 12
 from __future__ import annotations
 
 import functools
+import itertools
 import math
 from dataclasses import dataclass
 from typing import Callable, Sequence
@@ -522,27 +523,30 @@ def _compose_down(zeta: np.ndarray, ks: np.ndarray, ts: np.ndarray, upto: Sequen
     return out
 
 
-def circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = None
-                           ) -> tuple[np.ndarray, np.ndarray]:
+def circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = None,
+                           slope_only=None) -> tuple[np.ndarray, np.ndarray]:
     """Cached front of :func:`_circular_depth_profile` (same arguments and results; the
     arrays returned are fresh copies).  Sweeps rebuild the same columns many times."""
     zz = np.asarray(z, dtype=np.float64)
+    so = None if slope_only is None else tuple(
+        np.broadcast_to(np.asarray(slope_only, dtype=bool), zz.shape).ravel().tolist())
     key = (float(a), float(b), tuple(np.atleast_1d(np.asarray(k, dtype=np.float64)).tolist()),
            tuple(np.atleast_1d(np.asarray(t, dtype=np.float64)).tolist()),
-           zz.shape, tuple(zz.ravel().tolist()), terms)
+           zz.shape, tuple(zz.ravel().tolist()), terms, so)
     R, dR = _depth_profile_cached(key)
     return R.copy(), dR.copy()
 
 
 @functools.lru_cache(maxsize=2048)
 def _depth_profile_cached(key):
-    a, b, k, t, shape, z, terms = key
+    a, b, k, t, shape, z, terms, so = key
     return _circular_depth_profile(a, b, list(k), list(t), np.array(z).reshape(shape),
-                                   terms=terms)
+                                   terms=terms,
+                                   slope_only=None if so is None else np.array(so, bool))
 
 
-def _circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = None
-                            ) -> tuple[np.ndarray, np.ndarray]:
+def _circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = None,
+                            slope_only=None) -> tuple[np.ndarray, np.ndarray]:
     """Mean source rise R(z) of the compound disk cut at depth z over an isothermal plane,
     and its depth derivative dR/dz.
 
@@ -577,6 +581,9 @@ def _circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = 
         Conductivities W/(m·K) and thicknesses m, top layer first.
     z
         Depths, m, in (0, Σt], any shape.
+    slope_only
+        Optional booleans like ``z``: where true only dR/dz is needed, and R may be
+        returned as NaN (the series for R is not summed there: quadrature points).
 
     Returns
     -------
@@ -605,6 +612,8 @@ def _circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = 
     fac, zq = _tail_factor(a, b, n)
     dd = np.concatenate([d, zq])
     ww = np.concatenate([w, fac * _TAIL_W])
+    so = (np.zeros(zf.size, bool) if slope_only is None
+          else np.broadcast_to(np.asarray(slope_only, dtype=bool), z.shape).ravel())
     order = np.argsort(dd, kind="stable")   # modes by wavenumber (the tail is descending)
     dd, ww = dd[order], ww[order]
     cuts = np.unique(j_of).tolist()
@@ -624,30 +633,34 @@ def _circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = 
         np.divide(_TANH_ONE, x, out=lim, where=x > 0)
         live = np.maximum(np.searchsorted(dd, lim, side="left"), 1)
         group = np.minimum(2 ** np.ceil(np.log2(live)).astype(int), dd.size)
-        for g in np.unique(group).tolist():
-            sel_g = idx[group == g]
+        for g, value in itertools.product(np.unique(group).tolist(), (True, False)):
+            sel_g = idx[(group == g) & (so[idx] != value)]
             rows = max(1, _CACHE_BLOCK // g)
             for s in range(0, sel_g.size, rows):
                 sel = sel_g[s:s + rows]
-                p = np.empty((sel.size, dd.size))
                 dp = np.empty((sel.size, dd.size))
-                pl, dpl = p[:, :g], dp[:, :g]
+                dpl = dp[:, :g]
                 pj = np.multiply(dd[:g], (zf[sel] - zb[j])[:, None])
                 np.tanh(pj, out=pj)
                 inv = np.multiply(ga[:g], pj)
                 inv += 1.0
                 np.reciprocal(inv, out=inv)
-                np.multiply(al[:g], pj, out=pl)
-                pl += be[:g]
-                pl *= inv
+                if value:
+                    p = np.empty((sel.size, dd.size))
+                    pl = p[:, :g]
+                    np.multiply(al[:g], pj, out=pl)
+                    pl += be[:g]
+                    pl *= inv
+                    p[:, g:] = p_sat[g:]
+                    R[sel] = p @ ww / ks[0]
+                else:
+                    R[sel] = np.nan
                 np.multiply(pj, pj, out=dpl)
                 np.subtract(1.0, dpl, out=dpl)
                 dpl *= ddet[:g]
                 inv *= inv
                 dpl *= inv
-                p[:, g:] = p_sat[g:]
                 dp[:, g:] = 0.0
-                R[sel] = p @ ww / ks[0]
                 dR[sel] = dp @ ww / ks[0]
     return (R + one_d).reshape(z.shape), (dR + one_d_slope).reshape(z.shape)
 

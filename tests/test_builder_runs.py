@@ -121,3 +121,18 @@ def test_cross_terms_batched_equal_one_at_a_time():
         alone = [_cross_terms_uncached(a, b, b2, [s], 2, math.inf)[0] for s in stacks]
         assert batch == alone
         assert all(math.isfinite(x) for x in batch)
+
+
+def test_calibrated_angles_found_on_first_read():
+    """A calibrated layer's equivalent angle is found when first read (a sweep row never
+    reads it): the same number on every read and in every build of the same stack, in
+    [0, 89] degrees (common practice, no source)."""
+    first = build(_flanged(10e-3), spreading="calibrated")
+    build(_flanged(3e-3), spreading="calibrated")  # another stack in between
+    again = build(_flanged(10e-3), spreading="calibrated")
+    a1 = [lay.angle for lay in first.columns["pa"].layers]
+    assert [lay.angle for lay in first.columns["pa"].layers] == a1
+    assert [lay.angle for lay in again.columns["pa"].layers] == a1
+    assert all(a is None or 0.0 <= a <= 89.0 for a in a1)
+    assert any(a is not None and 0.0 < a < 89.0 for a in a1)
+    assert first.columns["pa"].layers == again.columns["pa"].layers

@@ -454,3 +454,16 @@ def test_depth_profile_fast_path_equals_plain_recursion():
         Rr, dRr = _depth_profile_reference(a, b, ks, ts, z)
         np.testing.assert_allclose(R, Rr, rtol=1e-12)
         np.testing.assert_allclose(dR, dRr, rtol=1e-11)
+
+
+def test_depth_profile_slope_only_points():
+    """Depths read for their slope only (quadrature points) give the same dR/dz as a full
+    reading, to rounding, and no R (common practice, no source)."""
+    ks, ts, a, b = [370.0, 57.0, 190.0, 0.7], [100e-6, 25e-6, 1e-3, 5e-4], 0.4e-3, 2e-3
+    z = np.linspace(1e-6, sum(ts), 41)
+    so = np.arange(z.size) % 3 != 0
+    R, dR = circular_depth_profile(a, b, ks, ts, z)
+    R2, dR2 = circular_depth_profile(a, b, ks, ts, z, slope_only=so)
+    np.testing.assert_allclose(dR2, dR, rtol=1e-13)
+    np.testing.assert_allclose(R2[~so], R[~so], rtol=1e-13)
+    assert np.all(np.isnan(R2[so]))
