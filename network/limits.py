@@ -99,7 +99,7 @@ def plausible_range(kind: str, value: float) -> str | None:
 #: Most parts of one dotted key (``a.b.c = 1`` has 3): the standard TOML reader takes time
 #: quadratic in the parts (40,000 parts: 46 s), so longer keys are refused before it runs.
 MAX_KEY_PARTS = 64
-_KEY_PREFIX = re.compile(r"[\w\-. \t\"'\[]*")
+_KEY_PREFIX = r"[\w\-. \t\"'\[]*"     # compiled on first use (re's cache): rarely needed
 
 
 def check_text(text: str, source: str | None) -> None:
@@ -115,7 +115,7 @@ def check_text(text: str, source: str | None) -> None:
     elif text.count(".") > MAX_KEY_PARTS:
         for no, raw in enumerate(text.splitlines(), start=1):
             if raw.count(".") > MAX_KEY_PARTS:
-                head = _KEY_PREFIX.match(raw.lstrip())
+                head = re.match(_KEY_PREFIX, raw.lstrip())
                 if head and head.group().count(".") > MAX_KEY_PARTS:
                     problem, line = (f"a dotted key of more than {MAX_KEY_PARTS} parts; "
                                      "expected a short key path"), no
