@@ -19,6 +19,8 @@ from os import PathLike
 from pathlib import Path
 from typing import Any, Iterable, Iterator, Mapping
 
+from pulsetherm.waveforms.fieldwise import FieldMethods
+
 __all__ = ["Material", "MaterialLibrary", "MaterialError", "default_library",
            "K_REFERENCE_K"]
 
@@ -55,8 +57,8 @@ def _positive(where: str, value: object, *, allow_zero: bool = False) -> float:
     return v
 
 
-@dataclass(frozen=True, kw_only=True)
-class Material:
+@dataclass(frozen=True, kw_only=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
+class Material(FieldMethods):
     """Thermal properties of one material near 300 K.
 
     Parameters

@@ -39,11 +39,12 @@ import difflib
 import functools
 import math
 import re
-import reprlib
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Iterator
+
+from pulsetherm.waveforms.fieldwise import FieldMethods
 
 __all__ = [
     "ScenarioError", "Quantity", "Scenario", "load", "loads", "save", "dumps",
@@ -311,8 +312,8 @@ def _dump_table_body(data: dict[str, Any], path: list[str], out: list[str]) -> N
 # ======================================================================================
 # Quantities
 # ======================================================================================
-@dataclass(frozen=True)
-class Quantity:
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
+class Quantity(FieldMethods):
     """A value read from a scenario: the text as written and its SI value.
 
     ``value`` is SI (m, s, W, K/W, J/K, Hz, ...); temperatures are absolute kelvin
@@ -708,42 +709,15 @@ def _dump_section(obj) -> dict[str, Any]:
     return out
 
 
-@functools.lru_cache(maxsize=None)
-def _field_names(cls, use: str) -> tuple[str, ...]:
-    """Names of the fields of the dataclass ``cls`` that take part in ``use``: ``"compare"``
-    (==), ``"hash"`` or ``"repr"``, chosen as :mod:`dataclasses` chooses them."""
-    fields = dataclasses.fields(cls)
-    if use == "hash":
-        return tuple(f.name for f in fields if (f.compare if f.hash is None else f.hash))
-    return tuple(f.name for f in fields if getattr(f, use))
-
-
-class _Section:
+class _Section(FieldMethods):
     """Base of the schema dataclasses: cross-field checks and the dict form.
 
     The sections are declared ``@dataclass(frozen=True, eq=False, repr=False)`` and take
-    ``==``, ``hash`` and ``repr`` from here, written as ``dataclass(frozen=True)`` writes
-    them (same fields, same results): Python 3.11 compiles every generated method on its
-    own, and these three cost ~3 ms of each ``pulsetherm run`` (17 sections).
+    ``==``, ``hash`` and ``repr`` from :class:`~pulsetherm.waveforms.fieldwise.FieldMethods`
+    (the same as generated ones; generating them cost ~3 ms of each ``pulsetherm run``).
     """
 
     _what = "section"
-
-    def __eq__(self, other: object) -> bool:
-        if other.__class__ is self.__class__:
-            names = _field_names(self.__class__, "compare")
-            return (tuple(getattr(self, n) for n in names)
-                    == tuple(getattr(other, n) for n in names))
-        return NotImplemented
-
-    def __hash__(self) -> int:
-        return hash(tuple(getattr(self, n) for n in _field_names(self.__class__, "hash")))
-
-    @reprlib.recursive_repr()
-    def __repr__(self) -> str:
-        return (self.__class__.__qualname__ + "("
-                + ", ".join(f"{n}={getattr(self, n)!r}"
-                            for n in _field_names(self.__class__, "repr")) + ")")
 
     def check(self, path: str) -> None:
         """Cross-field rules; raise :class:`ScenarioError` naming the key."""
@@ -774,7 +748,7 @@ WAVEFORM_KEYS: dict[str, tuple[str, ...]] = {
 }
 
 
-@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
 class StretchSpec(_Section):
     """One stretch of a profile: a duration with a constant power or a named waveform."""
 
@@ -785,7 +759,7 @@ class StretchSpec(_Section):
     label: str | None = _f("str")
 
 
-@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
 class WaveformSpec(_Section):
     """A heat waveform: ``kind`` and the keys of that kind (see :data:`WAVEFORM_KEYS`)."""
 
@@ -839,7 +813,7 @@ _WAVE_FIELD = {"Burst.period": "period", "Burst.gap": "gap", "Burst.pulses": "pu
                "PulseTrain.period": "pri", "PulseTrain.prf": "prf"}
 
 
-@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
 class ViaSpec(_Section):
     """A field of thermal vias in a board laminate (under every part)."""
 
@@ -869,7 +843,7 @@ def _is_copper_weight(text: str) -> bool:
     return text.rstrip().endswith("oz")
 
 
-@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
 class LayerSpec(_Section):
     """One layer (material and thickness) or a thin interface (``area_resistance``)."""
 
@@ -907,7 +881,7 @@ class LayerSpec(_Section):
                                 "material (one whose name contains 'copper')")
 
 
-@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
 class BoardSpec(_Section):
     """The circuit board: its size and its layers, top first."""
 
@@ -926,7 +900,7 @@ SINK_KEYS = {"fixed": (), "lumped": ("resistance", "capacity"),
              "film": ("h", "area", "capacity")}
 
 
-@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
 class SinkSpec(_Section):
     """Heat sink: ``fixed`` (ideal cold plate / fixed-temperature base at the coolant
     temperature), ``lumped`` (resistance and capacity to ambient) or ``film`` (film
@@ -951,7 +925,7 @@ class SinkSpec(_Section):
             raise ScenarioError(_join(path, need), None, f"missing; a {self.kind!r} sink needs {need}")
 
 
-@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
 class MountSpec(_Section):
     """How the board meets the sink: interface layers (grease, pad) and the sink."""
 
@@ -960,7 +934,7 @@ class MountSpec(_Section):
     sink: SinkSpec = _f("section", cls=SinkSpec, required=True)
 
 
-@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
 class FosterSpec(_Section):
     """Data-sheet Foster network, junction to case: R (K/W) and tau (s) per term."""
 
@@ -979,7 +953,7 @@ class FosterSpec(_Section):
                                 f"as many time constants as resistances ({len(self.R)})")
 
 
-@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
 class RFSpec(_Section):
     """A device's signal sensitivity to its junction temperature: gain (dB/K) and
     insertion-phase (deg/K) coefficients, and optional limits on the worst droop across a
@@ -1005,7 +979,7 @@ class RFSpec(_Section):
                                 "a phase limit with phase_tc (the phase comes from it)")
 
 
-@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
 class CyclingSpec(_Section):
     """Thermal-cycling figures of a device (relative only; :mod:`pulsetherm.network.
     cycling`): reference cycle range, Coffin-Manson exponent, activation energy and
@@ -1020,7 +994,7 @@ class CyclingSpec(_Section):
                             "the die or the data-sheet device)")
 
 
-@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
 class DeviceSpec(_Section):
     """A heated device: a die stack (``stack``) or a data-sheet device (``rth`` or
     ``foster``, junction to case, optionally on a ``stack`` of package/attach layers)."""
@@ -1058,7 +1032,7 @@ class DeviceSpec(_Section):
                      for i, lay in enumerate(self.stack)], "layer name")
 
 
-@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
 class LineSpec(_Section):
     """A microstrip line carrying RF power; its conductor and dielectric losses heat it."""
 
@@ -1085,7 +1059,7 @@ class LineSpec(_Section):
         self._one_of(path, ("width", "impedance"))
 
 
-@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
 class HeaterSpec(_Section):
     """A point heat source at a named node (a chip termination, a bias resistor)."""
 
@@ -1119,7 +1093,7 @@ class HeaterSpec(_Section):
                                 "a capacity needs a resistance to the line copper")
 
 
-@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
 class ProbeSpec(_Section):
     """A named node whose temperature is reported, with an optional limit."""
 
@@ -1129,7 +1103,7 @@ class ProbeSpec(_Section):
     limit: Quantity | None = _f("q", kind="temperature", check="kelvin")
 
 
-@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
 class ElementSpec(_Section):
     """An extra lumped element: ``mass`` (a heat capacity joined to ``node`` through
     ``resistance``) or ``resistance`` (between two named nodes, e.g. a copper strap)."""
@@ -1157,7 +1131,7 @@ class ElementSpec(_Section):
                                     f"missing; a {self.kind!r} element needs {', '.join(need)}")
 
 
-@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
 class ModelSpec(_Section):
     """How to model: ``fidelity`` ladder (columns of graded sub-layers) or axisymmetric;
     ``grading`` coarse/normal/fine; ``spreading`` calibrated (the default: each column
@@ -1290,7 +1264,7 @@ def _unique(items: list[tuple[str, str]], what: str) -> None:
         seen[name] = path
 
 
-@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: _Section
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
 class Scenario(_Section):
     """A whole scenario (see the module docstring).  Load with :func:`load` / :func:`loads`,
     change one value with :meth:`with_value`, write with :func:`save`."""
@@ -1580,8 +1554,8 @@ def split_unit(text: str) -> tuple[float, str]:
     return float(m.group(1)), m.group(2)
 
 
-@dataclass(frozen=True)
-class UnitScale:
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
+class UnitScale(FieldMethods):
     """The affine map between a unit and SI: ``si = offset + factor * x`` (affine for
     degC / degF, linear otherwise)."""
 

@@ -52,6 +52,8 @@ from typing import Sequence
 
 import numpy as np
 
+from pulsetherm.waveforms.fieldwise import FieldMethods
+
 __all__ = ["UnitError", "parse_quantity", "parse_range", "format_quantity", "KINDS",
            "UNITS", "OZ_COPPER_M", "unit_factor"]
 
@@ -120,8 +122,8 @@ _SPELLINGS = {"µ": "u", "μ": "u", "℃": "degC", "°C": "degC", "°": "deg", "
 _SUPERSCRIPTS = {"⁻": "-", "¹": "1", "²": "2", "³": "3", "⁴": "4"}
 
 
-@dataclass(frozen=True)
-class Kind:
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
+class Kind(FieldMethods):
     """A kind of quantity: its dimension, the SI unit returned, an example for messages
     and the units used for display (largest first)."""
 
@@ -554,8 +556,9 @@ def format_quantity(value: float, kind: str, digits: int = 4, ascii: bool = Fals
 
 
 # -- sweeps -------------------------------------------------------------------------------
-_STEP = re.compile(r"\s+step\s+", re.IGNORECASE)
-_COUNT = re.compile(r":\s*(\d+)\s*(log)?\s*$", re.IGNORECASE)
+# parse_range only (sweeps): compiled on first use through re's cache, not at every import
+_STEP = r"\s+step\s+"
+_COUNT = r":\s*(\d+)\s*(log)?\s*$"
 
 
 def _has_unit(text: str) -> bool:
@@ -619,13 +622,13 @@ def parse_range(text: str | Sequence, kind: str = "dimensionless", field: str = 
 
 
 def _parse_span(src, text, name, spec, field, default_unit, one) -> np.ndarray:
-    count = _COUNT.search(src)
+    count = re.search(_COUNT, src, re.IGNORECASE)
     step_text = None
     if count:
         src_main = src[:count.start()]
     else:
         src_main = src
-    pieces = _STEP.split(src_main)
+    pieces = re.split(_STEP, src_main, flags=re.IGNORECASE)
     if len(pieces) == 2:
         src_main, step_text = pieces
     elif len(pieces) > 2:

@@ -19,6 +19,8 @@ from typing import Protocol, runtime_checkable
 
 import numpy as np
 
+from .fieldwise import FieldMethods
+
 __all__ = ["Piecewise", "Waveform", "as_piecewise", "align", "common_period",
            "WaveformError"]
 
@@ -53,8 +55,8 @@ def _array(name: str, values, n: int | None = None) -> np.ndarray:
     return arr
 
 
-@dataclass(frozen=True)
-class Piecewise:
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
+class Piecewise(FieldMethods):
     """Power against time as piecewise-linear segments.
 
     Parameters

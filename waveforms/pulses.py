@@ -30,6 +30,7 @@ import numpy as np
 
 from .base import WaveformBase, check_fraction, check_power, check_time, merge_segments
 from .canonical import TIME_RTOL, Piecewise, WaveformError
+from .fieldwise import FieldMethods
 
 __all__ = ["Constant", "PulseTrain", "Burst", "Stagger", "pulse_segments"]
 
@@ -142,8 +143,8 @@ def _check_fit(owner: str, intervals: np.ndarray, widths: np.ndarray, half: floa
             f"= {float(need[i])!r} s (the pulse is longer than its repetition interval)")
 
 
-@dataclass(frozen=True)
-class Constant(WaveformBase):
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
+class Constant(WaveformBase, FieldMethods):
     """A constant power.
 
     Parameters
@@ -172,8 +173,8 @@ class Constant(WaveformBase):
         return 1.0 if self.power > 0 else 0.0
 
 
-@dataclass(frozen=True, init=False)
-class PulseTrain(WaveformBase):
+@dataclass(frozen=True, init=False, eq=False, repr=False)   # ==, hash, repr: FieldMethods
+class PulseTrain(WaveformBase, FieldMethods):
     """A periodic train of identical pulses.
 
     Parameters
@@ -282,8 +283,8 @@ def _whole(field: str, value, low: int = 1) -> int:
     return int(value)
 
 
-@dataclass(frozen=True, init=False)
-class Burst(WaveformBase):
+@dataclass(frozen=True, init=False, eq=False, repr=False)   # ==, hash, repr: FieldMethods
+class Burst(WaveformBase, FieldMethods):
     """``pulses`` pulses of ``train``, repeated every burst ``period``.
 
     Parameters
@@ -372,8 +373,8 @@ def _tuple(field: str, values) -> tuple[float, ...]:
     return tuple(arr.astype(np.float64).tolist())
 
 
-@dataclass(frozen=True)
-class Stagger(WaveformBase):
+@dataclass(frozen=True, eq=False, repr=False)   # ==, hash, repr: FieldMethods
+class Stagger(WaveformBase, FieldMethods):
     """A repeating cycle of different pulse repetition intervals (staggered PRF).
 
     Parameters
