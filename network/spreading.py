@@ -44,7 +44,6 @@ eccentric heat sources on rectangular flux channels", J. Electronic Packaging 12
 from __future__ import annotations
 
 import functools
-import itertools
 import math
 from dataclasses import dataclass
 from typing import Callable, Sequence
@@ -565,7 +564,9 @@ def _circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = 
     dφ_i/dz = (k_i/k_{i+1})·(1 − T²)/(1 + rT)²·dφ_{i+1}/dz.  The layers above the cut
     are one linear fractional map per mode (:func:`_compose_down`), composed once for all
     depths in layer j; a mode with δ(z − z_j) ≥ 20 has φ_j = 1 to the last bit and
-    φ_j' = 0, so only the modes below that are evaluated depth by depth.
+    φ_j' = 0, and a mode with δt_i ≥ 20 in a layer i above the cut has φ_i = 1 whatever
+    lies below (the map is singular, det = 0), so only the modes below both are evaluated
+    depth by depth (under a thick flange a few tens of the N).
 
     R(z) is the resistance the stack down to z puts between the source and a plane at z;
     A_eff(z) = 1/(k(z)·dR/dz) is the area of a 1-D path with the same resistance per unit
@@ -628,40 +629,41 @@ def _circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = 
         x = zf[idx] - zb[j]
         # a mode with δ·(z − z_j) ≥ _TANH_ONE has tanh = 1 exactly and dφ_j/dz = 0: only
         # the first `live` modes are evaluated at each depth; depths are grouped by their
-        # number of live modes rounded up to a power of two
+        # number of live modes rounded up to a power of two (at least 64)
         lim = np.full(x.shape, np.inf)
         np.divide(_TANH_ONE, x, out=lim, where=x > 0)
         live = np.maximum(np.searchsorted(dd, lim, side="left"), 1)
-        group = np.minimum(2 ** np.ceil(np.log2(live)).astype(int), dd.size)
-        for g, value in itertools.product(np.unique(group).tolist(), (True, False)):
-            sel_g = idx[(group == g) & (so[idx] != value)]
+        # a mode that a layer above the cut saturates (tanh(δt_i) = 1, det = 0) does
+        # not see the cut at all: φ_1 is its saturated value at every depth of layer j
+        nz = np.flatnonzero(det)
+        cap = max(int(nz[-1]) + 1 if nz.size else 1, 1)
+        group = np.minimum(2 ** np.ceil(np.log2(np.maximum(live, 64))).astype(int), cap)
+        for g in np.unique(group).tolist():
+            sel_g = idx[group == g]
+            # the modes past g are constant at these depths: φ_1 = p_sat, dφ_1/dz = 0
+            rest = float(p_sat[g:] @ ww[g:])
             rows = max(1, _CACHE_BLOCK // g)
             for s in range(0, sel_g.size, rows):
                 sel = sel_g[s:s + rows]
-                dp = np.empty((sel.size, dd.size))
-                dpl = dp[:, :g]
                 pj = np.multiply(dd[:g], (zf[sel] - zb[j])[:, None])
                 np.tanh(pj, out=pj)
                 inv = np.multiply(ga[:g], pj)
                 inv += 1.0
                 np.reciprocal(inv, out=inv)
-                if value:
-                    p = np.empty((sel.size, dd.size))
-                    pl = p[:, :g]
-                    np.multiply(al[:g], pj, out=pl)
-                    pl += be[:g]
-                    pl *= inv
-                    p[:, g:] = p_sat[g:]
-                    R[sel] = p @ ww / ks[0]
+                value = ~so[sel]
+                if value.all():
+                    R[sel] = ((al[:g] * pj + be[:g]) * inv @ ww[:g] + rest) / ks[0]
                 else:
                     R[sel] = np.nan
-                np.multiply(pj, pj, out=dpl)
-                np.subtract(1.0, dpl, out=dpl)
-                dpl *= ddet[:g]
+                    if value.any():
+                        R[sel[value]] = ((al[:g] * pj[value] + be[:g]) * inv[value] @ ww[:g]
+                                         + rest) / ks[0]
+                dp = np.multiply(pj, pj, out=pj)
+                np.subtract(1.0, dp, out=dp)
+                dp *= ddet[:g]
                 inv *= inv
-                dpl *= inv
-                dp[:, g:] = 0.0
-                dR[sel] = dp @ ww / ks[0]
+                dp *= inv
+                dR[sel] = dp @ ww[:g] / ks[0]
     return (R + one_d).reshape(z.shape), (dR + one_d_slope).reshape(z.shape)
 
 
