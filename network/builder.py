@@ -1387,26 +1387,35 @@ def _cross_terms_uncached(a: float, b: float, b2: float,
     Zu = _phi(d, kr, tr, math.inf) / (kr[0] * d)
     D = 1.0 / (_admittance_up(d, kr, tr) * inv_n)
     r_run = np.sum(tr / kr) * A0
-    out = []
-    for ks, ts in stacks:
-        ks = np.asarray(ks, dtype=float)
-        ts = np.asarray(ts, dtype=float)
+    stacks = [(np.asarray(ks, dtype=float), np.asarray(ts, dtype=float))
+              for ks, ts in stacks]
+    live = [q for q, (ks, _) in enumerate(stacks) if ks.size > n_run]
+    out = [0.0] * len(stacks)   # nothing below the run: no coupling
+    if not live:
+        return out
+    st = [stacks[q] for q in live]
+    W = np.array([_phi(d2, ks[n_run:], ts[n_run:], h) / (ks[n_run] * d2) * inv_k
+                  for ks, ts in st])
+    # wide modes that every stack sees alike (a thick layer under the run saturates
+    # them: φ' = 1 to the last bit) enter G once, the others stack by stack
+    same = np.all(W == W[0], axis=0)
+    G_same = I[same].T @ (I[same] * W[0, same][:, None])
+    I_own = I[~same]
+    G = np.empty((len(st), N + 1, N + 1))
+    for q, (ks, ts) in enumerate(st):
         kl, tl = ks[n_run:], ts[n_run:]
-        if kl.size == 0:
-            out.append(0.0)
-            continue
-        Zk = _phi(d2, kl, tl, h) / (kl[0] * d2)
-        G = I.T @ (I * (Zk * inv_k)[:, None])
+        G[q] = G_same + I_own.T @ (I_own * W[q, ~same][:, None])
         z0 = float(np.sum(tl / kl)) + (0.0 if math.isinf(h) else 1.0 / h)
-        G[0, 0] += z0 * (0.5 * b * b) ** 2 / (0.5 * b2 * b2)
-        M = G[1:, 1:] + np.diag(D)
-        c = np.linalg.solve(M, D * T * A - G[1:, 0] * A0)
-        theta = (G[1:, 0] * A0 + G[1:, 1:] @ c) * inv_n
-        r_coupled = float((G[0, 0] * A0 + G[0, 1:] @ c) / (0.5 * b * b)
-                          + r_run + np.sum((T * theta + Zu * A) * s))
-        phi_all = _phi(d, ks, ts, h) / (ks[0] * d)
-        r_split = float(G[0, 0] * A0 / (0.5 * b * b) + r_run + np.sum(A * s * phi_all))
-        out.append(r_coupled - r_split)
+        G[q, 0, 0] += z0 * (0.5 * b * b) ** 2 / (0.5 * b2 * b2)
+    c = np.linalg.solve(G[:, 1:, 1:] + np.diag(D),
+                        (D * T * A - G[:, 1:, 0] * A0)[:, :, None])[:, :, 0]
+    theta = (G[:, 1:, 0] * A0 + np.einsum("qnm,qm->qn", G[:, 1:, 1:], c)) * inv_n
+    r_coupled = ((G[:, 0, 0] * A0 + np.einsum("qm,qm->q", G[:, 0, 1:], c)) / (0.5 * b * b)
+                 + r_run + np.sum((T * theta + Zu * A) * s, axis=1))
+    phi_all = np.array([_phi(d, ks, ts, h) / (ks[0] * d) for ks, ts in st])
+    r_split = G[:, 0, 0] * A0 / (0.5 * b * b) + r_run + np.sum(A * s * phi_all, axis=1)
+    for q, x in zip(live, r_coupled - r_split):
+        out[q] = float(x)
     return out
 
 

@@ -102,9 +102,10 @@ def test_copper_plane_on_laminate_spreads_like_a_fin(src):
 
 
 def test_cross_terms_batched_equal_one_at_a_time():
-    """The coupling term of one run over several cut depths (builder._cross_terms, the run
-    alone computed once) equals the term of each stack computed alone, to the last bit
-    (common practice, no source)."""
+    """The coupling term of one run over several cut depths (builder._cross_terms: the run
+    alone computed once, the wide modes every stack sees alike summed once, the solves
+    stacked) equals the term of each stack computed alone, to rounding (common practice,
+    no source)."""
     from pulsetherm.network.builder import _cross_terms_uncached
     rng = np.random.default_rng(3)
     for _ in range(6):
@@ -119,7 +120,7 @@ def test_cross_terms_batched_equal_one_at_a_time():
         a = b * float(rng.uniform(0.2, 0.9))
         batch = _cross_terms_uncached(a, b, b2, stacks, 2, math.inf)
         alone = [_cross_terms_uncached(a, b, b2, [s], 2, math.inf)[0] for s in stacks]
-        assert batch == alone
+        np.testing.assert_allclose(batch, alone, rtol=1e-11, atol=1e-14)
         assert all(math.isfinite(x) for x in batch)
 
 
