@@ -115,9 +115,10 @@ def run_table(res: Any) -> str:
                           for v in d["via_fields"]], align="llrrrl"))
     out.append("")
     out.append(f"warm-up (99 % of the periodic state): {_fmt(d['warmup_s'])} s")
-    from .effects_report import effects_lines  # [devices.rf] / [devices.cycling]
+    if d.get("rf") or d.get("cycling"):      # [devices.rf] / [devices.cycling]
+        from .effects_report import effects_lines
 
-    out += effects_lines(d)
+        out += effects_lines(d)
     if d["cautions"]:
         out.append("")
         out += _cautions(d["cautions"])
