@@ -1030,6 +1030,7 @@ class _Run:
     offset: float = 0.0
     r_1d: float = 0.0          # 1-D resistance of the run's layers over its plate
     r_cut: float = 0.0         # R of the run alone over an isothermal plane at its bottom
+    #                            (set for the last run only: the chain needs no other)
     cross: float = 0.0         # coupling with the wider run below (:func:`_cross_term`)
 
     def local(self, z: np.ndarray, slope_only: np.ndarray | None = None
@@ -1245,6 +1246,33 @@ def _element_plates(segs: list[_Seg]) -> list[tuple[float, float]] | None:
     return plates
 
 
+def _phi_stacks(zeta: np.ndarray, stacks: Sequence[tuple[np.ndarray, np.ndarray]],
+                h: float) -> np.ndarray:
+    """:func:`pulsetherm.network.spreading.layer_phi` of several stacks (top first), shape
+    (len(stacks), ζ.size).  Stacks with the same layers that differ only in the thickness
+    of their last one (a column cut at several depths in one layer) run the recursion
+    together, each row seeing exactly the operations of its own stack."""
+    out = np.empty((len(stacks), zeta.size))
+    groups: dict = {}
+    for q, (ks, ts) in enumerate(stacks):
+        groups.setdefault((ks.tobytes(), ts[:-1].tobytes()), []).append(q)
+    for rows in groups.values():
+        ks, ts = stacks[rows[0]]
+        t_last = np.array([stacks[q][1][-1] for q in rows])
+        th = np.tanh(zeta[None, :] * t_last[:, None])
+        if math.isinf(h):
+            p = th
+        else:
+            x = ks[-1] * zeta / h
+            p = (th + x) / (1.0 + x * th)
+        for i in range(ks.size - 2, -1, -1):
+            r = (ks[i] / ks[i + 1]) * p
+            th = np.tanh(zeta * ts[i])
+            p = (th + r) / (1.0 + r * th)
+        out[rows] = p
+    return out
+
+
 def _admittance_up(zeta: np.ndarray, ks: Sequence[float],
                    ts: Sequence[float]) -> np.ndarray:
     """Admittance Y = q/θ a surface flux mode of wavenumber ζ sees at the *bottom* of a
@@ -1394,8 +1422,8 @@ def _cross_terms_uncached(a: float, b: float, b2: float,
     if not live:
         return out
     st = [stacks[q] for q in live]
-    W = np.array([_phi(d2, ks[n_run:], ts[n_run:], h) / (ks[n_run] * d2) * inv_k
-                  for ks, ts in st])
+    W = _phi_stacks(d2, [(ks[n_run:], ts[n_run:]) for ks, ts in st], h)
+    W = W / (st[0][0][n_run] * d2) * inv_k
     # wide modes that every stack sees alike (a thick layer under the run saturates
     # them: φ' = 1 to the last bit) enter G once, the others stack by stack
     same = np.all(W == W[0], axis=0)
@@ -1412,7 +1440,7 @@ def _cross_terms_uncached(a: float, b: float, b2: float,
     theta = (G[:, 1:, 0] * A0 + np.einsum("qnm,qm->qn", G[:, 1:, 1:], c)) * inv_n
     r_coupled = ((G[:, 0, 0] * A0 + np.einsum("qm,qm->q", G[:, 0, 1:], c)) / (0.5 * b * b)
                  + r_run + np.sum((T * theta + Zu * A) * s, axis=1))
-    phi_all = np.array([_phi(d, ks, ts, h) / (ks[0] * d) for ks, ts in st])
+    phi_all = _phi_stacks(d, st, h) / (st[0][0][0] * d)
     r_split = G[:, 0, 0] * A0 / (0.5 * b * b) + r_run + np.sum(A * s * phi_all, axis=1)
     for q, x in zip(live, r_coupled - r_split):
         out[q] = float(x)
@@ -1554,7 +1582,8 @@ def depth_profile(segs: list[_Seg], footprint: tuple[float, float], sink,
     for m in range(len(runs) - 1, -1, -1):
         run = runs[m]
         Ap = math.pi * run.b * run.b
-        run.r_cut = float(run.local(np.array([sum(run.ts)]))[0][0])
+        if m == len(runs) - 1:  # the chain needs the last run's alone
+            run.r_cut = float(run.local(np.array([sum(run.ts)]))[0][0])
         if r_below is None:
             h = _sink_h(sink, run.plate[0] * run.plate[1])
         else:
