@@ -288,3 +288,47 @@ def test_a_negative_margin_is_refused(tmp_path, capsys):
         assert main(verb + ["--margin", "-200 K"]) == 2
         cap = capsys.readouterr()
         assert "--margin = '-200 K': expected a margin >= 0 K" in cap.err and cap.out == ""
+
+
+#: Command lines for each verb: good ones, --help, and usage errors.
+_ARGVS = [
+    ["run", "s.toml"], ["run", "s.toml", "--json", "--set", "coolant=30 degC", "--set", "x=1"],
+    ["run"], ["run", "s.toml", "--bogus"], ["run", "--help"], ["run", "s.toml", "extra"],
+    ["run", "s.toml", "--allow-path", "/tmp"],
+    ["zth", "s.toml", "--probe", "pa.junction", "--from", "10 us"], ["zth", "s.toml"],
+    ["sweep", "s.toml", "--vary", "coolant=20,30 degC", "--samples", "3"],
+    ["sweep", "s.toml", "--samples", "x"], ["sweep", "--help"],
+    ["size", "s.toml", "--adjust", "a", "--range", "1..2 K/W"], ["size", "s.toml"],
+    ["check", "s.toml", "--margin", "5 K"], ["check", "-h"],
+    ["materials"], ["materials", "copper"], ["materials", "a", "b"],
+    ["ui"], ["ui", "s.toml"], ["ui", "--help"],
+]
+
+
+def _parse(parser, argv, capsys):
+    try:
+        out = ("ok", vars(parser.parse_args(argv)))
+    except SystemExit as exc:
+        out = ("exit", exc.code)
+    return out, capsys.readouterr()
+
+
+@pytest.mark.parametrize("argv", _ARGVS, ids=" ".join)
+def test_the_parser_of_one_verb_reads_its_command_lines_as_the_full_one(argv, capsys):
+    """main() builds only the sub-parser of the verb the command line starts with; for that
+    command line it must parse, print and refuse exactly as the parser of every verb."""
+    from pulsetherm.tui.cli import build_parser
+
+    full = _parse(build_parser(), argv, capsys)
+    one = _parse(build_parser(argv[0]), argv, capsys)
+    assert one == full
+    if argv[1:2] in (["--help"], ["-h"]):
+        assert full[1].out.startswith(f"usage: pulsetherm {argv[0]} ")
+
+
+def test_a_verb_parser_knows_only_its_verb(capsys):
+    """The comparison above can fail: another verb is unknown to a one-verb parser."""
+    from pulsetherm.tui.cli import build_parser
+
+    assert _parse(build_parser("run"), ["check", "s.toml"], capsys)[0] == ("exit", 2)
+    assert _parse(build_parser(), ["check", "s.toml"], capsys)[0][0] == "ok"

@@ -50,15 +50,7 @@ def atomic_output(path: str | os.PathLike, mode: str = "w") -> Iterator[TextIO]:
 # ======================================================================================
 # Parser
 # ======================================================================================
-def build_parser() -> argparse.ArgumentParser:
-    p = argparse.ArgumentParser(
-        prog="pulsetherm",
-        description="Pulsed and periodic thermal analysis of RF boards, devices and lines.",
-        epilog="Exit status: 0 ok, 1 a limit is broken (check) or rows failed (sweep), "
-               "2 input error, 3 internal error (please report it).")
-    sub = p.add_subparsers(dest="verb", metavar="VERB")
-    sub.required = True
-
+def _add_run(sub) -> None:
     r = sub.add_parser("run", help="simulate a scenario: probe temperatures, budget, warm-up")
     r.add_argument("file", help="scenario TOML file")
     r.add_argument("--json", action="store_true", help="print one JSON object")
@@ -67,6 +59,8 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--set", action="append", default=[], metavar="PATH=VALUE",
                    help="change one scenario value (repeatable), e.g. coolant='30 degC'")
 
+
+def _add_zth(sub) -> None:
     z = sub.add_parser("zth", help="thermal impedance at a probe: Zth, pulsed Zth, "
                                    "Foster/Cauer, structure function")
     z.add_argument("file")
@@ -78,6 +72,8 @@ def build_parser() -> argparse.ArgumentParser:
                    help="earliest time: the network is graded to resolve it (1 us)")
     z.add_argument("--set", action="append", default=[], metavar="PATH=VALUE")
 
+
+def _add_sweep(sub) -> None:
     s = sub.add_parser("sweep", help="grid or Monte Carlo over scenario values")
     s.add_argument("file")
     s.add_argument("--vary", action="append", default=[], metavar="PATH=VALUES",
@@ -103,6 +99,8 @@ def build_parser() -> argparse.ArgumentParser:
     s.add_argument("--no-progress", action="store_true", help="no progress bar on stderr")
     s.add_argument("--set", action="append", default=[], metavar="PATH=VALUE")
 
+
+def _add_size(sub) -> None:
     z2 = sub.add_parser("size", help="largest or smallest value that keeps every limit")
     z2.add_argument("file")
     z2.add_argument("--adjust", required=True, metavar="PATH", help="scenario value to size")
@@ -114,22 +112,50 @@ def build_parser() -> argparse.ArgumentParser:
     z2.add_argument("--json", action="store_true")
     z2.add_argument("--set", action="append", default=[], metavar="PATH=VALUE")
 
+
+def _add_check(sub) -> None:
     c = sub.add_parser("check", help="exit 0 when every limit holds, 1 otherwise")
     c.add_argument("file")
     c.add_argument("--margin", default="0 K", help="margin required below every limit")
     c.add_argument("--set", action="append", default=[], metavar="PATH=VALUE")
 
+
+def _add_materials(sub) -> None:
     m = sub.add_parser("materials", help="list the material library or show one material")
     m.add_argument("name", nargs="?", help="material to show")
 
+
+def _add_ui(sub) -> None:
     u = sub.add_parser("ui", help="the terminal workbench: edit a scenario and watch its "
                                   "response (the built-in demo without a file)")
     u.add_argument("file", nargs="?", default=None,
                    help="scenario TOML file (default: an invented two-stage demo)")
-    for verb in sub.choices.values():   # every verb that reads a scenario (added ones too)
-        if any(a.dest == "file" for a in verb._actions) and not any(
-                a.dest == "allow_path" for a in verb._actions):
-            verb.add_argument("--allow-path", action="append", default=[], metavar="DIR",
+
+
+#: The verbs in the order of ``pulsetherm --help``.
+_VERB_PARSERS = {"run": _add_run, "zth": _add_zth, "sweep": _add_sweep, "size": _add_size,
+                 "check": _add_check, "materials": _add_materials, "ui": _add_ui}
+
+
+def build_parser(verb: str | None = None) -> argparse.ArgumentParser:
+    """The command-line parser: every verb, or only ``verb`` (:func:`main` passes the verb
+    the command line starts with: each sub-parser costs argparse ~0.2 ms to build, and no
+    other one can be reached from that command line)."""
+    p = argparse.ArgumentParser(
+        prog="pulsetherm",
+        description="Pulsed and periodic thermal analysis of RF boards, devices and lines.",
+        epilog="Exit status: 0 ok, 1 a limit is broken (check) or rows failed (sweep), "
+               "2 input error, 3 internal error (please report it).")
+    sub = p.add_subparsers(dest="verb", metavar="VERB")
+    sub.required = True
+
+    for name, add in _VERB_PARSERS.items():
+        if verb is None or verb == name:
+            add(sub)
+    for verb_parser in sub.choices.values():   # every verb that reads a scenario
+        if any(a.dest == "file" for a in verb_parser._actions) and not any(
+                a.dest == "allow_path" for a in verb_parser._actions):
+            verb_parser.add_argument("--allow-path", action="append", default=[], metavar="DIR",
                               help="a folder outside the scenario's own that its table "
                                    "files may be read from (repeatable)")
     return p
@@ -140,9 +166,10 @@ def build_parser() -> argparse.ArgumentParser:
 # ======================================================================================
 def main(argv: Sequence[str] | None = None) -> int:
     """Run one command; returns the exit status (0 ok, 1 limit broken, 2 error)."""
-    parser = build_parser()
+    argv = list(sys.argv[1:] if argv is None else argv)
+    parser = build_parser(argv[0] if argv and argv[0] in _VERB_PARSERS else None)
     try:
-        args = parser.parse_args(list(sys.argv[1:] if argv is None else argv))
+        args = parser.parse_args(argv)
     except SystemExit as exc:  # argparse: --help (0) or a usage error (2)
         return int(exc.code or 0) if exc.code in (0, None) else EXIT_ERROR
     handler = _HANDLERS[args.verb]
