@@ -1227,6 +1227,12 @@ def _series_layer(seg: _Seg) -> tuple[float, float]:
     return math.sqrt(kz * kr), seg.thickness * math.sqrt(kr / kz)
 
 
+def _same_plate(p: tuple[float, float], q: tuple[float, float]) -> bool:
+    """One lateral size: |p − q| ≤ 1e-8 m + 1e-9·|q| side by side (the test of
+    ``numpy.allclose(p, q, rtol=1e-9)``, without its array set-up)."""
+    return all(abs(x - y) <= 1e-8 + 1e-9 * abs(y) for x, y in zip(p, q))
+
+
 def _element_plates(segs: list[_Seg]) -> list[tuple[float, float]] | None:
     """Lateral size of every element: its own; a layer with no size takes the nearest
     sized layer below (above if none); an area resistance joins the element above it.
@@ -1556,7 +1562,7 @@ def depth_profile(segs: list[_Seg], footprint: tuple[float, float], sink,
     a_in = math.sqrt(footprint[0] * footprint[1] / math.pi)
     while j < len(segs):
         e = j
-        while e + 1 < len(segs) and np.allclose(plates[e + 1], plates[j], rtol=1e-9):
+        while e + 1 < len(segs) and _same_plate(plates[e + 1], plates[j]):
             e += 1
         P = plates[j]
         b = math.sqrt(P[0] * P[1] / math.pi)
@@ -1832,7 +1838,7 @@ def calibrate_angles(segs: list[_Seg], footprint: tuple[float, float], sink,
     j = 0
     while j < nseg:
         e = j
-        while e + 1 < nseg and np.allclose(plates[e + 1], plates[j], rtol=1e-9):
+        while e + 1 < nseg and _same_plate(plates[e + 1], plates[j]):
             e += 1
         runs.append((j, e))
         j = e + 1
