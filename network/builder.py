@@ -1428,19 +1428,8 @@ def _cross_terms_uncached(a: float, b: float, b2: float,
     if not live:
         return out
     st = [stacks[q] for q in live]
-    W = _phi_stacks(d2, [(ks[n_run:], ts[n_run:]) for ks, ts in st], h)
-    W = W / (st[0][0][n_run] * d2) * inv_k
-    # wide modes that every stack sees alike (a thick layer under the run saturates
-    # them: φ' = 1 to the last bit) enter G once, the others stack by stack
-    same = np.all(W == W[0], axis=0)
-    G_same = I[same].T @ (I[same] * W[0, same][:, None])
-    I_own = I[~same]
-    G = np.empty((len(st), N + 1, N + 1))
-    for q, (ks, ts) in enumerate(st):
-        kl, tl = ks[n_run:], ts[n_run:]
-        G[q] = G_same + I_own.T @ (I_own * W[q, ~same][:, None])
-        z0 = float(np.sum(tl / kl)) + (0.0 if math.isinf(h) else 1.0 / h)
-        G[q, 0, 0] += z0 * (0.5 * b * b) ** 2 / (0.5 * b2 * b2)
+    G = np.array([_below_g(b, b2, n_up, tuple(ks[n_run:].tolist()),
+                           tuple(ts[n_run:].tolist()), h) for ks, ts in st])
     c = np.linalg.solve(G[:, 1:, 1:] + np.diag(D),
                         (D * T * A - G[:, 1:, 0] * A0)[:, :, None])[:, :, 0]
     theta = (G[:, 1:, 0] * A0 + np.einsum("qnm,qm->qn", G[:, 1:, 1:], c)) * inv_n
@@ -1450,6 +1439,44 @@ def _cross_terms_uncached(a: float, b: float, b2: float,
     r_split = G[:, 0, 0] * A0 / (0.5 * b * b) + r_run + np.sum(A * s * phi_all, axis=1)
     for q, x in zip(live, r_coupled - r_split):
         out[q] = float(x)
+    return out
+
+
+@functools.lru_cache(maxsize=512)
+def _below_g(b: float, b2: float, n_up: int, kl: tuple[float, ...], tl: tuple[float, ...],
+             h: float) -> np.ndarray:
+    """The region below a run as the run's modes see it: G_nm = Σ_k Z'_k I_kn I_km / N'_k
+    plus Z'_0 = Σt/k + 1/h on the uniform mode (:func:`_cross_terms_uncached`), for the
+    layers ``kl``, ``tl`` (top first) over the film ``h``.  A pure function of the lower
+    layers and the two radii, cached (read-only array): a sweep of the run's own layers
+    (a flange thickness) keeps the board under it.
+
+    The wide modes that the first layer below saturates (tanh(δ'_k t_1) = 1 to the last
+    bit: φ' = 1 whatever lies under it) are the last ones; their part depends on k_1 and
+    where they start only (:func:`_below_g_saturated`)."""
+    from .spreading import _phi
+    d, d2, j0lam, inv_n, I, inv_k = _cross_kernel(b, b2, n_up)
+    kl_a, tl_a = np.array(kl), np.array(tl)
+    phi = _phi(d2, kl_a, tl_a, h)
+    own = np.flatnonzero(phi != 1.0)
+    ks_ = int(own[-1]) + 1 if own.size else 0
+    w = phi[:ks_] / (kl_a[0] * d2[:ks_]) * inv_k[:ks_]
+    G = _below_g_saturated(b, b2, n_up, kl[0], ks_) + I[:ks_].T @ (I[:ks_] * w[:, None])
+    z0 = float(np.sum(tl_a / kl_a)) + (0.0 if math.isinf(h) else 1.0 / h)
+    G[0, 0] += z0 * (0.5 * b * b) ** 2 / (0.5 * b2 * b2)
+    G.flags.writeable = False
+    return G
+
+
+@functools.lru_cache(maxsize=64)
+def _below_g_saturated(b: float, b2: float, n_up: int, k1: float, start: int) -> np.ndarray:
+    """Σ_{k ≥ start} Z'_k I_kn I_km / N'_k with φ' = 1 (Z'_k = 1/(k_1 δ'_k)): the part of
+    :func:`_below_g` of the wide modes that the first layer below saturates (a fresh
+    array)."""
+    d, d2, j0lam, inv_n, I, inv_k = _cross_kernel(b, b2, n_up)
+    w = 1.0 / (k1 * d2[start:]) * inv_k[start:]
+    out = I[start:].T @ (I[start:] * w[:, None])
+    out.flags.writeable = False
     return out
 
 

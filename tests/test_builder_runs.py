@@ -137,3 +137,21 @@ def test_calibrated_angles_found_on_first_read():
     assert all(a is None or 0.0 <= a <= 89.0 for a in a1)
     assert any(a is not None and 0.0 < a < 89.0 for a in a1)
     assert first.columns["pa"].layers == again.columns["pa"].layers
+
+
+def test_region_below_run_equals_plain_sum():
+    """builder._below_g (the wide modes a thick first layer saturates summed apart, the
+    rest mode by mode; cached) equals G = Σ_k Z'_k I_kn I_km / N'_k + Z'_0 summed over every
+    wide mode at once, for thin and thick first layers below the run (common practice, no
+    source)."""
+    from pulsetherm.network.builder import _below_g, _cross_kernel
+    from pulsetherm.network.spreading import _phi
+    b, b2 = 1.1e-3, 4.4e-3
+    d, d2, j0lam, inv_n, I, inv_k = _cross_kernel(b, b2, 32)
+    for kl, tl in [((180.0, 60.0), (1e-3, 5e-5)), ((390.0, 0.7), (35e-6, 5e-4)),
+                   ((180.0,), (2e-5,)), ((20.0, 390.0, 3.0), (3e-3, 1e-4, 5e-5))]:
+        w = _phi(d2, np.array(kl), np.array(tl), math.inf) / (kl[0] * d2) * inv_k
+        ref = I.T @ (I * w[:, None])
+        ref[0, 0] += sum(t / k for k, t in zip(kl, tl)) * (0.5 * b * b) ** 2 / (0.5 * b2 * b2)
+        np.testing.assert_allclose(_below_g(b, b2, 32, kl, tl, math.inf), ref, rtol=1e-12,
+                                   atol=1e-12 * np.abs(ref).max())
