@@ -648,9 +648,9 @@ def build(assembly: Assembly, *, t_min: float = DEFAULT_T_MIN,
             for s in segs:
                 s.angle = 0.0
         profile = None
+        xis = _column_xis(segs, grade, t_min)
         if spreading == "calibrated":
             if reference == "series":
-                xis = _column_xis(segs, grade, t_min)
                 profile = depth_profile(segs, part.footprint, sink,
                                         lambda pr: _profile_points(pr, segs, xis))
             if profile is None:
@@ -658,7 +658,7 @@ def build(assembly: Assembly, *, t_min: float = DEFAULT_T_MIN,
                     s.cap_angle = s.angle
                 calibrate_angles(segs, part.footprint, sink, reference=reference)
         col = _build_column(nl, part, segs, grade, t_min, sink, sink_node, merge,
-                            nonlinear, node_map, board_faces, profile)
+                            nonlinear, node_map, board_faces, profile, xis)
         columns[part.name] = col
         inputs[part.name] = part.name
         probes.append(col.junction)
@@ -702,12 +702,14 @@ def _column_xis(segs: list[_Seg], grade: Grading, t_min: float) -> list[np.ndarr
 def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min: float,
                   sink, sink_node: str, merge: bool, nonlinear: bool,
                   node_map: dict, board_faces: dict,
-                  profile: _Profile | None = None) -> ColumnInfo:
+                  profile: _Profile | None = None,
+                  xis: list[np.ndarray] | None = None) -> ColumnInfo:
     p = part.name
     junction = part.junction
     top = f"{p}.case" if part.datasheet else junction
     w, l = part.footprint
-    xis = _column_xis(segs, grade, t_min)
+    if xis is None:
+        xis = _column_xis(segs, grade, t_min)
     # profile mode: the profile read at every depth the ladder needs, in one evaluation
     # (:func:`_profile_points`, in element order)
     reads = iter(profile.readings) if profile is not None and profile.readings else None

@@ -358,7 +358,8 @@ def test_j1_roots_beyond_the_exact_head():
     from scipy.special import jn_zeros
     from pulsetherm.network.spreading import _j1_roots
     np.testing.assert_allclose(_j1_roots(400), jn_zeros(1, 400), rtol=0, atol=1e-11)
-    # the exact head is computed once and sliced: bit-identical to jn_zeros(1, k) for each k
+    # the exact head is written out (spreading._J1_HEAD) and sliced: bit-identical to
+    # jn_zeros(1, k) for each k
     for k in (1, 7, 20, 63, 64):
         assert np.array_equal(_j1_roots(k), jn_zeros(1, k))
         assert not _j1_roots(k).flags.writeable
