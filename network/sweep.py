@@ -437,8 +437,8 @@ def plan_sweep(scn: Scenario, vary: Sequence[str] = (), mc: Sequence[str] = (),
 # ======================================================================================
 _BASE: dict[str, Any] = {}
 #: Set in the parent while a pool of forked workers starts: (scenario, model cache) with
-#: the first row's network already built; a forked worker starts from it instead of
-#: loading the scenario and building that network again.  None otherwise.
+#: the first row already run; a forked worker starts from it instead of loading the
+#: scenario and building and solving that network again.  None otherwise.
 _PREWARM: tuple[Any, Any] | None = None
 
 
@@ -915,7 +915,11 @@ def _run_pool(plan: SweepPlan, todo: list[tuple[str, dict[str, Any]]], workers: 
     size = chunk_size(len(todo), workers)
     global _PREWARM
     if method == "fork":
-        _PREWARM = _prewarm(plan, todo)
+        warm = _prewarm(plan, todo)
+        if warm is not None:
+            _PREWARM, first = warm
+            finish(first)
+            todo = todo[1:]
     initargs = (plan.scenario.to_dict(), plan.scenario.source,
                 getattr(plan.scenario, "allow_paths", ()))
 
@@ -979,19 +983,19 @@ def _run_pool(plan: SweepPlan, todo: list[tuple[str, dict[str, Any]]], workers: 
 
 
 def _prewarm(plan: SweepPlan, todo: list[tuple[str, dict[str, Any]]]):
-    """(scenario, model cache) with the first row's network built, when the rows change
-    only waveforms (so that later rows reuse it); None otherwise.  Built once here, before
-    the workers fork, instead of once in every worker."""
+    """((scenario, model cache), first row) when the rows change only waveforms, else
+    None: the first row runs here, before the workers fork, so that every worker starts
+    with its network built, the eigendecomposition done and the periodic response that a
+    drive-level row rescales (:mod:`pulsetherm.network.rescale`), instead of doing that
+    work once in each worker.  The row is the one a worker would return (:func:`run_row`
+    records any failure of it)."""
     from .sweepcache import ModelCache, is_waveform_path
 
     if not todo or not all(is_waveform_path(p) for p in todo[0][1]):
         return None
     cache = ModelCache()
-    try:
-        cache.model(with_values(plan.scenario, todo[0][1]), todo[0][1])
-    except Exception:  # noqa: BLE001 - the row fails in its worker, as it would alone
-        pass
-    return plan.scenario, cache
+    key, values = todo[0]
+    return (plan.scenario, cache), run_row(plan.scenario, values, key, cache)
 
 
 def _run_dask(plan: SweepPlan, todo: list[tuple[str, dict[str, Any]]], scheduler: Any,
