@@ -395,12 +395,16 @@ def _tail_factor(a: float, b: float, n: int) -> tuple[float, np.ndarray]:
 
 
 def _avg_sum(a: float, b: float, ks: np.ndarray, ts: np.ndarray, h: float,
-             n: int) -> float:
-    """R_sp,avg from n terms plus the asymptotic tail (:func:`_tail_factor`)."""
+             n: int, known: np.ndarray | None = None) -> tuple[float, np.ndarray]:
+    """R_sp,avg from n terms plus the asymptotic tail (:func:`_tail_factor`), and the φ of
+    the n modes; ``known``: the φ of the first modes from a shorter sum (the same numbers:
+    the modes of n terms begin with those of fewer)."""
     d, w = _avg_weights(a, b, n)
     fac, zq = _tail_factor(a, b, n)
-    return float(np.sum(w * _phi(d, ks, ts, h)) + fac * float(_TAIL_W @ _phi(zq, ks, ts, h))) \
-        / float(ks[0])
+    m = 0 if known is None else known.size
+    phi = _phi(d[m:], ks, ts, h) if m == 0 else np.concatenate([known, _phi(d[m:], ks, ts, h)])
+    return (float(np.sum(w * phi) + fac * float(_TAIL_W @ _phi(zq, ks, ts, h)))
+            / float(ks[0]), phi)
 
 
 
@@ -486,7 +490,7 @@ def circular_series(a: float, b: float, k, t, h: float, *,
                                   res.method, 0.0)
         return res
     n = int(2 ** math.ceil(math.log2(max(128.0, 4.0 * b / a))))
-    prev = _avg_sum(a, b, ks, ts, h, n)
+    prev, phi = _avg_sum(a, b, ks, ts, h, n)
     err = math.inf
     while True:
         if 2 * n > _MAX_BESSEL_TERMS:
@@ -495,7 +499,7 @@ def circular_series(a: float, b: float, k, t, h: float, *,
                 f"{_MAX_BESSEL_TERMS} terms (estimated relative error {err:.2g}); the "
                 "source is very small against the plate: relax rtol, or use lee_1995")
         n *= 2
-        avg = _avg_sum(a, b, ks, ts, h, n)
+        avg, phi = _avg_sum(a, b, ks, ts, h, n, phi)
         err = abs(avg - prev) / abs(avg)
         if err <= rtol:
             break
