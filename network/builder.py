@@ -1419,9 +1419,7 @@ def _cross_terms_uncached(a: float, b: float, b2: float,
         A = np.zeros(N)
         s = np.zeros(N)
     # the run alone: the same for every stack
-    T = _transfer(d, kr, tr)
-    Zu = _phi(d, kr, tr, math.inf) / (kr[0] * d)
-    D = 1.0 / (_admittance_up(d, kr, tr) * inv_n)
+    T, Zu, D = _run_alone(b, n_up, tuple(kr.tolist()), tuple(tr.tolist()))
     r_run = np.sum(tr / kr) * A0
     stacks = [(np.asarray(ks, dtype=float), np.asarray(ts, dtype=float))
               for ks, ts in stacks]
@@ -1442,6 +1440,28 @@ def _cross_terms_uncached(a: float, b: float, b2: float,
     for q, x in zip(live, r_coupled - r_split):
         out[q] = float(x)
     return out
+
+
+@functools.lru_cache(maxsize=64)
+def _run_alone(b: float, n_up: int, kr: tuple[float, ...], tr: tuple[float, ...]
+               ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The run's own two-port in its modes δ_n (:func:`_cross_terms_uncached`): the
+    isothermal-bottom transmission T_n (:func:`_transfer`), the input impedance
+    Z_n = φ_n/(k_1δ_n) and N_n/Y_n with the bottom admittance Y_n (:func:`_admittance_up`).
+    A pure function of the run's layers and radius, cached (read-only arrays): a sweep of
+    another layer keeps it."""
+    from scipy.special import j0 as J0
+    from .spreading import _j1_roots, _phi
+    lam = _j1_roots(n_up)            # the run's modes, as :func:`_cross_kernel` has them
+    d = lam / b
+    inv_n = 1.0 / (0.5 * b * b * J0(lam) ** 2)
+    kr_a, tr_a = np.array(kr), np.array(tr)
+    T = _transfer(d, kr_a, tr_a)
+    Zu = _phi(d, kr_a, tr_a, math.inf) / (kr_a[0] * d)
+    D = 1.0 / (_admittance_up(d, kr_a, tr_a) * inv_n)
+    for x in (T, Zu, D):
+        x.flags.writeable = False
+    return T, Zu, D
 
 
 @functools.lru_cache(maxsize=512)
