@@ -563,7 +563,7 @@ def circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = N
     return R.copy(), dR.copy()
 
 
-@functools.lru_cache(maxsize=2048)
+@functools.lru_cache(maxsize=256)   # an entry holds a column's depths (~500): ~30 kB
 def _depth_profile_cached(key):
     a, b, k, t, shape, z, terms, so = key
     return _circular_depth_profile(a, b, list(k), list(t), np.array(z).reshape(shape),
