@@ -332,3 +332,42 @@ def test_a_verb_parser_knows_only_its_verb(capsys):
 
     assert _parse(build_parser("run"), ["check", "s.toml"], capsys)[0] == ("exit", 2)
     assert _parse(build_parser(), ["check", "s.toml"], capsys)[0][0] == "ok"
+
+
+@pytest.mark.parametrize("verb, paused", [("run", True), ("check", True), ("zth", True),
+                                          ("materials", True), ("sweep", False),
+                                          ("size", False), ("ui", False)])
+def test_the_collector_is_paused_for_one_shot_verbs_only(monkeypatch, verb, paused):
+    """The one-scenario verbs run without the cyclic garbage collector (their imports made it
+    rescan ~10^5 long-lived objects); the long ones keep it, and every verb restores it."""
+    import gc
+
+    from pulsetherm.tui import cli
+
+    seen = []
+    monkeypatch.setitem(cli._HANDLERS, verb, lambda args: seen.append(gc.isenabled()) or 0)
+    argv = {"run": ["run", "s.toml"], "check": ["check", "s.toml"],
+            "zth": ["zth", "s.toml", "--probe", "p"], "materials": ["materials"],
+            "sweep": ["sweep", "s.toml"], "size": ["size", "s.toml", "--adjust", "a",
+                                                   "--range", "1..2 K/W"], "ui": ["ui"]}[verb]
+    assert gc.isenabled()
+    assert main(argv) == 0
+    assert seen == [not paused] and gc.isenabled()
+    gc.disable()                     # a caller that had it off gets it back off
+    try:
+        assert main(argv) == 0 and not gc.isenabled()
+    finally:
+        gc.enable()
+
+
+@pytest.mark.parametrize("call, frozen", [("main()", True), ("main(['materials'])", False),
+                                          ("main(['sweep', '--help'])", False)])
+def test_only_the_processs_own_one_shot_command_freezes_its_objects(call, frozen):
+    """The ``pulsetherm`` script (main() on sys.argv) freezes the objects of a one-shot verb
+    before exit; a caller passing its own argv keeps a normal collector."""
+    code = ("import gc, sys\nsys.argv = ['pulsetherm', 'materials']\n"
+            "from pulsetherm.tui.cli import main\n"
+            f"rc = {call}\nprint(gc.get_freeze_count() > 0, gc.isenabled(), rc)\n")
+    out = subprocess.run([sys.executable, "-P", "-c", code], capture_output=True, text=True,
+                         cwd=ROOT, timeout=120)
+    assert out.stdout.split()[-3:] == [str(frozen), "True", "0"], out.stdout + out.stderr
