@@ -57,13 +57,12 @@ class _EdgeView:
     def __init__(self, adj: dict[Any, dict]) -> None:
         self._adj = adj
 
-    def _triples(self) -> Iterator[tuple]:
-        seen = set()
-        for u, nbrs in self._adj.items():
-            for v, d in nbrs.items():
-                if v not in seen:
-                    yield u, v, d
-            seen.add(u)
+    def _triples(self) -> list[tuple]:
+        """(u, v, attributes) of every edge once, from its end added first (a self-loop
+        once): networkx's order."""
+        pos = {u: i for i, u in enumerate(self._adj)}
+        return [(u, v, d) for u, nbrs in self._adj.items() for v, d in nbrs.items()
+                if pos[v] >= pos[u]]
 
     def __getitem__(self, pair) -> dict:
         u, v = pair
@@ -73,7 +72,7 @@ class _EdgeView:
         return ((u, v) for u, v, _ in self._triples())
 
     def __len__(self) -> int:
-        return sum(1 for _ in self._triples())
+        return len(self._triples())
 
     def __contains__(self, pair) -> bool:
         try:
@@ -84,7 +83,7 @@ class _EdgeView:
 
     def __call__(self, data: bool = False):
         if data:
-            return list(self._triples())
+            return self._triples()
         return [(u, v) for u, v, _ in self._triples()]
 
 

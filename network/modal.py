@@ -312,7 +312,8 @@ class ModalSolver:
         if n_float:
             lam[:n_float] = 0.0
         self.lam = lam
-        self.V = s[:, None] * U
+        U *= s[:, None]                         # V = S U in place (no second n×n array)
+        self.V = U
         self.W = self.V.T @ cond.B
         n, nc = system.n, cond.nc
         Dp = np.zeros((n, system.m))

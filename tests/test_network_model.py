@@ -319,3 +319,28 @@ def test_solver_options_reach_the_solver_and_bad_ones_are_named():
         net.periodic(w, method="sparse")
     with pytest.raises(ValueError, match="not a solver"):
         net.configure_solver("fast", tol=1)
+
+
+@pytest.mark.parametrize("shape", [(5, 7), (30, 1), (60, 60), (200, 3), (300, 300)])
+def test_triplets_to_csr_sum_duplicates_on_every_path(shape):
+    """assemble._csr sums duplicate (row, col) triplets on each of its paths (dense scratch,
+    sorted triplets, scipy's COO for large matrices), and the two small paths drop exact
+    zeros: against numpy.add.at on a dense array.  Common practice, no source."""
+    from pulsetherm.network.assemble import SMALL_N, _csr
+
+    rng = np.random.default_rng(sum(shape))
+    nr, nc = shape
+    for m in (0, 1, 3 * (nr + nc)):
+        r = rng.integers(0, nr, m)
+        c = rng.integers(0, nc, m)
+        v = rng.normal(size=m)
+        if m > 2:
+            v[:2] = 0.0                             # explicit zeros
+            r[-1], c[-1], v[-1] = r[-2], c[-2], -v[-2]   # a pair that cancels
+        A = _csr(v, r, c, shape)
+        D = np.zeros(shape)
+        np.add.at(D, (r, c), v)
+        assert A.shape == shape and A.has_sorted_indices
+        np.testing.assert_allclose(A.toarray(), D, rtol=1e-14, atol=1e-15)
+        if nr * nc <= SMALL_N * SMALL_N:
+            assert A.nnz == np.count_nonzero(A.toarray())
