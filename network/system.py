@@ -16,6 +16,7 @@ Shapes: n free nodes, nb boundaries, m inputs, ne conductances.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 import scipy.sparse as sp
@@ -96,8 +97,10 @@ class ThermalSystem:
     def nb(self) -> int:
         return len(self.boundary_names)
 
-    @property
+    @cached_property
     def is_linear(self) -> bool:
+        """No k(T) exponent and no temperature coefficient (read once: the arrays of a
+        system are not changed after assembly)."""
         return not (np.any(self.edge_a != 0.0) or np.any(self.input_tc != 0.0))
 
     def index(self, name: str) -> int:
