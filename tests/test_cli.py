@@ -4,6 +4,7 @@ source."""
 from __future__ import annotations
 
 import json
+import os
 import subprocess
 import sys
 from pathlib import Path
@@ -27,6 +28,27 @@ def test_help_does_not_import_numpy_or_scipy():
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
     assert out.returncode == 0, out.stdout + out.stderr
     assert "usage: pulsetherm" in out.stdout
+
+
+@pytest.mark.parametrize("given", [None, "2"])
+def test_the_script_runs_blas_on_one_thread_unless_told(given):
+    """The ``pulsetherm`` script (main() on the process's own command line) sets one BLAS
+    thread before numpy loads, unless the environment names a count; main() called with
+    an argument list (a library call) leaves the environment alone.  Common practice, no
+    source."""
+    code = ("import os, sys\nfrom pulsetherm.tui.cli import main\n"
+            "main(['materials'])\nprint('lib', os.environ.get('OPENBLAS_NUM_THREADS'))\n"
+            "sys.argv = ['pulsetherm', 'materials']\nmain()\n"
+            "import numpy\nprint('script', os.environ.get('OPENBLAS_NUM_THREADS'))\n")
+    env = {k: v for k, v in os.environ.items() if k not in
+           ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS")}
+    if given is not None:
+        env["OPENBLAS_NUM_THREADS"] = given
+    out = subprocess.run([sys.executable, "-P", "-c", code], capture_output=True, text=True,
+                         env=env)
+    assert out.returncode == 0, out.stderr
+    lines = [ln for ln in out.stdout.splitlines() if ln.startswith(("lib ", "script "))]
+    assert lines == [f"lib {given}", f"script {given or '1'}"]
 
 
 def test_materials_list_and_show(capsys):

