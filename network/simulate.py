@@ -901,6 +901,11 @@ class ProbeStats:
                 "ripple_K": self.ripple_K, "limit_C": self.limit_C, "margin_K": self.margin_K}
 
 
+def violations(probes: Mapping[str, ProbeStats], margin: float = 0.0) -> list[str]:
+    """Names of the probes whose margin to their limit is below ``margin`` K."""
+    return [n for n, p in probes.items() if p.margin_K is not None and p.margin_K < margin]
+
+
 @dataclass(eq=False)
 class RunResult:
     """Result of :func:`simulate`.
@@ -941,8 +946,7 @@ class RunResult:
 
     def violations(self, margin: float = 0.0) -> list[str]:
         """Probes whose margin to their limit is below ``margin`` K."""
-        return [n for n, p in self.probes.items()
-                if p.margin_K is not None and p.margin_K < margin]
+        return violations(self.probes, margin)
 
     @property
     def ok(self) -> bool:
@@ -1021,6 +1025,27 @@ def _refuse_single_shot(scn: Scenario) -> None:
 
 def simulate(scn: Scenario | ScenarioModel) -> RunResult:
     """Periodic steady state of a scenario: probe figures, budget, warm-up, cautions."""
+    model, resp, probes = probe_figures(scn)
+    s = model.scenario
+    amb = s.ambient_C
+    hottest = max(model.probes, key=lambda n: probes[n].peak_C) if probes else None
+    warm = _warmup(model, resp, hottest)
+    budget, bprobe = _budget(model)
+    effects = None
+    if any(d.rf or d.cycling for d in s.devices or ()):      # [devices.rf] / [devices.cycling]
+        from .device_effects import device_effects
+
+        effects = device_effects(model)
+    cautions = model.cautions() + (effects.cautions if effects is not None else [])
+    return RunResult(s.name, amb, probes, warm, budget, cautions, resp, model, bprobe,
+                     effects=effects)
+
+
+def probe_figures(scn: Scenario | ScenarioModel):
+    """The periodic solve of a scenario and its probes' figures, without the warm-up time,
+    layer budget and device-effect figures :func:`simulate` adds to them (what a sweep row
+    or a sizing step reads).  Returns (model, periodic response, probe name ->
+    :class:`ProbeStats`)."""
     model = scn if isinstance(scn, ScenarioModel) else build(scn)
     s = model.scenario
     net = model.network
@@ -1049,18 +1074,7 @@ def simulate(scn: Scenario | ScenarioModel) -> RunResult:
                                 f"peak {pk!r} degC (check the powers: they overflow)")
         lim = model.limits.get(name)
         probes[name] = ProbeStats(pk, mn, lo, pk - lo, lim, None if lim is None else lim - pk)
-    amb = s.ambient_C
-    hottest = max(model.probes, key=lambda n: probes[n].peak_C) if probes else None
-    warm = _warmup(model, resp, hottest)
-    budget, bprobe = _budget(model)
-    effects = None
-    if any(d.rf or d.cycling for d in s.devices or ()):      # [devices.rf] / [devices.cycling]
-        from .device_effects import device_effects
-
-        effects = device_effects(model)
-    cautions = model.cautions() + (effects.cautions if effects is not None else [])
-    return RunResult(s.name, amb, probes, warm, budget, cautions, resp, model, bprobe,
-                     effects=effects)
+    return model, resp, probes
 
 
 def _check_periodic_work(model: ScenarioModel, nodes: list[str]) -> None:
