@@ -64,7 +64,7 @@ def axis(case: str, n: int, run: int) -> str:
 
 def split(scn, case: str, rows: int = 40) -> dict[str, float]:
     """Mean seconds per row of each stage, in this process (values unseen before)."""
-    from pulsetherm.network.simulate import build, simulate
+    from pulsetherm.network.simulate import build, probe_figures
     from pulsetherm.network.sweepcache import ModelCache
 
     plan = plan_sweep(scn, vary=[axis(case, rows, 1000)])
@@ -81,7 +81,7 @@ def split(scn, case: str, rows: int = 40) -> dict[str, float]:
         nodes = list(dict.fromkeys(model.probes.values()))
         model.network.periodic(model.waveforms, probes=nodes, method=model.method)
         t3 = time.perf_counter()
-        simulate(model)  # solve again and the figures: the rest is the difference
+        probe_figures(model)  # solve again and the row's figures: the rest is the difference
         t4 = time.perf_counter()
         acc["scenario"] += t1 - t0
         acc["network"] += t2 - t1
