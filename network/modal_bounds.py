@@ -32,6 +32,13 @@ segment on both sides of each probe's best sample, after the sample-based refine
 found the usual maximum; it exists for responses with two nearly equal local maxima, where
 the samples alone can point at the wrong one.  Minima are the maxima of −θ.
 
+With few segments (the usual pulse train) the per-candidate work is mostly fixed cost, so
+after the two slope lines over whole segments the first level is fused: every segment is
+cut at all its samples and at the graded offsets around every probe's best samples, and
+every interval is bounded for every probe and both signs at once (probe rows of a few
+matrix products over the unique cut points).  Open intervals of a small level are then cut
+in quarters rather than halves (one level instead of two), larger levels in halves.
+
 This is interval bounding of a sum of monotone terms (common practice, no source); the
 monotone-term form follows from the modal solution (Carslaw and Jaeger, *Conduction of Heat
 in Solids*, 2nd ed., 1959, normal-mode expansions).
@@ -107,18 +114,19 @@ def _line_bound(th_a, th_b, U, L, w, Kl=None):
 
 def _cubic_max(A, B, C, D, h):
     """Largest value of A + B x + C x² + D x³ on [0, h] (arrays): the ends and the real
-    roots of B + 2C x + 3D x² = 0 (clipped into the interval), elementwise."""
+    roots of B + 2C x + 3D x² = 0 (clipped into the interval), elementwise.  Any point of
+    [0, h] is a valid candidate, so the roots are not screened: a complex pair (disc < 0,
+    √ taken of 0), a root of a vanishing D or C (±inf, nan) only adds a point that is
+    clipped (``fmin``/``fmax`` map nan to the bound) and evaluated."""
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        disc = C * C - 3.0 * D * B
-        sq = np.sqrt(np.maximum(disc, 0.0))
+        sq = np.sqrt(np.fmax(C * C - 3.0 * D * B, 0.0))
         # stable roots of 3D x² + 2C x + B: with q = −(C + sign(C)·√disc), q/(3D) and B/q
         qq = -(C + np.copysign(sq, C))
         # both roots (and −B/2C, the one root when D = 0), clipped into [0, h]
-        x = np.stack([qq / (3.0 * D), B / qq, -B / (2.0 * C)])
-        x = np.minimum(np.maximum(x, 0.0), h)
-        x[~np.isfinite(x) | (disc < 0)] = 0.0
+        x = np.stack([qq / (3.0 * D), B / qq, -B / (2.0 * C), np.broadcast_to(h, qq.shape)])
+        np.fmin(np.fmax(x, 0.0, out=x), h, out=x)
         inner = (A + x * (B + x * (C + x * D))).max(axis=0)
-        return np.maximum(np.maximum(A, A + h * (B + h * (C + h * D))), inner)
+        return np.maximum(A, inner)
 
 
 def _taylor_bound(th_a, th_b, d_a, d_b, c2a, c2b, M3, m3, w):
@@ -139,10 +147,11 @@ def _taylor_bound(th_a, th_b, d_a, d_b, c2a, c2b, M3, m3, w):
     return np.where(np.isnan(ub), np.inf, ub)
 
 
-def _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol):
+def _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol, lines_only=False):
     """Whole-segment bounds for every probe and sign at once (matrix products; the end
     states are the next segments' starts).  Returns (slot, segment) of the segments whose
-    bound exceeds the best value (slot j: maximum of probe j, p + j: its minimum), or None."""
+    bound exceeds the best value (slot j: maximum of probe j, p + j: its minimum), or None;
+    with ``lines_only`` the two slope lines alone, as a (2p, N) mask of the open ones."""
     lam = solver.lam[:, None]
     N = h.size
     if q_end is None:
@@ -170,6 +179,8 @@ def _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol):
                            _line_bound(-th_a, -th_b, -L, -U, w)]) > best[:, None] + tol
     if not live.any():
         return None
+    if lines_only:
+        return live
     # where the two lines leave a segment open: the chord plus parabola, then the Taylor
     # bounds (their products only for the open segments)
     c2a, c2b = Pp @ ca, Pp @ cb
@@ -240,6 +251,112 @@ def _sample_intervals(t, edges, ck, cj, sg, slot, t_best):
     return ck[rep], cj[rep], sg[rep], slot[rep], allc[left], allc[right], new_left
 
 
+def _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol, t_best, record,
+                 open_):
+    """The first level of the search over every segment at once, for a few segments: each
+    segment is cut at the samples inside it and at the graded offsets around every slot's
+    best sample that lies in it, and every interval is bounded for every probe and both
+    signs together (probe rows of matrix products over the unique cut points, instead of
+    one column per candidate).  The graded cuts are exact values: they are recorded, and
+    raise the best, before the bounds are compared; ``open_`` (2p, N) marks the (slot,
+    segment) pairs that the whole-segment lines leave open (the others are cleared).
+    Returns the intervals left open as
+    candidates (ck, cj, sg, slot, sa, sb, ends_a, ends_b, d_a, d_b, K), or None."""
+    N = edges.size - 1
+    p = Pp.shape[0]
+    h = edges[1:] - edges[:-1]
+    lam = solver.lam[:, None]
+    # cut points (segment, offset): both ends, the samples strictly inside, the graded cuts
+    ks = np.searchsorted(edges, t, side="right") - 1
+    inner = (ks >= 0) & (ks < N)
+    inner[inner] = t[inner] > edges[ks[inner]]
+    ki = ks[inner]
+    si = np.minimum(t[inner] - edges[ki], h[ki])
+    kb = np.clip(np.searchsorted(edges, t_best, side="right") - 1, 0, N - 1)
+    kb = np.concatenate([kb, np.maximum(kb - 1, 0)])       # a best at an edge: both sides
+    tb = np.concatenate([t_best, t_best]) - edges[kb]
+    at = (tb >= 0.0) & (tb <= h[kb])
+    kb, tb = kb[at], tb[at]
+    g = h[kb][:, None] * GRADED_CUTS[None, :]
+    kg = np.repeat(kb, 2 * GRADED_CUTS.size)
+    sgc = np.concatenate([tb[:, None] - g, tb[:, None] + g], axis=1).ravel()
+    ing = (sgc > 0.0) & (sgc < h[kg])
+    kg, sgc = kg[ing], sgc[ing]
+    seg = np.concatenate([np.arange(N), np.arange(N), ki, kg])
+    off = np.concatenate([np.zeros(N), h, si, sgc])
+    new = np.concatenate([np.zeros(2 * N + ki.size, dtype=bool), np.ones(kg.size, dtype=bool)])
+    order = np.lexsort((new, off, seg))                   # a sample before an equal cut
+    seg, off, new = seg[order], off[order], new[order]
+    keep = np.ones(seg.size, dtype=bool)
+    keep[1:] = (seg[1:] != seg[:-1]) | (off[1:] != off[:-1])
+    seg, off, new = seg[keep], off[keep], new[keep]
+    lv, sl = level[seg], slope[seg]
+    q, dq, cq = _derivs(solver, starts[:, seg], off, lv, sl)
+    th = Pp @ q + Dp @ (lv + off[:, None] * sl).T         # (p, points)
+    dsl = Dp @ sl.T
+    d1 = Pp @ dq + dsl
+    c2 = Pp @ cq
+    if new.any():                                         # the graded cuts: exact values
+        gi = np.flatnonzero(new)
+        vals = np.concatenate([th[:, gi], -th[:, gi]])    # (2p, cuts)
+        gain = vals > best[:, None] + tol
+        if gain.any():
+            record(edges[seg[gi]] + off[gi], th[:, gi].T, gain.any(axis=0))
+            np.maximum(best, np.where(gain, vals, -np.inf).max(axis=1), out=best)
+    ia = np.flatnonzero(seg[1:] == seg[:-1])
+    ib = ia + 1
+    aP = np.abs(Pp)
+    dd = np.abs(dq[:, ia] - dq[:, ib])
+    dc = cq[:, ia] - cq[:, ib]
+    sums = np.concatenate([dd, np.abs(dc), lam * np.abs(dc)], axis=1)
+    spreads = 0.5 * (aP @ sums)                           # (p, 3 intervals)
+    I = ia.size
+    spread, c_spread, t3_spread = spreads[:, :I], spreads[:, I:2 * I], spreads[:, 2 * I:]
+    t3_mid = -0.5 * (Pp @ (lam * (cq[:, ia] + cq[:, ib])))
+
+    def both(x):
+        return np.concatenate([x, -x])
+
+    th_a, th_b, d_a, d_b = both(th[:, ia]), both(th[:, ib]), both(d1[:, ia]), both(d1[:, ib])
+    c2a, c2b = both(c2[:, ia]), both(c2[:, ib])
+    mid = 0.5 * (d_a + d_b)
+    spread = np.concatenate([spread, spread])
+    U, L = mid + spread, mid - spread
+    c_mid = 0.5 * (c2a + c2b)
+    c_spread = np.concatenate([c_spread, c_spread])
+    K, Kl = c_mid + c_spread, c_mid - c_spread
+    t3_mid = both(t3_mid)
+    t3_spread = np.concatenate([t3_spread, t3_spread])
+    M3, m3 = t3_mid + t3_spread, t3_mid - t3_spread
+    w = np.broadcast_to((off[ib] - off[ia])[None, :], th_a.shape)
+    bar = best[:, None] + tol
+    live = open_[:, seg[ia]] & (_line_bound(th_a, th_b, U, L, w, Kl) > bar)
+    if live.any():
+        r, c = np.nonzero(live)
+        live[r, c] = _taylor_bound(th_a[r, c], th_b[r, c], d_a[r, c], d_b[r, c], c2a[r, c],
+                                   c2b[r, c], M3[r, c], m3[r, c], w[r, c]) > bar[r, 0]
+    if not live.any():
+        return None
+    slot, c = np.nonzero(live)
+    a, b = ia[c], ib[c]
+    ends_a = (q[:, a], dq[:, a], cq[:, a])
+    ends_b = (q[:, b], dq[:, b], cq[:, b])
+    return (seg[a], slot % p, np.where(slot < p, 1.0, -1.0), slot, off[a], off[b], ends_a,
+            ends_b, d_a[slot, c], d_b[slot, c], K[slot, c])
+
+
+#: At most this many segments take the fused first level (:func:`_fused_level`); longer
+#: waveforms are bounded whole segment by whole segment first (:func:`_coarse`).
+FUSED_SEGMENTS = 16
+#: The fused first level's largest modes x cut points array.
+FUSED_ELEMENTS = 400_000
+#: Pieces an open interval is cut into when modes x open intervals is at most
+#: SMALL_LEVEL (a level's cost is then mostly fixed: one level of quarters instead of two
+#: of halves); larger levels halve.
+SPLIT_PIECES = 4
+SMALL_LEVEL = 50_000
+
+
 def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=None):
     """Add to the samples t (k,), v (k, p) (rises, sorted) every local extreme that the
     sample-based refinement missed, so that the largest and smallest samples of each probe
@@ -255,19 +372,10 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
     scale = float(np.max(np.abs(v)))
     tol = REL_TOL * scale if scale > 0 else 0.0
     h = edges[1:] - edges[:-1]
-    # candidates: (probe, sign) x segment; sign +1 maximum, −1 minimum; the segments whose
-    # whole-segment bound beats the best are bounded again over the intervals between
-    # their samples (much tighter than one line pair)
+    nm = solver.lam.size
+    # candidates: (probe, sign) x interval; sign +1 maximum, −1 minimum
     best = np.concatenate([v.max(axis=0), -v.min(axis=0)])          # (2p,)
-    live = _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol)
-    if live is None:
-        return t, v
-    slot, ck = live
-    cj = slot % p
-    sg = np.where(slot < p, 1.0, -1.0)
     t_best = t[np.concatenate([v.argmax(axis=0), v.argmin(axis=0)])]
-    ck, cj, sg, slot, sa, sb, graded = _sample_intervals(t, edges, ck, cj, sg, slot,
-                                                         t_best)
     new_t, new_v = [], []
 
     def record(sel, s, q, ck, cj, sg, slot, lv, sl):
@@ -281,15 +389,78 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
             new_v.append(vals[gain])
             np.maximum.at(best, slot[sel][gain], mine[gain])
 
+    def record_points(tt, vals, gain):
+        new_t.append(tt[gain])
+        new_v.append(vals[gain])
+
     # candidates per pass, so that the (modes, candidates) arrays stay near CHUNK_ELEMENTS
-    chunk = max(1, CHUNK_ELEMENTS // max(solver.lam.size, 1))
+    chunk = max(1, CHUNK_ELEMENTS // max(nm, 1))
 
     def take(ends, sel):
         return tuple(e[:, sel] for e in ends)
 
+    def descend(ck, cj, sg, slot, sa, sb, ends_a, ends_b, d_a, d_b, K, live, depth):
+        """The open intervals (``live``) of a level: a concave one (K ≤ 0) holds its
+        maximum at an end or at the one root of θ' (safeguarded Newton, recorded); the
+        others are cut into pieces whose new ends are recorded.  Returns the pieces
+        (ck, cj, sg, slot, sa, sb, ends_a, ends_b, depth) or None."""
+        q0s = starts[:, ck]
+        lv, sl = level[ck], slope[ck]
+        concave = live & (K <= 0)
+        root = np.flatnonzero(concave & (d_a > 0) & (d_b < 0))
+        if root.size:
+            Pj = Pp[cj[root]] * sg[root, None]
+            dj = Dp[cj[root]] * sg[root, None]
+
+            def fun(s, idx, root=root):
+                r = root[idx]
+                _, dq, cq = _derivs(solver, q0s[:, r], s, lv[r], sl[r])
+                return (np.einsum("ci,ic->c", Pj[idx], dq) + np.sum(dj[idx] * sl[r], axis=1),
+                        np.einsum("ci,ic->c", Pj[idx], cq))
+            xtol = np.maximum((sb[root] - sa[root]) * 1e-14, 1e-300)
+            s_star = newton(fun, sa[root], sb[root], d_a[root], d_b[root], xtol)
+            q_star, _, _ = _derivs(solver, q0s[:, root], s_star, lv[root], sl[root])
+            record(root, s_star, q_star, ck, cj, sg, slot, lv, sl)
+        split = np.flatnonzero(live & ~concave)
+        if split.size == 0 or depth <= 0:
+            return None
+        k = SPLIT_PIECES if split.size * nm <= SMALL_LEVEL and depth >= 2 else 2
+        a, b = sa[split], sb[split]
+        frac = np.arange(1, k) / k
+        pts = a[:, None] + (b - a)[:, None] * frac[None, :]            # (n, k − 1)
+        # pieces only where the new ends are distinct floats inside the interval (else
+        # halves, else the interval is at the resolution of its ends and is dropped)
+        full = (pts[:, 0] > a) & (pts[:, -1] < b)
+        if k > 2:
+            full &= np.all(pts[:, 1:] > pts[:, :-1], axis=1)
+        mid = 0.5 * (a + b)
+        half = ~full & (mid > a) & (mid < b)
+        fi, hi = np.flatnonzero(full), np.flatnonzero(half)
+        n, nf, nh = split.size, fi.size, hi.size
+        if nf + nh == 0:
+            return None
+        s_new = np.concatenate([pts[fi].ravel(), mid[hi]])
+        par = np.concatenate([np.repeat(fi, k - 1), hi])                 # into split
+        ends_n = _derivs(solver, q0s[:, split[par]], s_new, lv[split[par]],
+                         sl[split[par]])
+        record(split[par], s_new, ends_n[0], ck, cj, sg, slot, lv, sl)
+        # the pieces' ends index a pool: [left ends (n), right ends (n), new points]
+        base = 2 * n + np.arange(nf)[:, None] * (k - 1) + np.arange(k - 1)[None, :]
+        hb = 2 * n + nf * (k - 1) + np.arange(nh)
+        left = np.concatenate([np.concatenate([fi[:, None], base], axis=1).ravel(), hi, hb])
+        right = np.concatenate([np.concatenate([base, n + fi[:, None]], axis=1).ravel(), hb,
+                                n + hi])
+        owner = split[np.concatenate([np.repeat(fi, k), hi, hi])]
+        pool_s = np.concatenate([a, b, s_new])
+        ea, eb = take(ends_a, split), take(ends_b, split)
+        pool = tuple(np.concatenate([x, y, m], axis=1) for x, y, m in zip(ea, eb, ends_n))
+        return (ck[owner], cj[owner], sg[owner], slot[owner], pool_s[left], pool_s[right],
+                tuple(x[:, left] for x in pool), tuple(x[:, right] for x in pool),
+                depth - (2 if k == 4 else 1 if k == 2 else int(np.log2(k))))
+
     def search(ck, cj, sg, slot, sa, sb, ends_a, ends_b, depth, graded=None):
         """Branch and bound; ``ends_a``/``ends_b`` are the states (q, q', q'') at the
-        interval ends (None: computed), so a halving evaluates only its midpoints;
+        interval ends (None: computed), so a cut evaluates only its new points;
         ``graded`` marks the intervals that start at a graded cut (first level only)."""
         while depth > 0 and ck.size:
             if ck.size > chunk:
@@ -303,9 +474,9 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
             depth -= 1
             Pj = Pp[cj] * sg[:, None]
             dj = Dp[cj] * sg[:, None]
-            q0s = starts[:, ck]
             lv, sl = level[ck], slope[ck]
             if ends_a is None:
+                q0s = starts[:, ck]
                 ends_a = _derivs(solver, q0s, sa, lv, sl)
                 ends_b = _derivs(solver, q0s, sb, lv, sl)
                 # the graded cuts are exact values too (every other end is a sample)
@@ -323,35 +494,39 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
                                         Kl[lv_]) > best[slot[lv_]] + tol
             if not live.any():
                 return
-            concave = live & (K <= 0)
-            root = np.flatnonzero(concave & (d_a > 0) & (d_b < 0))
-            if root.size:
-                def fun(s, idx, root=root):
-                    r = root[idx]
-                    _, dq, cq = _derivs(solver, q0s[:, r], s, lv[r], sl[r])
-                    return (np.einsum("ci,ic->c", Pj[r], dq) + np.sum(dj[r] * sl[r], axis=1),
-                            np.einsum("ci,ic->c", Pj[r], cq))
-                xtol = np.maximum((sb[root] - sa[root]) * 1e-14, 1e-300)
-                s_star = newton(fun, sa[root], sb[root], d_a[root], d_b[root], xtol)
-                q_star, _, _ = _derivs(solver, q0s[:, root], s_star, lv[root], sl[root])
-                record(root, s_star, q_star, ck, cj, sg, slot, lv, sl)
-            split = np.flatnonzero(live & ~concave)
-            mid = 0.5 * (sa[split] + sb[split])
-            ok = (mid > sa[split]) & (mid < sb[split])
-            split, mid = split[ok], mid[ok]
-            if split.size == 0:
+            kids = descend(ck, cj, sg, slot, sa, sb, ends_a, ends_b, d_a, d_b, K, live,
+                           depth + 1)
+            if kids is None:
                 return
-            # the midpoints are exact values: they raise the best found so far
-            ends_m = _derivs(solver, q0s[:, split], mid, lv[split], sl[split])
-            record(split, mid, ends_m[0], ck, cj, sg, slot, lv, sl)
-            two = np.concatenate([split, split])
-            cj, sg, slot, ck = cj[two], sg[two], slot[two], ck[two]
-            sa, sb = np.concatenate([sa[split], mid]), np.concatenate([mid, sb[split]])
-            ea, eb = take(ends_a, split), take(ends_b, split)
-            ends_a = tuple(np.concatenate([x, m], axis=1) for x, m in zip(ea, ends_m))
-            ends_b = tuple(np.concatenate([m, y], axis=1) for m, y in zip(ends_m, eb))
+            ck, cj, sg, slot, sa, sb, ends_a, ends_b, depth = kids
 
-    search(ck, cj, sg, slot, sa, sb, None, None, MAX_DEPTH, graded)
+    n_cuts = t.size + 2 * N + 12 * p
+    if N <= FUSED_SEGMENTS and n_cuts * nm <= FUSED_ELEMENTS:
+        # the two slope lines over whole segments first (no new states: often all clear)
+        open_ = _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol,
+                        lines_only=True)
+        if open_ is None:
+            return t, v
+        first = _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol,
+                             t_best, record_points, open_)
+        if first is not None:
+            ck, cj, sg, slot, sa, sb, ends_a, ends_b, d_a, d_b, K = first
+            kids = descend(ck, cj, sg, slot, sa, sb, ends_a, ends_b, d_a, d_b, K,
+                           np.ones(ck.size, dtype=bool), MAX_DEPTH)
+            if kids is not None:
+                search(*kids)
+    else:
+        # the segments whose whole-segment bound beats the best are bounded again over
+        # the intervals between their samples (much tighter than one line pair)
+        live = _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol)
+        if live is None:
+            return t, v
+        slot, ck = live
+        cj = slot % p
+        sg = np.where(slot < p, 1.0, -1.0)
+        ck, cj, sg, slot, sa, sb, graded = _sample_intervals(t, edges, ck, cj, sg, slot,
+                                                             t_best)
+        search(ck, cj, sg, slot, sa, sb, None, None, MAX_DEPTH, graded)
     if not new_t:
         return t, v
     from .solvers import merge_samples

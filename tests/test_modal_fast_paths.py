@@ -1,0 +1,108 @@
+"""Fast paths of the exact modal solver against its general paths (common practice, no
+source: two ways of computing the same closed form must agree).
+
+* ``ModalSolver._seg_states`` without ramps (every slope 0: ψ₀ from expm1 alone) against
+  the general ψ₀/ψ₁ tables of ``_phis``;
+* the certified extremes of ``modal_bounds.certify`` through the fused first level (a few
+  segments: every interval bounded for every probe at once, then open intervals cut in
+  quarters) against the general path (whole segments, then per-candidate sample
+  intervals, halvings), with the sample-based refinement switched off so that the search
+  alone has to find every extreme, and against a 2000-point grid per segment.
+"""
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+import pulsetherm.network.modal as modal
+import pulsetherm.network.modal_bounds as mb
+from pulsetherm.network.model import ThermalNetwork
+from pulsetherm.waveforms.canonical import Piecewise
+
+from tests.test_engine_properties import _graded_chain, random_net
+
+PULSE_A = Piecewise([0.0, 1e-4, 1e-3], [10.0, 0.0])
+PULSE_B = Piecewise([0.0, 2e-4, 1.5e-3], [4.0, 1.0], slope=[2e4, 0.0])
+PULSE_C = Piecewise([0.0, 3e-5, 4e-4, 5e-4], [6.0, 0.5, 0.0])      # levels only
+
+
+def _solver(net: ThermalNetwork) -> modal.ModalSolver:
+    return modal.ModalSolver(net.system())
+
+
+@pytest.mark.parametrize("seed", [1, 2, 3])
+def test_seg_states_without_ramps_matches_general_tables(seed):
+    """q, q', q'' at offsets from 0 to 10⁴ time constants (λs across the 0.1 series switch
+    of g_k): the no-ramp path against e^{−λs} q₀ + ψ₀ Wa from ``_phis``, relative 1e-13 of
+    the largest term."""
+    rng = np.random.default_rng(seed)
+    net = random_net(9, seed)
+    sol = _solver(net)
+    lam = sol.lam
+    tau = 1.0 / lam.max()
+    s = np.concatenate([[0.0], tau * 10.0 ** rng.uniform(-6, 4, 40)])
+    c = s.size
+    q0s = rng.normal(size=(lam.size, c))
+    lvl = rng.uniform(-2.0, 5.0, size=(c, sol.W.shape[1]))
+    slp = np.zeros_like(lvl)
+    q, dq, cq = sol._seg_states(q0s, s, lvl, slp)
+    e, p0, _ = modal._phis(lam[:, None], s[None, :], 1)
+    Wa = sol.W @ lvl.T
+    q_ref = e * q0s + p0 * Wa
+    dq_ref = -lam[:, None] * q_ref + Wa
+    cq_ref = -lam[:, None] * dq_ref
+    for got, ref, size in ((q, q_ref, np.abs(q0s) + np.abs(p0 * Wa)),
+                           (dq, dq_ref, lam[:, None] * (np.abs(q0s) + np.abs(p0 * Wa))
+                            + np.abs(Wa)),
+                           (cq, cq_ref, lam[:, None] ** 2 * (np.abs(q0s) + np.abs(p0 * Wa))
+                            + lam[:, None] * np.abs(Wa))):
+        assert np.all(np.abs(got - ref) <= 1e-13 * size), np.max(np.abs(got - ref) / size)
+    # a ramp anywhere takes the general path (ψ₁ enters)
+    slp[3] = 1e3
+    q2, _, _ = sol._seg_states(q0s, s, lvl, slp)
+    e, p0, p1 = modal._phis(lam[:, None], s[None, :], 1)
+    assert np.allclose(q2, e * q0s + p0 * Wa + p1 * (sol.W @ slp.T), rtol=1e-13, atol=0)
+
+
+def _cases():
+    rng = np.random.default_rng(2024)
+    out = []
+    for i in range(10):
+        n, seed = int(rng.integers(3, 13)), int(rng.integers(0, 2**31 - 1))
+        wf = {"a": PULSE_A, "b": PULSE_B} if i % 2 == 0 else {"a": PULSE_A, "b": PULSE_C}
+        out.append((lambda n=n, seed=seed: random_net(n, seed), wf, None))
+    out.append((lambda: random_net(9, 133825), {"a": PULSE_A, "b": PULSE_B}, None))
+    out.append((lambda: _graded_chain(30), {"die": Piecewise([0.0, 10e-6, 1e-3], [20.0, 0.0])},
+                [f"c{k}" for k in range(0, 30, 3)]))
+    return out
+
+
+@pytest.mark.parametrize("case", range(12))
+def test_fused_search_alone_finds_every_extreme(case, monkeypatch):
+    """With the sample-based refinement off, the certified search alone must reach every
+    peak and minimum: no closed-form value on a 2000-point grid per segment above the
+    fused path's peak (below its minimum) by more than 1e-10 of the largest rise, and the
+    fused and general paths equal to 1e-10 of it."""
+    make, wf, probes = _cases()[case]
+    monkeypatch.setattr(modal.ModalSolver, "_refine", lambda self, t, v, *a, **k: (t, v))
+    used = []
+    fused = mb._fused_level
+    monkeypatch.setattr(mb, "_fused_level", lambda *a: used.append(1) or fused(*a))
+    net = make()
+    probes = probes or net.nodes
+    res = net.periodic(wf, probes=probes)
+    assert used, "the fused first level was not taken"
+    monkeypatch.setattr(mb, "FUSED_SEGMENTS", -1)                # the general path
+    used.clear()
+    gen = make().periodic(wf, probes=probes)
+    assert not used
+    zero = make().periodic({k: 0.0 for k in wf}, probes=probes)
+    scale = max(max(abs(res.peak(p) - zero.peak(p)), abs(res.min(p) - zero.peak(p)))
+                for p in probes)
+    net.configure_solver("modal", linear_points=2000)
+    fine = net.periodic(wf, probes=probes)
+    for p in probes:
+        assert fine.T(p).max() <= res.peak(p) + 1e-10 * scale, p
+        assert fine.T(p).min() >= res.min(p) - 1e-10 * scale, p
+        assert abs(gen.peak(p) - res.peak(p)) <= 1e-10 * scale, p
+        assert abs(gen.min(p) - res.min(p)) <= 1e-10 * scale, p
