@@ -123,7 +123,11 @@ def _cubic_max(A, B, C, D, h):
         # stable roots of 3D x² + 2C x + B: with q = −(C + sign(C)·√disc), q/(3D) and B/q
         qq = -(C + np.copysign(sq, C))
         # both roots (and −B/2C, the one root when D = 0), clipped into [0, h]
-        x = np.stack([qq / (3.0 * D), B / qq, -B / (2.0 * C), np.broadcast_to(h, qq.shape)])
+        x = np.empty((4,) + qq.shape)
+        np.divide(qq, 3.0 * D, out=x[0])
+        np.divide(B, qq, out=x[1])
+        np.divide(B, -2.0 * C, out=x[2])
+        x[3] = h
         np.fmin(np.fmax(x, 0.0, out=x), h, out=x)
         inner = (A + x * (B + x * (C + x * D))).max(axis=0)
         return np.maximum(A, inner)
