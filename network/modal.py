@@ -612,9 +612,11 @@ class ModalSolver:
         return (np.exp(-lam * s) * q0 + _psi(0, lam, s) * (self.W @ lvl)
                 + _psi(1, lam, s) * (self.W @ slp))
 
-    def _seg_states(self, q0s: np.ndarray, s: np.ndarray, lvl: np.ndarray, slp: np.ndarray):
+    def _seg_states(self, q0s: np.ndarray, s: np.ndarray, lvl: np.ndarray, slp: np.ndarray,
+                    out: np.ndarray | None = None):
         """Modal state and its first two time derivatives inside segments, for many
-        (start state, offset) pairs at once: q0s (modes, c), s (c,), lvl/slp (c, m).
+        (start state, offset) pairs at once: q0s (modes, c), s (c,), lvl/slp (c, m);
+        written into ``out`` (3, modes, c) when given.
 
         q(s) = e^{−λs} q₀ + ψ₀ Wa + ψ₁ Wb,  q' = −λ q + Wa + Wb s,  q'' = −λ q' + Wb.
 
@@ -622,20 +624,32 @@ class ModalSolver:
         g₀(x) = −expm1(−x)/x is accurate to about 2 ulp for every x > 0 (1 at x = 0): no
         series, a third of the work."""
         lam = self.lam[:, None]
+        if out is None:
+            out = np.empty((3,) + q0s.shape)
+        q, dq, cq = out
         if not slp.any():
             nx = lam * (-s)[None, :]                       # −λs
             e = np.exp(nx)
             g0 = np.divide(np.expm1(nx), nx, out=np.ones_like(nx), where=nx < 0)
             Wa = self.W @ lvl.T
-            q = e * q0s + (g0 * s[None, :]) * Wa
-            dq = -lam * q + Wa
-            return q, dq, -lam * dq
+            np.multiply(e, q0s, out=q)
+            q += (g0 * s[None, :]) * Wa
+            np.multiply(-lam, q, out=dq)
+            dq += Wa
+            np.multiply(-lam, dq, out=cq)
+            return q, dq, cq
         e, p0, p1 = _phis(lam, s[None, :], 1)
         Wa = self.W @ lvl.T
         Wb = self.W @ slp.T
-        q = e * q0s + p0 * Wa + p1 * Wb
-        dq = -lam * q + Wa + Wb * s[None, :]
-        return q, dq, -lam * dq + Wb
+        np.multiply(e, q0s, out=q)
+        q += p0 * Wa
+        q += p1 * Wb
+        np.multiply(-lam, q, out=dq)
+        dq += Wa
+        dq += Wb * s[None, :]
+        np.multiply(-lam, dq, out=cq)
+        cq += Wb
+        return q, dq, cq
 
     def _refine(self, t, v, q0, edges, level, slope, starts, store, Pp, Dp, top: int = 2):
         """Locate each probe's maximum and minimum exactly in the segments around its best
@@ -693,7 +707,7 @@ class ModalSolver:
         cj = np.array(cand_j)
         sg = np.array(cand_sign)
         ck = np.array(cand_k)
-        q0s = np.stack([start(int(k)) for k in ck], axis=1)
+        q0s = starts[:, ck] if store else np.stack([start(int(k)) for k in ck], axis=1)
         lv, sl = level[ck], slope[ck]
         Pj = Pp[cj].T * sg[None, :]                      # (modes, c), sign applied
         lam = self.lam[:, None]

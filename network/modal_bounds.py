@@ -56,8 +56,11 @@ CHUNK_ELEMENTS = 1_000_000
 
 
 def _derivs(solver, q0s, s, lv, sl):
-    """q, q', q'' (modes, c) at offsets s (c,) in segments with start states q0s."""
-    return solver._seg_states(q0s, s, lv, sl)
+    """q, q', q'' as one (3, modes, c) array at offsets s (c,) in segments with start
+    states q0s (one array: the interval ends are gathered and joined in one step each)."""
+    out = np.empty((3,) + q0s.shape)
+    solver._seg_states(q0s, s, lv, sl, out=out)
+    return out
 
 
 def _interval_bounds(Pj, dj, lv, sl, sa, sb, ends_a, ends_b, lam):
@@ -65,27 +68,25 @@ def _interval_bounds(Pj, dj, lv, sl, sa, sb, ends_a, ends_b, lam):
     θ'' at both ends and bounds m3 ≤ θ''' ≤ M3 (q''' = −λ q'', each term monotone).
 
     Pj (c, modes) signed probe rows, dj (c, m) signed direct rows; ``ends_a``/``ends_b``
-    the modal state and its two derivatives (q, q', q'') (modes, c) at the interval ends.
-    Returns th_a, th_b, d_a, d_b, U, L, K, Kl, c2a, c2b, M3, m3."""
-    qa, da, ca = ends_a
-    qb, db, cb = ends_b
+    the modal state and its two derivatives (q, q', q'') as (3, modes, c) arrays at the
+    interval ends.  Returns th_a, th_b, d_a, d_b, U, L, K, Kl, c2a, c2b, M3, m3."""
     aPj = np.abs(Pj)
     direct_slope = np.sum(dj * sl, axis=1)
-    th_a = np.einsum("ci,ic->c", Pj, qa) + np.sum(dj * (lv + sa[:, None] * sl), axis=1)
-    th_b = np.einsum("ci,ic->c", Pj, qb) + np.sum(dj * (lv + sb[:, None] * sl), axis=1)
-    d_a = np.einsum("ci,ic->c", Pj, da)
-    d_b = np.einsum("ci,ic->c", Pj, db)
-    spread = 0.5 * np.einsum("ci,ic->c", aPj, np.abs(da - db))
-    U = 0.5 * (d_a + d_b) + spread + direct_slope
-    L = 0.5 * (d_a + d_b) - spread + direct_slope
-    c2a = np.einsum("ci,ic->c", Pj, ca)
-    c2b = np.einsum("ci,ic->c", Pj, cb)
-    c_spread = 0.5 * np.einsum("ci,ic->c", aPj, np.abs(ca - cb))
+    pa = np.einsum("ci,kic->kc", Pj, ends_a)            # Pj·q, Pj·q', Pj·q'' at the ends
+    pb = np.einsum("ci,kic->kc", Pj, ends_b)
+    dif = np.abs(ends_a[1:] - ends_b[1:])                # |Δq'|, |Δq''| per mode
+    spread, c_spread = 0.5 * np.einsum("ci,kic->kc", aPj, dif)
+    th_a = pa[0] + np.sum(dj * (lv + sa[:, None] * sl), axis=1)
+    th_b = pb[0] + np.sum(dj * (lv + sb[:, None] * sl), axis=1)
+    d_a = pa[1] + direct_slope
+    d_b = pb[1] + direct_slope
+    mid = 0.5 * (d_a + d_b)
+    c2a, c2b = pa[2], pb[2]
     c_mid = 0.5 * (c2a + c2b)
     lam = lam[:, None]
-    t3_mid = -0.5 * np.einsum("ci,ic->c", Pj, lam * (ca + cb))
-    t3_spread = 0.5 * np.einsum("ci,ic->c", aPj, lam * np.abs(ca - cb))
-    return (th_a, th_b, d_a + direct_slope, d_b + direct_slope, U, L, c_mid + c_spread,
+    t3_mid = -0.5 * np.einsum("ci,ic->c", Pj, lam * (ends_a[2] + ends_b[2]))
+    t3_spread = 0.5 * np.einsum("ci,ic->c", aPj, lam * dif[1])
+    return (th_a, th_b, d_a, d_b, mid + spread, mid - spread, c_mid + c_spread,
             c_mid - c_spread, c2a, c2b, t3_mid + t3_spread, t3_mid - t3_spread)
 
 
@@ -295,7 +296,8 @@ def _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol, t_be
     keep[1:] = (seg[1:] != seg[:-1]) | (off[1:] != off[:-1])
     seg, off, new = seg[keep], off[keep], new[keep]
     lv, sl = level[seg], slope[seg]
-    q, dq, cq = _derivs(solver, starts[:, seg], off, lv, sl)
+    E = _derivs(solver, starts[:, seg], off, lv, sl)
+    q, dq, cq = E
     th = Pp @ q + Dp @ (lv + off[:, None] * sl).T         # (p, points)
     dsl = Dp @ sl.T
     d1 = Pp @ dq + dsl
@@ -343,8 +345,7 @@ def _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol, t_be
         return None
     slot, c = np.nonzero(live)
     a, b = ia[c], ib[c]
-    ends_a = (q[:, a], dq[:, a], cq[:, a])
-    ends_b = (q[:, b], dq[:, b], cq[:, b])
+    ends_a, ends_b = E[:, :, a], E[:, :, b]
     return (seg[a], slot % p, np.where(slot < p, 1.0, -1.0), slot, off[a], off[b], ends_a,
             ends_b, d_a[slot, c], d_b[slot, c], K[slot, c])
 
@@ -401,7 +402,7 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
     chunk = max(1, CHUNK_ELEMENTS // max(nm, 1))
 
     def take(ends, sel):
-        return tuple(e[:, sel] for e in ends)
+        return ends[:, :, sel]
 
     def descend(ck, cj, sg, slot, sa, sb, ends_a, ends_b, d_a, d_b, K, live, depth):
         """The open intervals (``live``) of a level: a concave one (K ≤ 0) holds its
@@ -423,7 +424,7 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
                         np.einsum("ci,ic->c", Pj[idx], cq))
             xtol = np.maximum((sb[root] - sa[root]) * 1e-14, 1e-300)
             s_star = newton(fun, sa[root], sb[root], d_a[root], d_b[root], xtol)
-            q_star, _, _ = _derivs(solver, q0s[:, root], s_star, lv[root], sl[root])
+            q_star = _derivs(solver, q0s[:, root], s_star, lv[root], sl[root])[0]
             record(root, s_star, q_star, ck, cj, sg, slot, lv, sl)
         split = np.flatnonzero(live & ~concave)
         if split.size == 0 or depth <= 0:
@@ -456,10 +457,9 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
                                 n + hi])
         owner = split[np.concatenate([np.repeat(fi, k), hi, hi])]
         pool_s = np.concatenate([a, b, s_new])
-        ea, eb = take(ends_a, split), take(ends_b, split)
-        pool = tuple(np.concatenate([x, y, m], axis=1) for x, y, m in zip(ea, eb, ends_n))
+        pool = np.concatenate([take(ends_a, split), take(ends_b, split), ends_n], axis=2)
         return (ck[owner], cj[owner], sg[owner], slot[owner], pool_s[left], pool_s[right],
-                tuple(x[:, left] for x in pool), tuple(x[:, right] for x in pool),
+                pool[:, :, left], pool[:, :, right],
                 depth - (2 if k == 4 else 1 if k == 2 else int(np.log2(k))))
 
     def search(ck, cj, sg, slot, sa, sb, ends_a, ends_b, depth, graded=None):
