@@ -168,8 +168,6 @@ def _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol, lines_onl
     qb = np.concatenate([starts[:, 1:], q_end[:, None]], axis=1)
     da = -lam * qa + Wa
     db = -lam * qb + Wa + Wb * h[None, :]
-    ca = -lam * da + Wb
-    cb = -lam * db + Wb
     aP = np.abs(Pp)
     dsl = Dp @ slope.T
     th_a = Pp @ qa + Dp @ level.T
@@ -179,15 +177,19 @@ def _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol, lines_onl
     mid = 0.5 * (d_a + d_b)
     spread = 0.5 * (aP @ np.abs(da - db))
     U, L = mid + spread, mid - spread
-    w = np.broadcast_to(h[None, :], th_a.shape)
-    live = np.concatenate([_line_bound(th_a, th_b, U, L, w),
-                           _line_bound(-th_a, -th_b, -L, -U, w)]) > best[:, None] + tol
+    # both signs in one call: the minimum of θ is the maximum of −θ (slope bounds −L, −U)
+    w = np.broadcast_to(h[None, :], (2 * th_a.shape[0], N))
+    live = _line_bound(np.concatenate([th_a, -th_a]), np.concatenate([th_b, -th_b]),
+                       np.concatenate([U, -L]), np.concatenate([L, -U]), w) > best[:, None] + tol
     if not live.any():
         return None
     if lines_only:
         return live
     # where the two lines leave a segment open: the chord plus parabola, then the Taylor
     # bounds (their products only for the open segments)
+    ca = -lam * da + Wb
+    cb = -lam * db + Wb
+    w = w[:th_a.shape[0]]
     c2a, c2b = Pp @ ca, Pp @ cb
     c_spread = 0.5 * (aP @ np.abs(ca - cb))
     t3_mid = -0.5 * (Pp @ (lam * (ca + cb)))
