@@ -267,8 +267,9 @@ def _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol, t_be
     one column per candidate).  The graded cuts are exact values: they are recorded, and
     raise the best, before the bounds are compared; ``open_`` (2p, N) marks the (slot,
     segment) pairs that the whole-segment lines leave open (the others are cleared).
-    Returns the intervals left open as
-    candidates (ck, cj, sg, slot, sa, sb, ends_a, ends_b, d_a, d_b, K), or None."""
+    Returns the intervals left open as candidates (ck, cj, sg, slot, sa, sb, ia, ib, E,
+    d_a, d_b, K), or None: their end states are E[:, :, ia] and E[:, :, ib] (E holds q,
+    q', q'' at every cut point; gathered by the caller a pass at a time)."""
     N = edges.size - 1
     p = Pp.shape[0]
     h = edges[1:] - edges[:-1]
@@ -347,9 +348,8 @@ def _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol, t_be
         return None
     slot, c = np.nonzero(live)
     a, b = ia[c], ib[c]
-    ends_a, ends_b = E[:, :, a], E[:, :, b]
-    return (seg[a], slot % p, np.where(slot < p, 1.0, -1.0), slot, off[a], off[b], ends_a,
-            ends_b, d_a[slot, c], d_b[slot, c], K[slot, c])
+    return (seg[a], slot % p, np.where(slot < p, 1.0, -1.0), slot, off[a], off[b], a, b, E,
+            d_a[slot, c], d_b[slot, c], K[slot, c])
 
 
 #: At most this many segments take the fused first level (:func:`_fused_level`); longer
@@ -516,11 +516,14 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
         first = _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol,
                              t_best, record_points, open_)
         if first is not None:
-            ck, cj, sg, slot, sa, sb, ends_a, ends_b, d_a, d_b, K = first
-            kids = descend(ck, cj, sg, slot, sa, sb, ends_a, ends_b, d_a, d_b, K,
-                           np.ones(ck.size, dtype=bool), MAX_DEPTH)
-            if kids is not None:
-                search(*kids)
+            ck, cj, sg, slot, sa, sb, ia, ib, E, d_a, d_b, K = first
+            for i in range(0, ck.size, chunk):      # passes bound the (modes, c) arrays
+                part = slice(i, i + chunk)
+                kids = descend(ck[part], cj[part], sg[part], slot[part], sa[part], sb[part],
+                               E[:, :, ia[part]], E[:, :, ib[part]], d_a[part], d_b[part],
+                               K[part], np.ones(ck[part].size, dtype=bool), MAX_DEPTH)
+                if kids is not None:
+                    search(*kids)
     else:
         # the segments whose whole-segment bound beats the best are bounded again over
         # the intervals between their samples (much tighter than one line pair)

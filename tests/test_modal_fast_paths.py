@@ -106,3 +106,19 @@ def test_fused_search_alone_finds_every_extreme(case, monkeypatch):
         assert fine.T(p).min() >= res.min(p) - 1e-10 * scale, p
         assert abs(gen.peak(p) - res.peak(p)) <= 1e-10 * scale, p
         assert abs(gen.min(p) - res.min(p)) <= 1e-10 * scale, p
+
+
+def test_fused_search_in_small_passes(monkeypatch):
+    """The fused first level's open intervals handed on a few at a time (the memory bound
+    of large networks, forced with a small pass size) give the same certified extremes,
+    with the refinement off so that the search does all the work (common practice, no
+    source)."""
+    make, wf, probes = _cases()[-1]
+    monkeypatch.setattr(modal.ModalSolver, "_refine", lambda self, t, v, *a, **k: (t, v))
+    whole = make().periodic(wf, probes=probes)
+    monkeypatch.setattr(mb, "CHUNK_ELEMENTS", 30 * 5)              # 5 candidates a pass
+    parts = make().periodic(wf, probes=probes)
+    scale = max(whole.peak(p) - 25.0 for p in probes)
+    for p in probes:
+        assert parts.peak(p) == pytest.approx(whole.peak(p), abs=1e-10 * scale), p
+        assert parts.min(p) == pytest.approx(whole.min(p), abs=1e-10 * scale), p
