@@ -545,7 +545,14 @@ class ModalSolver:
         # interior log-spaced points down to the fastest relevant time constant
         if store and N * (INTERIOR_POINTS + int(self.options.get("linear_points", 0))) \
                 <= SAMPLE_BUDGET:
-            tau_f = self._fast_tau(Pp)
+            # a function of the probes only (the network fixed): kept for the last probe set
+            key = rows.tobytes()
+            last = getattr(self, "_tau_last", None)
+            if last is not None and last[0] == key:
+                tau_f = last[1]
+            else:
+                tau_f = self._fast_tau(Pp)
+                self._tau_last = (key, tau_f)
             h = edges[1:] - edges[:-1]
             lo = np.maximum(tau_f / 4.0, h * 1e-6)
             geo = lo < h / 8
