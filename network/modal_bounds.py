@@ -508,14 +508,25 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
 
     n_cuts = t.size + 2 * N + 12 * p
     if N <= FUSED_SEGMENTS and n_cuts * nm <= FUSED_ELEMENTS:
-        # the two slope lines over whole segments first (no new states: often all clear)
-        open_ = _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol,
-                        lines_only=True)
-        if open_ is None:
-            return t, v
+        # the two slope lines over whole segments first (no new states: often all clear),
+        # unless they left segments open at the solver's last call with these probes (a
+        # sweep's rows are alike): then straight to the fused level, every slot open (the
+        # lines only ever clear; the certificate does not depend on this choice)
+        key = Pp.tobytes()
+        hint = getattr(solver, "_lines_open", None)
+        if hint is not None and hint[0] == key and hint[1]:
+            open_ = np.ones((2 * p, N), dtype=bool)
+        else:
+            open_ = _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol,
+                            lines_only=True)
+            solver._lines_open = (key, open_ is not None)
+            if open_ is None:
+                return t, v
         first = _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol,
                              t_best, record_points, open_)
-        if first is not None:
+        if first is None:
+            solver._lines_open = None           # try the lines again next time
+        else:
             ck, cj, sg, slot, sa, sb, ia, ib, E, d_a, d_b, K = first
             for i in range(0, ck.size, chunk):      # passes bound the (modes, c) arrays
                 part = slice(i, i + chunk)

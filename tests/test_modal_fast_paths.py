@@ -122,3 +122,29 @@ def test_fused_search_in_small_passes(monkeypatch):
     for p in probes:
         assert parts.peak(p) == pytest.approx(whole.peak(p), abs=1e-10 * scale), p
         assert parts.min(p) == pytest.approx(whole.min(p), abs=1e-10 * scale), p
+
+
+def test_fused_level_without_the_lines_on_a_repeated_solve(monkeypatch):
+    """When the whole-segment lines left segments open at the solver's last call with the
+    same probes, the next solve goes straight to the fused level with every slot open: the
+    certified extremes of a second waveform on that network equal those of a fresh network
+    (lines first), the refinement off (common practice, no source)."""
+    monkeypatch.setattr(modal.ModalSolver, "_refine", lambda self, t, v, *a, **k: (t, v))
+    probes = [f"c{k}" for k in range(0, 30, 3)]
+    first = {"die": Piecewise([0.0, 10e-6, 1e-3], [20.0, 0.0])}
+    second = {"die": Piecewise([0.0, 25e-6, 1e-3], [12.0, 1.0])}
+    net = _graded_chain(30)
+    net.periodic(first, probes=probes)
+    solver = net._solver("modal")
+    assert solver._lines_open[1]                      # the lines left segments open
+    lines = []
+    coarse = mb._coarse
+    monkeypatch.setattr(mb, "_coarse", lambda *a, **k: lines.append(1) or coarse(*a, **k))
+    again = net.periodic(second, probes=probes)
+    assert not lines                                  # straight to the fused level
+    fresh = _graded_chain(30).periodic(second, probes=probes)
+    assert lines
+    scale = max(fresh.peak(p) - 25.0 for p in probes)
+    for p in probes:
+        assert again.peak(p) == pytest.approx(fresh.peak(p), abs=1e-10 * scale), p
+        assert again.min(p) == pytest.approx(fresh.min(p), abs=1e-10 * scale), p
