@@ -178,7 +178,7 @@ def _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol, lines_onl
     spread = 0.5 * (aP @ np.abs(da - db))
     U, L = mid + spread, mid - spread
     # both signs in one call: the minimum of θ is the maximum of −θ (slope bounds −L, −U)
-    w = np.broadcast_to(h[None, :], (2 * th_a.shape[0], N))
+    w = h[None, :]                               # broadcast against (2p, N)
     live = _line_bound(np.concatenate([th_a, -th_a]), np.concatenate([th_b, -th_b]),
                        np.concatenate([U, -L]), np.concatenate([L, -U]), w) > best[:, None] + tol
     if not live.any():
@@ -189,7 +189,6 @@ def _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol, lines_onl
     # bounds (their products only for the open segments)
     ca = -lam * da + Wb
     cb = -lam * db + Wb
-    w = w[:th_a.shape[0]]
     c2a, c2b = Pp @ ca, Pp @ cb
     c_spread = 0.5 * (aP @ np.abs(ca - cb))
     t3_mid = -0.5 * (Pp @ (lam * (ca + cb)))
@@ -205,8 +204,8 @@ def _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol, lines_onl
         Ul, Ll = (U[jj, kk], L[jj, kk]) if sg > 0 else (-L[jj, kk], -U[jj, kk])
         hi3, lo3 = (M3[jj, kk], m3[jj, kk]) if sg > 0 else (-m3[jj, kk], -M3[jj, kk])
         kl = 0.5 * (ca_ + cb_) - c_spread[jj, kk]
-        ub = np.minimum(_line_bound(ta, tb, Ul, Ll, w[jj, kk], kl),
-                        _taylor_bound(ta, tb, da_, db_, ca_, cb_, hi3, lo3, w[jj, kk]))
+        ub = np.minimum(_line_bound(ta, tb, Ul, Ll, h[kk], kl),
+                        _taylor_bound(ta, tb, da_, db_, ca_, cb_, hi3, lo3, h[kk]))
         live[lo + jj, kk] = ub > best[lo + jj] + tol
     if not live.any():
         return None
@@ -280,7 +279,7 @@ def _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol, t_be
     inner[inner] = t[inner] > edges[ks[inner]]
     ki = ks[inner]
     si = np.minimum(t[inner] - edges[ki], h[ki])
-    kb = np.clip(np.searchsorted(edges, t_best, side="right") - 1, 0, N - 1)
+    kb = np.minimum(np.maximum(np.searchsorted(edges, t_best, side="right") - 1, 0), N - 1)
     kb = np.concatenate([kb, np.maximum(kb - 1, 0)])       # a best at an edge: both sides
     tb = np.concatenate([t_best, t_best]) - edges[kb]
     at = (tb >= 0.0) & (tb <= h[kb])
@@ -337,13 +336,13 @@ def _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol, t_be
     t3_mid = both(t3_mid)
     t3_spread = np.concatenate([t3_spread, t3_spread])
     M3, m3 = t3_mid + t3_spread, t3_mid - t3_spread
-    w = np.broadcast_to((off[ib] - off[ia])[None, :], th_a.shape)
+    w = off[ib] - off[ia]
     bar = best[:, None] + tol
-    live = open_[:, seg[ia]] & (_line_bound(th_a, th_b, U, L, w, Kl) > bar)
+    live = open_[:, seg[ia]] & (_line_bound(th_a, th_b, U, L, w[None, :], Kl) > bar)
     if live.any():
         r, c = np.nonzero(live)
         live[r, c] = _taylor_bound(th_a[r, c], th_b[r, c], d_a[r, c], d_b[r, c], c2a[r, c],
-                                   c2b[r, c], M3[r, c], m3[r, c], w[r, c]) > bar[r, 0]
+                                   c2b[r, c], M3[r, c], m3[r, c], w[c]) > bar[r, 0]
     if not live.any():
         return None
     slot, c = np.nonzero(live)
