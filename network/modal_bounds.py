@@ -32,12 +32,14 @@ segment on both sides of each probe's best sample, after the sample-based refine
 found the usual maximum; it exists for responses with two nearly equal local maxima, where
 the samples alone can point at the wrong one.  Minima are the maxima of −θ.
 
-With few segments (the usual pulse train) the per-candidate work is mostly fixed cost, so
-after the two slope lines over whole segments the first level is fused: every segment is
-cut at all its samples and at the graded offsets around every probe's best samples, and
-every interval is bounded for every probe and both signs at once (probe rows of a few
-matrix products over the unique cut points).  Open intervals of a small level are then cut
-in quarters rather than halves (one level instead of two), larger levels in halves.
+The per-candidate work of small problems is mostly fixed cost, so the first level is fused:
+every segment (with few segments, after the two slope lines over whole segments; with many,
+every segment that the whole-segment bounds leave open, when their cut points are few
+enough) is cut at all its samples and at the graded offsets around every probe's best
+samples, and every interval is bounded for every probe and both signs at once (probe rows
+of a few matrix products over the unique cut points).  Open intervals of a small level are
+then cut in quarters rather than halves (one level instead of two), larger levels in
+halves.
 
 This is interval bounding of a sum of monotone terms (common practice, no source); the
 monotone-term form follows from the modal solution (Carslaw and Jaeger, *Conduction of Heat
@@ -258,15 +260,15 @@ def _sample_intervals(t, edges, ck, cj, sg, slot, t_best):
 
 
 def _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol, t_best, record,
-                 open_):
+                 open_, segs=None):
     """The first level of the search over every segment at once, for a few segments: each
     segment is cut at the samples inside it and at the graded offsets around every slot's
     best sample that lies in it, and every interval is bounded for every probe and both
     signs together (probe rows of matrix products over the unique cut points, instead of
     one column per candidate).  The graded cuts are exact values: they are recorded, and
     raise the best, before the bounds are compared; ``open_`` (2p, N) marks the (slot,
-    segment) pairs that the whole-segment lines leave open (the others are cleared).
-    Returns the intervals left open as candidates (ck, cj, sg, slot, sa, sb, ia, ib, E,
+    segment) pairs that the whole-segment bounds leave open (the others are cleared) and
+    ``segs`` the segments to cut (None: all).  Returns the intervals left open as candidates (ck, cj, sg, slot, sa, sb, ia, ib, E,
     d_a, d_b, K), or None: their end states are E[:, :, ia] and E[:, :, ib] (E holds q,
     q', q'' at every cut point; gathered by the caller a pass at a time)."""
     N = edges.size - 1
@@ -289,9 +291,17 @@ def _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol, t_be
     sgc = np.concatenate([tb[:, None] - g, tb[:, None] + g], axis=1).ravel()
     ing = (sgc > 0.0) & (sgc < h[kg])
     kg, sgc = kg[ing], sgc[ing]
-    seg = np.concatenate([np.arange(N), np.arange(N), ki, kg])
-    off = np.concatenate([np.zeros(N), h, si, sgc])
-    new = np.concatenate([np.zeros(2 * N + ki.size, dtype=bool), np.ones(kg.size, dtype=bool)])
+    if segs is None:
+        segs = np.arange(N)
+    else:                                                 # only the open segments
+        use = np.zeros(N, dtype=bool)
+        use[segs] = True
+        ui, ug = use[ki], use[kg]
+        ki, si, kg, sgc = ki[ui], si[ui], kg[ug], sgc[ug]
+    ns = segs.size
+    seg = np.concatenate([segs, segs, ki, kg])
+    off = np.concatenate([np.zeros(ns), h[segs], si, sgc])
+    new = np.concatenate([np.zeros(2 * ns + ki.size, dtype=bool), np.ones(kg.size, dtype=bool)])
     order = np.lexsort((new, off, seg))                   # a sample before an equal cut
     seg, off, new = seg[order], off[order], new[order]
     keep = np.ones(seg.size, dtype=bool)
@@ -505,6 +515,23 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
                 return
             ck, cj, sg, slot, sa, sb, ends_a, ends_b, depth = kids
 
+    def fused(open_, segs=None):
+        """The fused first level, then the search from its open intervals a pass at a
+        time; False when it leaves nothing open."""
+        first = _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol,
+                             t_best, record_points, open_, segs)
+        if first is None:
+            return False
+        ck, cj, sg, slot, sa, sb, ia, ib, E, d_a, d_b, K = first
+        for i in range(0, ck.size, chunk):          # passes bound the (modes, c) arrays
+            part = slice(i, i + chunk)
+            kids = descend(ck[part], cj[part], sg[part], slot[part], sa[part], sb[part],
+                           E[:, :, ia[part]], E[:, :, ib[part]], d_a[part], d_b[part],
+                           K[part], np.ones(ck[part].size, dtype=bool), MAX_DEPTH)
+            if kids is not None:
+                search(*kids)
+        return True
+
     n_cuts = t.size + 2 * N + 12 * p
     if N <= FUSED_SEGMENTS and n_cuts * nm <= FUSED_ELEMENTS:
         # the two slope lines over whole segments first (no new states: often all clear),
@@ -521,26 +548,29 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
             solver._lines_open = (key, open_ is not None)
             if open_ is None:
                 return t, v
-        first = _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol,
-                             t_best, record_points, open_)
-        if first is None:
+        if not fused(open_):
             solver._lines_open = None           # try the lines again next time
-        else:
-            ck, cj, sg, slot, sa, sb, ia, ib, E, d_a, d_b, K = first
-            for i in range(0, ck.size, chunk):      # passes bound the (modes, c) arrays
-                part = slice(i, i + chunk)
-                kids = descend(ck[part], cj[part], sg[part], slot[part], sa[part], sb[part],
-                               E[:, :, ia[part]], E[:, :, ib[part]], d_a[part], d_b[part],
-                               K[part], np.ones(ck[part].size, dtype=bool), MAX_DEPTH)
-                if kids is not None:
-                    search(*kids)
     else:
         # the segments whose whole-segment bound beats the best are bounded again over
-        # the intervals between their samples (much tighter than one line pair)
+        # the intervals between their samples (much tighter than one line pair): fused
+        # when their cut points are few enough, else candidate by candidate
         live = _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol)
         if live is None:
             return t, v
         slot, ck = live
+        segs = np.unique(ck)
+        use = np.zeros(N, dtype=bool)
+        use[segs] = True
+        n_in = int(np.count_nonzero(use[np.minimum(np.searchsorted(edges, t, side="right") - 1,
+                                                   N - 1)]))
+        if (n_in + 2 * segs.size + 12 * p) * nm <= FUSED_ELEMENTS:
+            open_ = np.zeros((2 * p, N), dtype=bool)
+            open_[slot, ck] = True
+            fused(open_, segs)
+            if not new_t:
+                return t, v
+            from .solvers import merge_samples
+            return merge_samples(t, v, np.concatenate(new_t), np.vstack(new_v))
         cj = slot % p
         sg = np.where(slot < p, 1.0, -1.0)
         ck, cj, sg, slot, sa, sb, graded = _sample_intervals(t, edges, ck, cj, sg, slot,

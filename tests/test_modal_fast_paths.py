@@ -5,9 +5,10 @@ source: two ways of computing the same closed form must agree).
   the general ψ₀/ψ₁ tables of ``_phis``;
 * the certified extremes of ``modal_bounds.certify`` through the fused first level (a few
   segments: every interval bounded for every probe at once, then open intervals cut in
-  quarters) against the general path (whole segments, then per-candidate sample
-  intervals, halvings), with the sample-based refinement switched off so that the search
-  alone has to find every extreme, and against a 2000-point grid per segment.
+  quarters), through the fused level over the segments that whole-segment bounds leave
+  open (longer waveforms), and through the per-candidate path (whole segments, then
+  per-candidate sample intervals), with the sample-based refinement switched off so that
+  the search alone has to find every extreme, and against a 2000-point grid per segment.
 """
 from __future__ import annotations
 
@@ -82,7 +83,8 @@ def test_fused_search_alone_finds_every_extreme(case, monkeypatch):
     """With the sample-based refinement off, the certified search alone must reach every
     peak and minimum: no closed-form value on a 2000-point grid per segment above the
     fused path's peak (below its minimum) by more than 1e-10 of the largest rise, and the
-    fused and general paths equal to 1e-10 of it."""
+    three paths (fused over all segments, fused over the open segments, per candidate)
+    equal to 1e-10 of it."""
     make, wf, probes = _cases()[case]
     monkeypatch.setattr(modal.ModalSolver, "_refine", lambda self, t, v, *a, **k: (t, v))
     used = []
@@ -92,7 +94,16 @@ def test_fused_search_alone_finds_every_extreme(case, monkeypatch):
     probes = probes or net.nodes
     res = net.periodic(wf, probes=probes)
     assert used, "the fused first level was not taken"
-    monkeypatch.setattr(mb, "FUSED_SEGMENTS", -1)                # the general path
+    monkeypatch.setattr(mb, "FUSED_SEGMENTS", -1)      # whole segments, then fused on the open
+    used.clear()
+    opened = []
+    coarse = mb._coarse
+    monkeypatch.setattr(mb, "_coarse", lambda *a, **k: opened.append(coarse(*a, **k))
+                        or opened[-1])
+    sub = make().periodic(wf, probes=probes)
+    # the fused level over the open segments is taken whenever any segment stays open
+    assert bool(used) == any(x is not None for x in opened)
+    monkeypatch.setattr(mb, "FUSED_ELEMENTS", 0)       # per candidate
     used.clear()
     gen = make().periodic(wf, probes=probes)
     assert not used
@@ -104,8 +115,9 @@ def test_fused_search_alone_finds_every_extreme(case, monkeypatch):
     for p in probes:
         assert fine.T(p).max() <= res.peak(p) + 1e-10 * scale, p
         assert fine.T(p).min() >= res.min(p) - 1e-10 * scale, p
-        assert abs(gen.peak(p) - res.peak(p)) <= 1e-10 * scale, p
-        assert abs(gen.min(p) - res.min(p)) <= 1e-10 * scale, p
+        for other in (sub, gen):
+            assert abs(other.peak(p) - res.peak(p)) <= 1e-10 * scale, p
+            assert abs(other.min(p) - res.min(p)) <= 1e-10 * scale, p
 
 
 def test_fused_search_in_small_passes(monkeypatch):
