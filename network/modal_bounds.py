@@ -147,10 +147,16 @@ def _taylor_bound(th_a, th_b, d_a, d_b, c2a, c2b, M3, m3, w):
     per-mode bounds lose (a slow probe's fast modes nearly cancel); only the third
     derivative is bounded mode by mode, and it enters with x³ (Taylor models, common
     practice, no source)."""
+    n = th_a.size
     h = 0.5 * w
-    left = _cubic_max(th_a, d_a, 0.5 * c2a, M3 / 6.0, h)
-    right = _cubic_max(th_b, -d_b, 0.5 * c2b, -m3 / 6.0, h)
-    ub = np.maximum(left, right)
+    if th_a.ndim == 1 and np.ndim(h) == 1:      # both expansions in one pass
+        both = _cubic_max(np.concatenate([th_a, th_b]), np.concatenate([d_a, -d_b]),
+                          0.5 * np.concatenate([c2a, c2b]), np.concatenate([M3, -m3]) / 6.0,
+                          np.concatenate([h, h]))
+        ub = np.maximum(both[:n], both[n:])
+    else:
+        ub = np.maximum(_cubic_max(th_a, d_a, 0.5 * c2a, M3 / 6.0, h),
+                        _cubic_max(th_b, -d_b, 0.5 * c2b, -m3 / 6.0, h))
     return np.where(np.isnan(ub), np.inf, ub)
 
 
