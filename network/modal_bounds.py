@@ -267,16 +267,17 @@ def _sample_intervals(t, edges, ck, cj, sg, slot, t_best):
 
 def _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol, t_best, record,
                  open_, segs=None):
-    """The first level of the search over every segment at once, for a few segments: each
-    segment is cut at the samples inside it and at the graded offsets around every slot's
-    best sample that lies in it, and every interval is bounded for every probe and both
-    signs together (probe rows of matrix products over the unique cut points, instead of
-    one column per candidate).  The graded cuts are exact values: they are recorded, and
-    raise the best, before the bounds are compared; ``open_`` (2p, N) marks the (slot,
-    segment) pairs that the whole-segment bounds leave open (the others are cleared) and
-    ``segs`` the segments to cut (None: all).  Returns the intervals left open as candidates (ck, cj, sg, slot, sa, sb, ia, ib, E,
-    d_a, d_b, K), or None: their end states are E[:, :, ia] and E[:, :, ib] (E holds q,
-    q', q'' at every cut point; gathered by the caller a pass at a time)."""
+    """The first level of the search over many segments at once: each segment is cut at
+    the samples inside it and at the graded offsets around every slot's best sample that
+    lies in it, and every interval is bounded for every probe and both signs together
+    (probe rows of matrix products over the unique cut points, instead of one column per
+    candidate).  The graded cuts are exact values: they are recorded, and raise the best,
+    before the bounds are compared; ``open_`` (2p, N) marks the (slot, segment) pairs that
+    the whole-segment bounds leave open (the others are cleared) and ``segs`` the segments
+    to cut (None: all).  Returns the intervals left open as candidates (ck, cj, sg, slot,
+    sa, sb, ia, ib, E, d_a, d_b, K), or None: their end states are E[:, :, ia] and
+    E[:, :, ib] (E holds q, q', q'' at every cut point; gathered by the caller a pass at a
+    time)."""
     N = edges.size - 1
     p = Pp.shape[0]
     h = edges[1:] - edges[:-1]
