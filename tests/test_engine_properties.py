@@ -127,17 +127,23 @@ def test_dense_and_sparse_paths_agree(n, seed):
 @settings(**SETTINGS)
 @given(n=st.integers(2, 12), seed=st.integers(0, 2**31 - 1))
 @example(n=9, seed=133825)   # two near-equal maxima of n7 (the peak was 1.9e-4 K low)
+@example(n=10, seed=1902816899)  # n7 within 6e-11 of its rise, 5e-10 of its peak-to-peak
 def test_modal_extremes_never_under_reported(n, seed):
     """No closed-form value on a fine even grid (2000 per segment, the solver's
-    ``linear_points``) is above the reported peak or below the reported minimum (common
-    practice, no source: a located maximum is at least every sampled value)."""
+    ``linear_points``) is above the reported peak or below the reported minimum by more
+    than the certified search promises, 1e-10 of the largest rise over the zero-power field
+    (modal_bounds.REL_TOL; the rise, not the peak-to-peak: a slow node's ripple can be
+    10^4 times smaller), common practice, no source: a located maximum is at least every
+    sampled value."""
     net = random_net(n, seed)
     wf = {"a": PULSE_A, "b": PULSE_B}
     res = net.periodic(wf, probes=net.nodes, method="modal")
     net.configure_solver("modal", linear_points=2000)
     fine = net.periodic(wf, probes=net.nodes, method="modal")
     assert fine.t.size > 10 * res.t.size          # the even grid is really there
-    scale = max(float(np.ptp(res.T(p))) for p in net.nodes) or 1.0
+    zero = net.steady({})
+    scale = max(max(float(np.ptp(res.T(p))), float(np.max(np.abs(res.T(p) - zero.T(p)))))
+                for p in net.nodes) or 1.0
     for p in net.nodes:
         assert fine.T(p).max() <= res.peak(p) + 1e-10 * scale, p
         assert fine.T(p).min() >= res.min(p) - 1e-10 * scale, p
