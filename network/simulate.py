@@ -217,10 +217,18 @@ def _waveforms(scn: Scenario) -> dict[str, Any]:
     if hit is not None:
         return dict(hit)
     waves: dict[str, Any] = {}
+    named = scn.waveforms or {}
+    made: dict[str, Any] = {}          # a named waveform made once, however often referred to
     for sec, i, name, power in items:
-        waves[name] = make_waveform(power, scn, f"{sec}[{i}].power")
-    for name, spec in (scn.waveforms or {}).items():  # unused ones are checked too
-        make_waveform(spec, scn, f"waveforms.{name}")
+        if isinstance(power, str) and power in named:
+            if power not in made:
+                made[power] = make_waveform(power, scn, f"{sec}[{i}].power")
+            waves[name] = made[power]
+        else:
+            waves[name] = make_waveform(power, scn, f"{sec}[{i}].power")
+    for name, spec in named.items():  # unused ones are checked too
+        if name not in made:
+            make_waveform(spec, scn, f"waveforms.{name}")
     if key is not None:
         if len(_WAVES) > 64:
             _WAVES.clear()
