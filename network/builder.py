@@ -1260,6 +1260,8 @@ def _phi_stacks(zeta: np.ndarray, stacks: Sequence[tuple[np.ndarray, np.ndarray]
     (len(stacks), ζ.size).  Stacks with the same layers that differ only in the thickness
     of their last one (a column cut at several depths in one layer) run the recursion
     together, each row seeing exactly the operations of its own stack."""
+    from .spreading import _phi_up
+
     out = np.empty((len(stacks), zeta.size))
     groups: dict = {}
     for q, (ks, ts) in enumerate(stacks):
@@ -1267,17 +1269,7 @@ def _phi_stacks(zeta: np.ndarray, stacks: Sequence[tuple[np.ndarray, np.ndarray]
     for rows in groups.values():
         ks, ts = stacks[rows[0]]
         t_last = np.array([stacks[q][1][-1] for q in rows])
-        th = np.tanh(zeta[None, :] * t_last[:, None])
-        if math.isinf(h):
-            p = th
-        else:
-            x = ks[-1] * zeta / h
-            p = (th + x) / (1.0 + x * th)
-        for i in range(ks.size - 2, -1, -1):
-            r = (ks[i] / ks[i + 1]) * p
-            th = np.tanh(zeta * ts[i])
-            p = (th + r) / (1.0 + r * th)
-        out[rows] = p
+        out[rows] = _phi_up(np.tanh(zeta[None, :] * t_last[:, None]), zeta, ks, ts, h)
     return out
 
 

@@ -180,7 +180,14 @@ def layer_phi(zeta: np.ndarray, k: Sequence[float] | float, t: Sequence[float] |
 
 
 def _phi(zeta: np.ndarray, ks: np.ndarray, ts: np.ndarray, h: float) -> np.ndarray:
-    th = np.tanh(zeta * ts[-1])
+    return _phi_up(np.tanh(zeta * ts[-1]), zeta, ks, ts, h)
+
+
+def _phi_up(th: np.ndarray, zeta: np.ndarray, ks: np.ndarray, ts: np.ndarray,
+           h: float) -> np.ndarray:
+    """The recursion of :func:`layer_phi` from the bottom layer's tanh(ζ·t) ``th`` (any
+    shape broadcasting against ``zeta``: rows of stacks that differ only in their last
+    thickness run it together) up through the layers above it."""
     if math.isinf(h):
         p = th
     else:

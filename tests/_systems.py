@@ -58,3 +58,22 @@ name = "flange"
 material = "copper"
 thickness = "1 mm"
 """
+
+
+_TWINS: dict[type, type] = {}
+
+
+def dataclass_twin(obj):
+    """``obj`` as an instance of a class that :func:`dataclasses.dataclass` (frozen, default
+    eq/repr/hash) generates from the same fields (one twin class per class): the reference
+    for the shared ``==``, ``hash`` and ``repr`` of :mod:`pulsetherm.waveforms.fieldwise`."""
+    import dataclasses
+
+    cls = type(obj)
+    if cls not in _TWINS:
+        spec = [(f.name, f.type, dataclasses.field(default=None, repr=f.repr,
+                                                   compare=f.compare, hash=f.hash))
+                for f in dataclasses.fields(cls)]
+        _TWINS[cls] = dataclasses.make_dataclass(cls.__name__, spec, frozen=True)
+        _TWINS[cls].__qualname__ = cls.__qualname__
+    return _TWINS[cls](**{f.name: getattr(obj, f.name) for f in dataclasses.fields(cls)})

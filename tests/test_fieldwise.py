@@ -10,26 +10,13 @@ import numpy as np
 import pytest
 
 from pulsetherm.waveforms.fieldwise import FieldMethods
+from pulsetherm_test_systems import dataclass_twin as _twin  # tests/_systems.py, by conftest
 
 #: Every module with a class that uses FieldMethods (the coverage test imports them all).
 MODULES = ("pulsetherm.waveforms.pulses", "pulsetherm.waveforms.canonical",
            "pulsetherm.network.units", "pulsetherm.network.materials",
            "pulsetherm.network.scenario")
 
-_TWINS: dict[type, type] = {}
-
-
-def _twin(obj):
-    """``obj`` as an instance of a class that ``dataclass(frozen=True)`` generates with
-    default eq/repr/hash from the same fields (one twin class per class)."""
-    cls = type(obj)
-    if cls not in _TWINS:
-        spec = [(f.name, f.type, dataclasses.field(default=None, repr=f.repr,
-                                                   compare=f.compare, hash=f.hash))
-                for f in dataclasses.fields(cls)]
-        _TWINS[cls] = dataclasses.make_dataclass(cls.__name__, spec, frozen=True)
-        _TWINS[cls].__qualname__ = cls.__qualname__
-    return _TWINS[cls](**{f.name: getattr(obj, f.name) for f in dataclasses.fields(cls)})
 
 
 def _outcome(fn, *args):

@@ -12,6 +12,7 @@ from hypothesis import given, settings, strategies as st
 
 from pulsetherm.network.scenario import (ScenarioError, dumps, dumps_toml, find_line, load,
                                          loads)
+from pulsetherm_test_systems import dataclass_twin  # tests/_systems.py, by conftest
 
 EXAMPLES = sorted((Path(__file__).resolve().parents[1] / "examples").glob("*.toml"))
 
@@ -284,23 +285,7 @@ def _sections(obj, out):
     return out
 
 
-def _generated_twin(obj):
-    """``obj`` as an instance of a class that :func:`dataclasses.dataclass` (frozen, default
-    eq/repr/hash) generates from the same fields: the reference for the sections' shared
-    ``==``, ``hash`` and ``repr``."""
-    import dataclasses
-
-    cls = type(obj)
-    if cls not in _TWINS:
-        spec = [(f.name, f.type, dataclasses.field(default=None, repr=f.repr,
-                                                   compare=f.compare, hash=f.hash))
-                for f in dataclasses.fields(cls)]
-        _TWINS[cls] = dataclasses.make_dataclass(cls.__name__, spec, frozen=True)
-        _TWINS[cls].__qualname__ = cls.__qualname__
-    return _TWINS[cls](**{f.name: getattr(obj, f.name) for f in dataclasses.fields(cls)})
-
-
-_TWINS: dict[type, type] = {}
+_generated_twin = dataclass_twin   # tests/_systems.py, registered by conftest
 
 
 def _hash_or_error(obj):
