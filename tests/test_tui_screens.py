@@ -140,6 +140,9 @@ def test_a_running_sweep_stops_on_request():
         screen = app.screen
         screen.query_one("#s-path", Input).value = "coolant"
         screen.query_one("#s-range", Input).value = "30..50 degC"
+        # enough rows that the sweep is still running when stop is clicked (six nonlinear
+        # rows of the demo now take under a second)
+        screen.query_one("#s-steps", Input).value = "100"
         await pilot.click("#s-sweep")
         await pilot.pause(1.0)
         busy = screen.stopper.busy("study")
