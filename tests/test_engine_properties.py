@@ -195,7 +195,13 @@ def test_extremes_with_the_search_split_into_small_passes(monkeypatch):
     whole = _graded_chain().periodic(wave, probes=probes)
     monkeypatch.setattr(mb, "CHUNK_ELEMENTS", 60 * 16)          # 16 candidates a pass
     split = _graded_chain().periodic(wave, probes=probes)
-    scale = max(whole.peak(p) - 25.0 for p in probes)
+    assert_same_extremes(split, whole, probes)
+
+
+def assert_same_extremes(got, want, probes, ambient: float = 25.0) -> None:
+    """Peaks and minima of two responses agree to 1e-10 of the largest peak rise over
+    ``ambient`` (degC), the certified search's tolerance."""
+    scale = max(want.peak(p) - ambient for p in probes)
     for p in probes:
-        assert split.peak(p) == pytest.approx(whole.peak(p), abs=1e-10 * scale), p
-        assert split.min(p) == pytest.approx(whole.min(p), abs=1e-10 * scale), p
+        assert got.peak(p) == pytest.approx(want.peak(p), abs=1e-10 * scale), p
+        assert got.min(p) == pytest.approx(want.min(p), abs=1e-10 * scale), p

@@ -20,7 +20,7 @@ import pulsetherm.network.modal_bounds as mb
 from pulsetherm.network.model import ThermalNetwork
 from pulsetherm.waveforms.canonical import Piecewise
 
-from tests.test_engine_properties import _graded_chain, random_net
+from tests.test_engine_properties import _graded_chain, assert_same_extremes, random_net
 
 PULSE_A = Piecewise([0.0, 1e-4, 1e-3], [10.0, 0.0])
 PULSE_B = Piecewise([0.0, 2e-4, 1.5e-3], [4.0, 1.0], slope=[2e4, 0.0])
@@ -130,10 +130,7 @@ def test_fused_search_in_small_passes(monkeypatch):
     whole = make().periodic(wf, probes=probes)
     monkeypatch.setattr(mb, "CHUNK_ELEMENTS", 30 * 5)              # 5 candidates a pass
     parts = make().periodic(wf, probes=probes)
-    scale = max(whole.peak(p) - 25.0 for p in probes)
-    for p in probes:
-        assert parts.peak(p) == pytest.approx(whole.peak(p), abs=1e-10 * scale), p
-        assert parts.min(p) == pytest.approx(whole.min(p), abs=1e-10 * scale), p
+    assert_same_extremes(parts, whole, probes)
 
 
 def test_fused_level_without_the_lines_on_a_repeated_solve(monkeypatch):
