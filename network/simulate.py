@@ -1052,7 +1052,7 @@ def simulate(scn: Scenario | ScenarioModel) -> RunResult:
 def probe_figures(scn: Scenario | ScenarioModel):
     """The periodic solve of a scenario and its probes' figures, without the warm-up time,
     layer budget and device-effect figures :func:`simulate` adds to them (what a sweep row
-    or a sizing step reads).  Returns (model, periodic response, probe name ->
+    reads; sizing reads the device-effect limits too, so it runs :func:`simulate`).  Returns (model, periodic response, probe name ->
     :class:`ProbeStats`)."""
     model = scn if isinstance(scn, ScenarioModel) else build(scn)
     s = model.scenario
