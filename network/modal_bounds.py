@@ -115,6 +115,15 @@ def _line_bound(th_a, th_b, U, L, w, Kl=None):
     return np.minimum(ub, ub2)
 
 
+def _curvature_terms(Pp, aP, lam, ca, cb):
+    """Row bounds from q'' at the two ends of intervals (columns of ``ca``, ``cb``; rows of
+    ``Pp`` the probes, ``aP`` = |Pp|, ``lam`` (modes, 1)): the half-spread of the second
+    derivative and the middle and half-spread of the third (-λ q'' per mode), each term
+    monotone between its end values (module docstring), as matrix products."""
+    dc = np.abs(ca - cb)
+    return 0.5 * (aP @ dc), -0.5 * (Pp @ (lam * (ca + cb))), 0.5 * (aP @ (lam * dc))
+
+
 def _cubic_max(A, B, C, D, h):
     """Largest value of A + B x + C x² + D x³ on [0, h] (arrays): the ends and the real
     roots of B + 2C x + 3D x² = 0 (clipped into the interval), elementwise.  Any point of
@@ -198,9 +207,7 @@ def _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol, lines_onl
     ca = -lam * da + Wb
     cb = -lam * db + Wb
     c2a, c2b = Pp @ ca, Pp @ cb
-    c_spread = 0.5 * (aP @ np.abs(ca - cb))
-    t3_mid = -0.5 * (Pp @ (lam * (ca + cb)))
-    t3_spread = 0.5 * (aP @ (lam * np.abs(ca - cb)))
+    c_spread, t3_mid, t3_spread = _curvature_terms(Pp, aP, lam, ca, cb)
     M3, m3 = t3_mid + t3_spread, t3_mid - t3_spread
     p = th_a.shape[0]
     for lo, sg in ((0, 1.0), (p, -1.0)):
@@ -331,13 +338,8 @@ def _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol, t_be
     ia = np.flatnonzero(seg[1:] == seg[:-1])
     ib = ia + 1
     aP = np.abs(Pp)
-    dd = np.abs(dq[:, ia] - dq[:, ib])
-    dc = cq[:, ia] - cq[:, ib]
-    sums = np.concatenate([dd, np.abs(dc), lam * np.abs(dc)], axis=1)
-    spreads = 0.5 * (aP @ sums)                           # (p, 3 intervals)
-    I = ia.size
-    spread, c_spread, t3_spread = spreads[:, :I], spreads[:, I:2 * I], spreads[:, 2 * I:]
-    t3_mid = -0.5 * (Pp @ (lam * (cq[:, ia] + cq[:, ib])))
+    spread = 0.5 * (aP @ np.abs(dq[:, ia] - dq[:, ib]))   # (p, intervals)
+    c_spread, t3_mid, t3_spread = _curvature_terms(Pp, aP, lam, cq[:, ia], cq[:, ib])
 
     def both(x):
         return np.concatenate([x, -x])
@@ -478,7 +480,7 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
         pool = np.concatenate([take(ends_a, split), take(ends_b, split), ends_n], axis=2)
         return (ck[owner], cj[owner], sg[owner], slot[owner], pool_s[left], pool_s[right],
                 pool[:, :, left], pool[:, :, right],
-                depth - (2 if k == 4 else 1 if k == 2 else int(np.log2(k))))
+                depth - (k.bit_length() - 1))          # log2 of the pieces (2 or 4)
 
     def search(ck, cj, sg, slot, sa, sb, ends_a, ends_b, depth, graded=None):
         """Branch and bound; ``ends_a``/``ends_b`` are the states (q, q', q'') at the
@@ -574,15 +576,12 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
             open_ = np.zeros((2 * p, N), dtype=bool)
             open_[slot, ck] = True
             fused(open_, segs)
-            if not new_t:
-                return t, v
-            from .solvers import merge_samples
-            return merge_samples(t, v, np.concatenate(new_t), np.vstack(new_v))
-        cj = slot % p
-        sg = np.where(slot < p, 1.0, -1.0)
-        ck, cj, sg, slot, sa, sb, graded = _sample_intervals(t, edges, ck, cj, sg, slot,
-                                                             t_best)
-        search(ck, cj, sg, slot, sa, sb, None, None, MAX_DEPTH, graded)
+        else:
+            cj = slot % p
+            sg = np.where(slot < p, 1.0, -1.0)
+            ck, cj, sg, slot, sa, sb, graded = _sample_intervals(t, edges, ck, cj, sg, slot,
+                                                                 t_best)
+            search(ck, cj, sg, slot, sa, sb, None, None, MAX_DEPTH, graded)
     if not new_t:
         return t, v
     from .solvers import merge_samples
