@@ -914,14 +914,18 @@ def _run_pool(plan: SweepPlan, todo: list[tuple[str, dict[str, Any]]], workers: 
     if method == "forkserver":
         ctx.set_forkserver_preload(["pulsetherm.network.sweep", "pulsetherm.network.simulate",
                                     "pulsetherm.network.modal", "pulsetherm.network.builder"])
-    size = chunk_size(len(todo), workers)
     global _PREWARM
+    local = None
     if method == "fork":
         warm = _prewarm(plan, todo)
         if warm is not None:
             _PREWARM, first = warm
             finish(first)
             todo = todo[1:]
+            local = _PREWARM
+    # shorter tasks when this process works too: what the others still hold when it runs
+    # out of rows is what it waits for
+    size = chunk_size(len(todo), workers if local is None else 4 * workers)
     initargs = (plan.scenario.to_dict(), plan.scenario.source,
                 getattr(plan.scenario, "allow_paths", ()))
 
@@ -960,7 +964,11 @@ def _run_pool(plan: SweepPlan, todo: list[tuple[str, dict[str, Any]]], workers: 
     try:
         chunks = iter([todo[i:i + size] for i in range(0, len(todo), size)])
         while True:
-            lost = run(chunks, workers)
+            if local is not None:
+                lost = _run_with_parent(ctx, local, chunks, workers - 1, finish)
+                local = None    # after a dead worker: the pool alone, so no row runs here
+            else:
+                lost = run(chunks, workers)
             if not lost:
                 return
             # the rows in flight, one at a time: only the one that kills its worker fails
@@ -982,6 +990,90 @@ def _run_pool(plan: SweepPlan, todo: list[tuple[str, dict[str, Any]]], workers: 
                 os.environ.pop(k, None)
             else:
                 os.environ[k] = v
+
+
+def _pipe_worker(conn: Any, warm: tuple[Any, Any]) -> None:
+    """A forked worker of :func:`_run_with_parent`: chunks of rows in, their rows out, in
+    order, until ``None`` (or the parent's end of the pipe closes).  Ctrl-C is the
+    parent's to handle: it stops this worker (no second traceback from here)."""
+    import signal
+
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    for k, v in ONE_THREAD.items():
+        os.environ[k] = v
+    scn, cache = warm
+    try:
+        while (chunk := conn.recv()) is not None:
+            conn.send([run_row(scn, values, key, cache) for key, values in chunk])
+    except (EOFError, OSError):  # the parent is gone: nothing to report to
+        pass
+
+
+def _run_with_parent(ctx: Any, warm: tuple[Any, Any], chunks: Iterator[list], others: int,
+                     finish: Callable[[dict[str, Any]], None]) -> list[list]:
+    """Rows of a waveform-only sweep on this process and ``others`` forked ones.
+
+    This process holds the warm network (:func:`_prewarm`), so it is one of the workers:
+    a 2-worker sweep forks one process, not two.  It runs chunks itself and, between
+    rows, hands the next chunk to a forked worker whose answer came back (two chunks in
+    flight per worker, over a pipe: no helper threads here to wait for the interpreter
+    lock while this process computes).  Returns [] when all finished, else the chunks
+    that were in flight on a worker that died (the caller runs them again one at a time,
+    then the chunks not handed out yet)."""
+    from collections import deque
+    from multiprocessing.connection import wait as ready
+
+    procs, flight, lost = [], {}, []
+
+    def hand(conn: Any, chunk: list | None) -> None:
+        if chunk is not None:
+            flight[conn].append(chunk)
+            conn.send(chunk)
+
+    def collect(timeout: float | None) -> None:
+        for conn in ready([c for c, q in flight.items() if q], timeout):
+            try:
+                got = conn.recv()
+                flight[conn].popleft()
+                for row in got:
+                    finish(row)
+                hand(conn, None if lost else next(chunks, None))
+            except (EOFError, OSError):      # that worker died (killed, out of memory)
+                lost.extend(flight.pop(conn))
+                conn.close()
+
+    scn, cache = warm
+    done = False
+    try:
+        for _ in range(others):
+            here, there = ctx.Pipe()
+            proc = ctx.Process(target=_pipe_worker, args=(there, warm), daemon=True)
+            proc.start()
+            there.close()
+            procs.append(proc)
+            flight[here] = deque()
+            for _ in range(2):
+                hand(here, next(chunks, None))
+        while not lost and (mine := next(chunks, None)) is not None:
+            for key, values in mine:
+                finish(run_row(scn, values, key, cache))
+                collect(0)
+        while any(flight.values()):
+            collect(None)
+        for conn in flight:
+            try:
+                conn.send(None)          # done: the worker returns
+            except OSError:
+                pass
+        done = True
+        return lost
+    finally:
+        for conn in flight:
+            conn.close()
+        for proc in procs:
+            if not done:                 # interrupted or failed here: stop at once
+                proc.kill()
+            proc.join()
 
 
 def _prewarm(plan: SweepPlan, todo: list[tuple[str, dict[str, Any]]]):

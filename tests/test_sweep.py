@@ -148,6 +148,68 @@ def test_a_dead_worker_fails_its_rows_only(scn, tmp_path, monkeypatch):
     assert len(list(csv.DictReader(out.read_text().splitlines()))) == 4
 
 
+def _fork_only():
+    import importlib
+    import os
+
+    sw = importlib.import_module("pulsetherm.network.sweep")
+    if sw._start_method({k: os.environ.get(k) for k in sw.ONE_THREAD}) != "fork":
+        pytest.skip("this process works beside forked workers only when it can fork")
+    return sw
+
+
+def test_a_waveform_sweep_on_two_workers_forks_one_and_works_here(scn, monkeypatch):
+    """Waveform-only rows on 2 workers: this process (which holds the warm network) and
+    one forked worker share the rows, and every row equals the serial one.  Common
+    practice, no source."""
+    import os
+
+    sw = _fork_only()
+    real = sw.run_row
+
+    def tagged(scn_, values, key=None, cache=None):
+        row = real(scn_, values, key, cache)
+        row["pid"] = os.getpid()
+        return row
+
+    monkeypatch.setattr(sw, "run_row", tagged)
+    plan = plan_sweep(scn, vary=["waveforms.p.width=50..150 us:40"])
+    pooled = run_sweep(plan, workers=2).rows
+    pids = {r.pop("pid") for r in pooled}
+    assert os.getpid() in pids and len(pids) == 2
+    serial = {r["key"]: r for r in run_sweep(plan).rows}
+    for r in serial.values():
+        r.pop("pid")
+    assert {r["key"]: r for r in pooled} == serial
+
+
+def test_a_dead_worker_beside_this_process_fails_its_row_only(scn, tmp_path, monkeypatch):
+    """A forked worker of a waveform-only sweep dies (killed, out of memory) on its first
+    row: that row is recorded as failed, every other row runs and the file keeps all of
+    them.  Common practice, no source."""
+    import os
+
+    sw = _fork_only()
+    real = sw.run_row
+    plan = plan_sweep(scn, vary=["waveforms.p.width=50..150 us:12"])
+    doomed = plan.rows[1]["waveforms.p.width"]    # row 0 runs here first; row 1 is handed out
+
+    def dies(scn_, values, key=None, cache=None):
+        if values.get("waveforms.p.width") == doomed and os.getpid() != parent:
+            os._exit(9)
+        return real(scn_, values, key, cache)
+
+    parent = os.getpid()
+    monkeypatch.setattr(sw, "run_row", dies)
+    out = tmp_path / "rows.csv"
+    res = run_sweep(plan, out=out, workers=2)
+    assert len(res.rows) == 12 and res.failed == 1
+    bad = [r for r in res.rows if r["error"]]
+    assert bad[0]["waveforms.p.width"] == doomed
+    assert bad[0]["error"].startswith("internal error (its worker process ended")
+    assert len(list(csv.DictReader(out.read_text().splitlines()))) == 12
+
+
 def test_dask_local_cluster_matches_serial(scn):
     distributed = pytest.importorskip("dask.distributed")
     plan = plan_sweep(scn, vary=["mount.sink.resistance=0.1..0.3 K/W:3"])
@@ -596,3 +658,4 @@ def test_drive_level_rows_equal_single_runs_serial_and_in_workers(scn):
             for f in ("peak_C", "mean_C"):
                 want = getattr(single.probes["pa.junction"], f)
                 assert abs(got[f"pa.junction.{f}"] - want) <= 1e-9, (key, f)
+
