@@ -18,7 +18,9 @@ an earlier row (:mod:`pulsetherm.network.sweepcache`).
 
 Workers are processes (``fork`` when the parent is single-threaded and already pinned to
 one BLAS thread, else ``forkserver`` or ``spawn``; one BLAS thread each) or a Dask
-cluster (``scheduler=``, imported only then).  This module imports no numpy at module level
+cluster (``scheduler=``, imported only then).  When forked workers run a waveform-only
+sweep, this process is one of them: it built the network for the first row and keeps
+working beside N-1 forked ones (:func:`_run_with_parent`).  This module imports no numpy at module level
 so that process workers can pin BLAS threads before numpy loads.
 """
 from __future__ import annotations
