@@ -346,6 +346,33 @@ def test_engine_contract_inputs():
     assert np.sum(level[:, 0] * w) / edges[-1] == pytest.approx(tr.mean, rel=1e-12)
 
 
+
+def test_align_of_one_waveform_equals_the_general_path():
+    """align() of a single periodic waveform takes its own edges (a sweep row's common
+    case); the values equal the general path (tile, merge, read at midpoints) exactly, and
+    a waveform with a sub-resolution sliver or a constant still goes the general way.
+    Common practice, no source."""
+    from pulsetherm.waveforms import canonical as cn
+
+    rng = np.random.default_rng(7)
+    cases = [PulseTrain(peak=120.0, width=1e-4, period=1e-3),
+             PulseTrain(peak=5.0, width=3e-6, period=1e-3, rise=1e-7, fall=2e-7, idle=0.5),
+             Burst(PulseTrain(peak=10.0, width=1e-5, period=1e-4), pulses=7, gap=2e-3),
+             Stagger(40.0, (1e-4, 1.3e-4, 0.9e-4), 1e-5)]
+    for _ in range(20):
+        e = np.concatenate([[0.0], np.cumsum(rng.uniform(1e-6, 1e-3, rng.integers(1, 9)))])
+        cases.append(Piecewise(e, rng.uniform(0, 50, e.size - 1),
+                               rng.uniform(-1e3, 1e3, e.size - 1), True))
+    for w in cases:
+        pw = as_piecewise(w)
+        assert cn._align_one(pw) is not None
+        for got, want in zip(align([pw]), cn._align_general([pw])):
+            np.testing.assert_array_equal(got, want)
+    sliver = Piecewise([0.0, 1e-3, 1e-3 + 1e-16, 2e-3], [1.0, 2.0, 3.0], [0.0, 0.0, 0.0],
+                       True)
+    assert cn._align_one(sliver) is None and align([sliver])[0].size == 3
+    assert cn._align_one(as_piecewise(3.0)) is None
+
 def test_burst_refuses_an_unbounded_pulse_count():
     """A burst of 10^8 pulses used to be built in memory (the process was killed); it is
     refused by name instead.  Common practice, no source."""

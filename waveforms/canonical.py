@@ -298,6 +298,31 @@ def align(pieces: list[Piecewise], duration: float | None = None):
     """
     if not pieces:
         raise WaveformError("align: expected at least one waveform")
+    if duration is None and len(pieces) == 1:
+        one = _align_one(pieces[0])
+        if one is not None:
+            return one
+    return _align_general(pieces, duration)
+
+
+def _align_one(p: Piecewise):
+    """:func:`align` of one periodic waveform that starts at 0 with no edges closer than the
+    resolution: its own edges, levels and slopes as they are (the values the general path
+    gives: one tile, nothing to merge, each segment read at its own start), else None."""
+    if (not p.periodic or p.edges[0] != 0.0 or p.n_segments > MAX_ALIGNED_SEGMENTS
+            or p.is_constant):
+        return None
+    period = p.span
+    if p.n_segments > 1 and not np.diff(p.edges).min() > TIME_RTOL * period:
+        return None
+    edges = p.edges.copy()
+    edges[-1] = period
+    return edges, p.level[:, None].copy(), p.slope[:, None].copy()
+
+
+def _align_general(pieces: list[Piecewise], duration: float | None = None):
+    """:func:`align` for any number of waveforms: tile to the common period (or window to
+    ``duration``), merge the edges, and read each piece at the merged segments."""
     if duration is None:
         for i, p in enumerate(pieces):
             if not p.periodic:
