@@ -337,7 +337,8 @@ class Condensed:
     C
         Capacities, J/K, (nc,) > 0.
     G
-        Condensed conductance matrix, W/K, dense (nc, nc), symmetric.
+        Condensed conductance matrix, W/K, dense (nc, nc), symmetric; the system's sparse G
+        itself from ``condense(system, dense=False)`` when no node is massless.
     Fb
         Condensed boundary coupling, W/K, dense (nc, nb).
     B
@@ -378,8 +379,11 @@ class Condensed:
         return out
 
 
-def condense(system: ThermalSystem) -> Condensed:
-    """Eliminate the massless nodes of ``system`` exactly (static condensation)."""
+def condense(system: ThermalSystem, dense: bool = True) -> Condensed:
+    """Eliminate the massless nodes of ``system`` exactly (static condensation).
+
+    ``dense=False``: with no massless node, ``G`` is the system's sparse matrix (no dense
+    n×n copy; the modal solver reads its structure first)."""
     C = system.C
     cap = np.flatnonzero(C > 0)
     mass = np.flatnonzero(C == 0)
@@ -390,7 +394,7 @@ def condense(system: ThermalSystem) -> Condensed:
     Gb = system.Gb.tocsr()
     B = system.B.tocsr()
     if mass.size == 0:
-        Gcc, Fb, Bc = G.toarray(), Gb.toarray(), B.toarray()
+        Gcc, Fb, Bc = (G.toarray() if dense else G), Gb.toarray(), B.toarray()
     else:
         Gcc = G[cap][:, cap].toarray()
         Fb = Gb[cap].toarray()

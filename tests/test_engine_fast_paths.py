@@ -1,0 +1,127 @@
+"""Fast paths of the whole periodic analysis against the plain ones (common practice, no
+source: two ways of computing the same quantity must agree).
+
+* The eigensolver of a chain (``modal._eigh``: LAPACK dstemr on the tridiagonal matrix in
+  the order of the path, the network given in any node order, massless nodes condensed
+  first) against scipy's dense ``eigh`` of the same matrix in path order (there dsyevr's
+  Householder reduction is the identity, so both end in the same tridiagonal solve):
+  eigenvalues to 1e-12 relative, eigenvectors orthonormal and with a small residual, on
+  graded chains whose time constants span about 1e-7 .. 10 s; and the periodic peaks
+  and minima of the whole analysis against the dense eigensolver.
+* ``modal._path_order``: a tree with a branch, a loop and a single node.
+"""
+from __future__ import annotations
+
+import numpy as np
+import pytest
+import scipy.linalg as sla
+
+import pulsetherm.network.modal as modal
+from pulsetherm.network.assemble import condense
+from pulsetherm.network.model import ThermalNetwork
+from pulsetherm.waveforms.canonical import Piecewise
+
+WAVE = Piecewise([0.0, 1e-5, 1e-3], [0.1, 0.0])
+
+
+def _graded(n: int, seed: int, order=None, massless: int | None = None) -> ThermalNetwork:
+    """Chain c0 – c1 – … – c{n−1} – sink with time constants about 1e-7 .. 10 s (C from
+    1e-9 to 1 J/K, random factors), nodes added in ``order`` (default: along the chain);
+    node ``massless`` has no capacity."""
+    rng = np.random.default_rng(seed)
+    tau = np.logspace(-7, 1, n) * rng.uniform(0.7, 1.4, n)
+    C = np.logspace(-9, 0, n) * rng.uniform(0.5, 2.0, n)
+    g = C / tau
+    net = ThermalNetwork()
+    net.add_boundary("sink", temperature=25.0)
+    for k in (range(n) if order is None else order):
+        net.add_node(f"c{k}", capacity=0.0 if k == massless else C[k])
+    for k in range(1, n):
+        net.connect(f"c{k - 1}", f"c{k}", conductance=g[k])
+    net.connect(f"c{n - 1}", "sink", conductance=g[0])
+    net.add_input("die", nodes={"c0": 1.0})
+    return net
+
+
+def _dense_in_path_order(net: ThermalNetwork):
+    """Eigenvalues and C-normalised modes of the network by dense eigh of the scaled
+    matrix with its rows in chain order (c0, c1, …), modes returned in the system's order."""
+    sys_ = net.system()
+    cond = condense(sys_)
+    names = [sys_.node_names[i] for i in cond.cap]
+    path = np.argsort([int(v[1:]) for v in names])
+    s = 1.0 / np.sqrt(cond.C)
+    A = cond.G * s[None, :]
+    A *= s[:, None]
+    lam, Up = sla.eigh(A[np.ix_(path, path)])
+    U = np.empty_like(Up)
+    U[path] = Up
+    return lam, U * s[:, None], cond
+
+
+@pytest.mark.parametrize("seed", [1, 2, 3])
+@pytest.mark.parametrize("shape", ["natural", "shuffled", "massless"])
+def test_chain_eigenpairs_against_dense_eigh(seed, shape):
+    n = 40
+    rng = np.random.default_rng(100 + seed)
+    order = rng.permutation(n) if shape != "natural" else None
+    net = _graded(n, seed, order=order, massless=17 if shape == "massless" else None)
+    solver = modal.ModalSolver(net.system())
+    lam_ref, V_ref, cond = _dense_in_path_order(net)
+    assert lam_ref.min() > 0 and lam_ref.max() / lam_ref.min() > 1e6     # stiff indeed
+    np.testing.assert_allclose(solver.lam, lam_ref, rtol=1e-12, atol=0)
+    # C-normalised: Vᵀ C V = I; residual of G v = λ C v relative to λ C v
+    V = solver.V
+    C = cond.C
+    np.testing.assert_allclose(V.T @ (C[:, None] * V), np.eye(V.shape[1]), atol=1e-12)
+    G = np.asarray(condense(net.system()).G)
+    res = np.abs(G @ V - C[:, None] * V * solver.lam[None, :]).max(axis=0)
+    scale = np.abs(C[:, None] * V * solver.lam[None, :]).max(axis=0)
+    assert np.all(res <= 1e-10 * scale)
+    # the same modes as the dense solve, up to sign
+    sign = np.sign(np.sum(V * V_ref * C[:, None], axis=0))
+    np.testing.assert_allclose(V * sign, V_ref, atol=1e-9 * np.abs(V_ref).max())
+
+
+@pytest.mark.parametrize("seed", [4, 5])
+@pytest.mark.parametrize("shape", ["natural", "shuffled", "massless"])
+def test_chain_periodic_extremes_against_dense_eigh(seed, shape, monkeypatch):
+    """Peaks and minima of the whole periodic analysis with the tridiagonal solve against
+    the dense one, 1e-10 of the peak rise (the certified search's tolerance), at four
+    probes along the chain."""
+    n = 30
+    order = np.random.default_rng(seed).permutation(n) if shape != "natural" else None
+    probes = ["c0", "c3", "c12", "c29"]
+    massless = 12 if shape == "massless" else None
+    fast = _graded(n, seed, order=order, massless=massless).periodic({"die": WAVE},
+                                                                      probes=probes)
+    monkeypatch.setattr(modal, "_path_order", lambda rows, cols, n: None)
+    plain = _graded(n, seed, order=None, massless=massless).periodic({"die": WAVE},
+                                                                     probes=probes)
+    scale = max(plain.peak(p) - 25.0 for p in probes)
+    for p in probes:
+        assert fast.peak(p) == pytest.approx(plain.peak(p), abs=1e-10 * scale), p
+        assert fast.min(p) == pytest.approx(plain.min(p), abs=1e-10 * scale), p
+        assert fast.mean(p) == pytest.approx(plain.mean(p), abs=1e-12 * scale), p
+
+
+def _pattern(n: int, links) -> tuple[np.ndarray, np.ndarray]:
+    r = list(range(n)) + [a for a, b in links] + [b for a, b in links]
+    c = list(range(n)) + [b for a, b in links] + [a for a, b in links]
+    return np.array(r), np.array(c)
+
+
+def test_path_order_cases():
+    # a shuffled path plus a separate pair: every link between neighbours of the order
+    links = [(3, 0), (0, 4), (4, 1), (5, 2)]
+    order = modal._path_order(*_pattern(6, links), 6)
+    pos = np.empty(6, dtype=int)
+    pos[order] = np.arange(6)
+    assert sorted(order.tolist()) == list(range(6))
+    assert all(abs(pos[a] - pos[b]) == 1 for a, b in links)
+    # tridiagonal already: the identity marker
+    assert modal._path_order(*_pattern(4, [(0, 1), (1, 2), (2, 3)]), 4) is modal._IDENTITY
+    assert modal._path_order(*_pattern(1, []), 1) is modal._IDENTITY
+    # a branch (node 1 has three neighbours) and a loop plus a path: no path order
+    assert modal._path_order(*_pattern(4, [(0, 1), (1, 2), (1, 3)]), 4) is None
+    assert modal._path_order(*_pattern(6, [(0, 1), (1, 2), (2, 0), (4, 5)]), 6) is None
