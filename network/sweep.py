@@ -479,15 +479,27 @@ def with_values(scn: Scenario, values: dict[str, Any]) -> Scenario:
         return scn
     import dataclasses
 
-    from .scenario import WaveformSpec, _dump_section, _load_section, set_path
+    from .scenario import (WaveformSpec, _convert, _dump_section, _join, _load_section,
+                           _schema, set_path)
 
+    schema = _schema(WaveformSpec)
     try:
         for name in dict.fromkeys(q[1] for q in parts):
+            mine = [(key, v) for (_, n, key), v in zip(parts, values.values()) if n == name]
+            where = f"waveforms.{name}"
+            if all(key in schema for key, _ in mine):
+                # top-level keys of the table: convert just those, as the loader converts
+                # them, and run the table's checks (the other keys are as loaded)
+                spec = dataclasses.replace(named[name], **{
+                    schema[key].name: _convert(schema[key].metadata, v, _join(where, key))
+                    for key, v in mine})
+                spec.check(where)
+                named[name] = spec
+                continue
             data = _dump_section(named[name])
-            for (_, n, key), v in zip(parts, values.values()):
-                if n == name:
-                    set_path(data, key, v)
-            named[name] = _load_section(WaveformSpec, data, f"waveforms.{name}")
+            for key, v in mine:
+                set_path(data, key, v)
+            named[name] = _load_section(WaveformSpec, data, where)
         new = dataclasses.replace(scn, waveforms=named)
         new.check("")
     except ScenarioError as exc:

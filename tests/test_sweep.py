@@ -605,6 +605,9 @@ def test_pulse_widths_within_one_grading_step_share_one_network():
     {"waveforms.p.width": "0 us"},         # refused: same message
     {"waveforms.p.pek": "5 W"},            # unknown key: same message
     {"waveforms.p.period": "50 us"},       # width > period: refused by the scenario checks
+    {"waveforms.p.width": "wide"},         # not a quantity: the loader's message
+    {"waveforms.p.peak": "-5 W"},          # out of range: the loader's message
+    {"waveforms.p.width": "60 us", "waveforms.p.period": "2 ms", "waveforms.p.rise": "1 us"},
     {"waveforms.p.peak": "2 W", "coolant": "20 degC"},  # not waveform-only: the long way
 ])
 def test_a_row_of_waveform_keys_is_the_scenario_with_value_gives(scn, values):
