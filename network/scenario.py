@@ -1379,13 +1379,68 @@ class Scenario(_Section):
         """A copy with the value at ``path`` replaced (``mount.sink.resistance``,
         ``devices[0].limit``, ``devices[pa].limit``, ``waveforms.radar.width``); the new
         scenario is validated like a loaded one."""
-        data = self.to_dict()
-        set_path(data, path, value)
-        return Scenario.from_dict(data, source=self.source, allow_paths=self.allow_paths)
+        try:
+            new = _with_leaf(self, _path_parts(path), value, "")
+        except ScenarioError as exc:
+            raise exc.located(None, self.source) from None
+        if new is None:             # not a plain key of a loaded table: the long way
+            data = self.to_dict()
+            set_path(data, path, value)
+            return Scenario.from_dict(data, source=self.source, allow_paths=self.allow_paths)
+        object.__setattr__(new, "source", self.source)
+        object.__setattr__(new, "allow_paths", self.allow_paths)
+        try:
+            _check_table_paths(new)
+        except ScenarioError as exc:
+            raise exc.located(None, self.source) from None
+        return new
 
     def get_value(self, path: str) -> Any:
         """The value at ``path`` as written (a unit string, a number, ...)."""
         return get_path(self.to_dict(), path)
+
+
+def _with_leaf(obj: Any, parts: list[str], value: Any, where: str) -> Any:
+    """``obj`` (a loaded section) with the key at ``parts`` set to ``value``, as loading
+    the edited dict form would give it, or None when the key is not a key of a loaded
+    table (an unknown key, a table not in the scenario, a name not in a list: the caller
+    reloads the whole dict form, whose message names the problem).
+
+    Only the tables on the path are rebuilt: the value is converted as the loader
+    converts that key, and each rebuilt table runs its checks from the innermost out, in
+    the order a full load runs them (the others were checked when the scenario was
+    loaded and are unchanged).  Paths in messages are the loader's (list elements by
+    index)."""
+    schema = _schema(type(obj))
+    f = schema.get(parts[0]) if parts else None
+    if f is None:
+        return None
+    meta, here = f.metadata, _join(where, parts[0])
+    if len(parts) == 1:
+        new = _convert(meta, value, here)
+    else:
+        child = getattr(obj, f.name)
+        tag = meta["tag"]
+        if tag == "section" and child is not None:
+            new = _with_leaf(child, parts[1:], value, here)
+        elif tag == "list" and child and len(parts) > 2 and parts[1].startswith("["):
+            key = parts[1][1:-1]
+            names = [getattr(x, "name", None) for x in child]
+            i = int(key) if key.isdigit() else names.index(key) if key in names else None
+            if i is None or i >= len(child):
+                return None
+            item = _with_leaf(child[i], parts[2:], value, _join(here, i))
+            new = None if item is None else child[:i] + (item,) + child[i + 1:]
+        elif tag == "map" and child and parts[1] in child and len(parts) > 2:
+            item = _with_leaf(child[parts[1]], parts[2:], value, _join(here, parts[1]))
+            new = None if item is None else {**child, parts[1]: item}
+        else:
+            return None
+        if new is None:
+            return None
+    out = dataclasses.replace(obj, **{f.name: new})
+    out.check(where)
+    return out
 
 
 # ======================================================================================

@@ -463,48 +463,11 @@ _NAME = re.compile(r"^[A-Za-z0-9_\-]+$")
 
 
 def with_values(scn: Scenario, values: dict[str, Any]) -> Scenario:
-    """``scn`` with a row's values set, validated as :meth:`Scenario.with_value` does.
-
-    A row that sets only keys inside named waveforms (``waveforms.NAME.KEY``: the usual
-    waveform-only axis) reloads just those waveform tables, as the loader reads them, and
-    runs the scenario-wide checks, instead of reloading the whole scenario for every
-    value (the same scenario, at a fraction of the cost).  Any other row goes through
-    :meth:`Scenario.with_value`, one value at a time."""
-    named = dict(scn.waveforms or {})
-    parts = [p.split(".", 2) for p in values]
-    if not values or not all(len(q) == 3 and q[0] == "waveforms" and q[1] in named
-                             and _NAME.match(q[1]) for q in parts):
-        for path, v in values.items():
-            scn = scn.with_value(path, v)
-        return scn
-    import dataclasses
-
-    from .scenario import (WaveformSpec, _convert, _dump_section, _join, _load_section,
-                           _schema, set_path)
-
-    schema = _schema(WaveformSpec)
-    try:
-        for name in dict.fromkeys(q[1] for q in parts):
-            mine = [(key, v) for (_, n, key), v in zip(parts, values.values()) if n == name]
-            where = f"waveforms.{name}"
-            if all(key in schema for key, _ in mine):
-                # top-level keys of the table: convert just those, as the loader converts
-                # them, and run the table's checks (the other keys are as loaded)
-                spec = dataclasses.replace(named[name], **{
-                    schema[key].name: _convert(schema[key].metadata, v, _join(where, key))
-                    for key, v in mine})
-                spec.check(where)
-                named[name] = spec
-                continue
-            data = _dump_section(named[name])
-            for key, v in mine:
-                set_path(data, key, v)
-            named[name] = _load_section(WaveformSpec, data, where)
-        new = dataclasses.replace(scn, waveforms=named)
-        new.check("")
-    except ScenarioError as exc:
-        raise exc.located(None, scn.source) from None
-    return new
+    """``scn`` with a row's values set, one at a time, each validated as
+    :meth:`Scenario.with_value` does (which rebuilds only the tables on the key's path)."""
+    for path, v in values.items():
+        scn = scn.with_value(path, v)
+    return scn
 
 
 def _failure(exc: BaseException) -> str:

@@ -131,6 +131,67 @@ def test_with_value_by_index_and_by_name():
     assert exc.value.path == "devices[0].rth"
 
 
+
+def _leaves(data, path=""):
+    """Every key path of a scenario's dict form whose value is not a table, with it."""
+    if isinstance(data, dict):
+        for k, v in data.items():
+            yield from _leaves(v, f"{path}.{k}" if path else k)
+    elif isinstance(data, list) and data and all(isinstance(x, dict) for x in data):
+        for i, v in enumerate(data):
+            yield from _leaves(v, f"{path}[{i}]")
+    else:
+        yield path, data
+
+
+def _edits(value):
+    """Values to set at a leaf: itself, and changed ones (a scaled number, another unit,
+    text that is no quantity, a negative)."""
+    out = [value]
+    if isinstance(value, str):
+        head, _, unit = value.partition(" ")
+        try:
+            x = float(head)
+        except ValueError:
+            out.append(value + "x")
+        else:
+            out += [f"{x * 1.5:g} {unit}".strip(), f"{-x - 1:g} {unit}".strip(),
+                    f"{x:g} furlong"]
+    elif isinstance(value, bool):
+        out.append(not value)
+    elif isinstance(value, (int, float)):
+        out += [value * 2, -value - 1]
+    return out
+
+
+@pytest.mark.parametrize("path", EXAMPLES, ids=lambda p: p.name)
+def test_with_value_rebuilds_the_path_as_a_full_reload_does(path):
+    """with_value rebuilds only the tables on the key's path; for every key of every
+    example, set to itself and to changed or bad values, the scenario (or the error
+    message) equals loading the edited dict form whole.  Common practice, no source."""
+    from pulsetherm.network.scenario import Scenario, set_path
+
+    scn = load(path)
+    checked = 0
+    for key, value in _leaves(scn.to_dict()):
+        for v in _edits(value):
+            data = scn.to_dict()
+            set_path(data, key, v)
+            try:
+                want, err = Scenario.from_dict(data, source=scn.source), None
+            except ScenarioError as exc:
+                want, err = None, str(exc)
+            if err is None:
+                got = scn.with_value(key, v)
+                assert got == want and got.source == want.source, (key, v)
+                assert got.to_dict() == want.to_dict(), (key, v)
+            else:
+                with pytest.raises(ScenarioError) as exc:
+                    scn.with_value(key, v)
+                assert str(exc.value) == err, (key, v)
+            checked += 1
+    assert checked > 40
+
 def test_the_four_required_shapes_load():
     """A data-sheet device on an ideal cold plate, a bare stack on a fixed base, a line
     with a point heater, several devices on one sink (the shipped examples cover the last
