@@ -29,6 +29,7 @@ import numpy as np
 import scipy.sparse as sp
 import scipy.linalg as sla
 
+from .graph import Graph
 from .system import KELVIN_OFFSET, ThermalSystem
 
 __all__ = ["NetworkError", "assemble", "Condensed", "condense", "floating_nodes",
@@ -64,25 +65,31 @@ def assemble(graph, inputs: dict) -> ThermalSystem:
     NetworkError
         No free node; a massless group with no link to a capacitive node or a boundary.
     """
-    free_d, bnd_d = [], []
-    for item in graph.nodes(data=True):
-        (bnd_d if item[1]["boundary"] else free_d).append(item)
-    if not free_d:
+    free, bnds, C, labels, T_b = [], [], [], [], []
+    for v, d in graph.nodes(data=True):
+        if d["boundary"]:
+            bnds.append(v)
+            T_b.append(d["temperature_K"])
+        else:
+            free.append(v)
+            C.append(d["capacity"])
+            labels.append(d["label"])
+    if not free:
         raise NetworkError("the network has no free (non-boundary) node: add_node(...) first")
-    free = [v for v, _ in free_d]
-    bnds = [v for v, _ in bnd_d]
     n, nb = len(free), len(bnds)
-    index = {v: i for i, v in enumerate(free)}
-    index.update({v: n + b for b, v in enumerate(bnds)})
-
-    C = np.array([d["capacity"] for _, d in free_d], dtype=np.float64)
-    labels = tuple([str(d["label"]) for _, d in free_d])
-    T_b = np.array([d["temperature_K"] for _, d in bnd_d], dtype=np.float64)
+    index = dict(zip(free, range(n)))
+    index.update(zip(bnds, range(n, n + nb)))
+    C = np.array(C, dtype=np.float64)
+    labels = tuple(map(str, labels))
+    T_b = np.array(T_b, dtype=np.float64)
 
     # one row per branch: (end, end, g, a, Tref); ends as float64 rows, exact below 2^53
-    table = np.array([(index[u], index[v], g, a, tref)
-                      for u, v, d in graph.edges(data=True)
-                      for g, a, tref in d["branches"]], dtype=np.float64).reshape(-1, 5)
+    flat = []
+    for u, v, d in _edge_items(graph):
+        iu, iv = index[u], index[v]
+        for g, a, tref in d["branches"]:
+            flat += (iu, iv, g, a, tref)
+    table = np.array(flat, dtype=np.float64).reshape(-1, 5)
     ends = table[:, :2].astype(np.int64)
     edge_i = ends.min(axis=1)
     edge_j = ends.max(axis=1)
@@ -112,12 +119,28 @@ def assemble(graph, inputs: dict) -> ThermalSystem:
     input_Tref = np.array([inputs[k].t_ref_K for k in names], dtype=np.float64)
 
     system = ThermalSystem(
-        node_names=tuple(str(v) for v in free), labels=labels, C=C, G=G, Gb=Gb,
-        boundary_names=tuple(str(v) for v in bnds), T_boundary=T_b, B=B, input_names=names,
+        node_names=tuple(map(str, free)), labels=labels, C=C, G=G, Gb=Gb,
+        boundary_names=tuple(map(str, bnds)), T_boundary=T_b, B=B, input_names=names,
         edge_i=edge_i, edge_j=edge_j, edge_g=edge_g, edge_a=ea,
         edge_Tref=er, input_tc=input_tc, input_Tref=input_Tref)
     _check_massless(system)
     return system
+
+
+def _edge_items(graph):
+    """(u, v, attributes) of every edge once, in networkx's order (each node in insertion
+    order, then its neighbours in the order they were joined, each edge from its
+    earlier-visited end): read straight from a :class:`Graph`'s adjacency (no list of
+    triples), else ``graph.edges(data=True)``."""
+    if not isinstance(graph, Graph):
+        yield from graph.edges(data=True)
+        return
+    done = set()
+    for u, nbrs in graph._adj.items():
+        for v, d in nbrs.items():
+            if v not in done:
+                yield u, v, d
+        done.add(u)
 
 
 #: Matrices up to this many entries sum their triplets on a dense scratch (measured: faster
@@ -202,29 +225,32 @@ def _cached(system: ThermalSystem) -> dict:
 SMALL_N = 256
 
 
-def _free_components(system: ThermalSystem) -> list[np.ndarray]:
-    """Connected groups of all free nodes (through free-free conductances): a union-find
-    over the edge list for small networks (R. E. Tarjan, "Efficiency of a good but not
-    linear set union algorithm", J. ACM 22(2), 1975), scipy's csgraph otherwise."""
+def _free_roots(system: ThermalSystem) -> np.ndarray:
+    """A label per free node, equal for nodes linked through free-free conductances: a
+    union-find over the edge list for small networks (R. E. Tarjan, "Efficiency of a good
+    but not linear set union algorithm", J. ACM 22(2), 1975; each label the smallest node
+    of its group), scipy's csgraph otherwise."""
     n = system.n
     if n > SMALL_N:
-        return _components(system, np.ones(n, dtype=bool))
+        return sp.csgraph.connected_components(system.G, directed=False)[1]
     parent = list(range(n))
-
-    def find(i):
-        while parent[i] != i:
-            parent[i] = parent[parent[i]]
-            i = parent[i]
-        return i
-
     ei, ej = system.edge_i, system.edge_j
     ff = ej < n
     for i, j in zip(ei[ff].tolist(), ej[ff].tolist()):
-        ri, rj = find(i), find(j)
-        if ri != rj:
-            parent[max(ri, rj)] = min(ri, rj)
-    roots = np.array([find(i) for i in range(n)], dtype=np.int64)
-    return [np.flatnonzero(roots == r) for r in np.unique(roots)]
+        while parent[i] != i:                   # find, halving the path
+            parent[i] = i = parent[parent[i]]
+        while parent[j] != j:
+            parent[j] = j = parent[parent[j]]
+        if i < j:
+            parent[j] = i
+        elif j < i:
+            parent[i] = j
+    roots = np.array(parent, dtype=np.int64)
+    while True:                                 # every node to its root
+        up = roots[roots]
+        if np.array_equal(up, roots):
+            return roots
+        roots = up
 
 
 def floating_nodes(system: ThermalSystem) -> list[list[str]]:
@@ -236,13 +262,14 @@ def floating_nodes(system: ThermalSystem) -> list[list[str]]:
     cache = _cached(system)
     if "floating" not in cache:
         n = system.n
-        to_boundary = np.zeros(n, dtype=bool)
         fb = (system.edge_j >= n) & (system.edge_g > 0)
-        to_boundary[system.edge_i[fb]] = True
+        roots = _free_roots(system)
+        grounded = np.zeros(n, dtype=bool)
+        grounded[roots[system.edge_i[fb]]] = True     # groups with a link to a boundary
         out = []
-        for group in _free_components(system):
-            if not to_boundary[group].any():
-                out.append([system.node_names[i] for i in group])
+        if not grounded[roots].all():
+            for r in np.unique(roots[~grounded[roots]]).tolist():
+                out.append([system.node_names[i] for i in np.flatnonzero(roots == r)])
         cache["floating"] = out
     return [list(g) for g in cache["floating"]]
 
@@ -293,7 +320,10 @@ def static_field(system: ThermalSystem, power: np.ndarray | None = None,
     if idx.size:
         if "static_lu" not in cache:
             Gs = system.G if idx.size == n else system.G.tocsr()[idx][:, idx]
-            if idx.size <= SMALL_N:
+            solve = _banded_cholesky(Gs)
+            if solve is not None:
+                cache["static_lu"] = solve
+            elif idx.size <= SMALL_N:
                 # dense Cholesky (LAPACK potrf/potrs: G of a grounded network is symmetric
                 # positive definite), else LU with partial pivoting (getrf/getrs)
                 Gd = Gs.toarray()
@@ -320,6 +350,39 @@ def static_field(system: ThermalSystem, power: np.ndarray | None = None,
     if power is None:
         cache["static0"] = out.copy()
     return out
+
+
+def _banded_cholesky(G):
+    """Solver of G x = b by banded Cholesky (LAPACK dpbtrf/dpbtrs, G = L Lᵀ with L inside
+    the band: no fill outside it; G. H. Golub and C. F. Van Loan, *Matrix Computations*,
+    4th ed., 2013, §4.3.5) when the half bandwidth kd of G in its node order is small
+    (4·kd ≤ n: a chain kd = 1, a grid of layers kd = its layer size): O(n·kd²) work
+    against O(n³) dense.  None when the band is wide or G is not positive definite (the
+    dense or sparse LU path then decides)."""
+    G = G.tocsr()
+    if not G.has_canonical_format:
+        G = G.copy()
+        G.sum_duplicates()
+    n = G.shape[0]
+    rows = np.repeat(np.arange(n), np.diff(G.indptr))
+    cols = G.indices
+    low = rows >= cols
+    if not low.any():
+        return None
+    kd = int((rows[low] - cols[low]).max())
+    if 4 * kd > n:
+        return None
+    ab = np.zeros((kd + 1, n))
+    ab[rows[low] - cols[low], cols[low]] = G.data[low]      # ab[i − j, j] = G[i, j]
+    c, info = sla.lapack.dpbtrf(ab, lower=1, overwrite_ab=1)
+    if info != 0:
+        return None
+
+    def solve(b, c=c):
+        b = np.asarray(b, dtype=np.float64)
+        x, inf = sla.lapack.dpbtrs(c, b.reshape(n, -1), lower=1)
+        return x.reshape(b.shape)
+    return solve
 
 
 @dataclass(frozen=True, eq=False)

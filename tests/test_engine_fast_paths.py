@@ -125,3 +125,60 @@ def test_path_order_cases():
     # a branch (node 1 has three neighbours) and a loop plus a path: no path order
     assert modal._path_order(*_pattern(4, [(0, 1), (1, 2), (1, 3)]), 4) is None
     assert modal._path_order(*_pattern(6, [(0, 1), (1, 2), (2, 0), (4, 5)]), 6) is None
+
+
+def _random_tree(n: int, seed: int, window: int) -> ThermalNetwork:
+    """Random tree whose node k joins one of the ``window`` nodes before it (half
+    bandwidth ≤ window in node order), two boundaries."""
+    rng = np.random.default_rng(seed)
+    net = ThermalNetwork()
+    net.add_boundary("b0", temperature=25.0)
+    net.add_boundary("b1", temperature=70.0)
+    for k in range(n):
+        net.add_node(f"n{k}", capacity=10.0 ** rng.uniform(-6, 0))
+        if k:
+            net.connect(f"n{k}", f"n{int(rng.integers(max(0, k - window), k))}",
+                        conductance=10.0 ** rng.uniform(-1, 1))
+    net.connect(f"n{n - 1}", "b0", conductance=0.3)
+    net.connect(f"n{n // 2}", "b1", conductance=2.0)
+    net.add_input("p", nodes={"n0": 1.0, f"n{n // 3}": 2.0})
+    return net
+
+
+@pytest.mark.parametrize("n, window", [(40, 1), (40, 3), (200, 10), (60, 50), (300, 200)])
+def test_static_field_banded_cholesky_against_dense_solve(n, window):
+    """The static field through the banded Cholesky solve (narrow bands) or the dense and
+    sparse paths (wide) against numpy's dense solve of G T = Gb T_b + B P, 1e-12 of the
+    largest rise."""
+    from pulsetherm.network.assemble import _banded_cholesky, static_field
+
+    sys_ = _random_tree(n, n + window, window).system()
+    G = sys_.G.toarray()
+    kd = max(abs(i - j) for i, j in zip(*np.nonzero(G)))
+    assert (_banded_cholesky(sys_.G) is not None) == (4 * kd <= n)
+    P = np.array([3.0])
+    got = static_field(sys_, P)
+    want = np.linalg.solve(G, sys_.Gb.toarray() @ sys_.T_boundary + sys_.B.toarray() @ P)
+    scale = np.abs(want - sys_.T_boundary.min()).max()
+    np.testing.assert_allclose(got, want, rtol=0, atol=1e-12 * scale)
+
+
+def test_floating_groups_found_by_the_union_find():
+    """Two floating groups (one a chain in scrambled order, one a single node) beside a
+    cooled chain: named in node order, the cooled part has a static field."""
+    from pulsetherm.network.assemble import floating_nodes, static_field
+
+    net = ThermalNetwork()
+    net.add_boundary("sink", temperature=20.0)
+    for name in ["a2", "c0", "a0", "lone", "c1", "a1"]:
+        net.add_node(name, capacity=1e-3)
+    net.connect("a0", "a1", conductance=1.0)
+    net.connect("a2", "a1", conductance=1.0)
+    net.connect("c0", "c1", conductance=1.0)
+    net.connect("c1", "sink", conductance=1.0)
+    sys_ = net.system()
+    assert floating_nodes(sys_) == [["a2", "a0", "a1"], ["lone"]]
+    T = static_field(sys_, floating="nan") - 273.15
+    ok = [sys_.index(v) for v in ("c0", "c1")]
+    np.testing.assert_allclose(T[ok], 20.0, rtol=0, atol=1e-12)
+    assert np.isnan(np.delete(T, ok)).all()
