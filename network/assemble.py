@@ -233,10 +233,17 @@ def _free_roots(system: ThermalSystem) -> np.ndarray:
     n = system.n
     if n > SMALL_N:
         return sp.csgraph.connected_components(system.G, directed=False)[1]
-    parent = list(range(n))
     ei, ej = system.edge_i, system.edge_j
     ff = ej < n
-    for i, j in zip(ei[ff].tolist(), ej[ff].tolist()):
+    ei, ej = ei[ff], ej[ff]
+    # links between consecutive nodes (a chain in its node order) join runs at once: each
+    # node starts pointing to the first node of its run; the other links go one by one
+    cons = ej == ei + 1
+    first = np.ones(n, dtype=bool)
+    first[ei[cons] + 1] = False
+    parent = np.maximum.accumulate(np.where(first, np.arange(n), 0)).tolist()
+    rest = ~cons
+    for i, j in zip(ei[rest].tolist(), ej[rest].tolist()):
         while parent[i] != i:                   # find, halving the path
             parent[i] = i = parent[parent[i]]
         while parent[j] != j:

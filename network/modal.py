@@ -423,11 +423,12 @@ class ModalSolver:
         self.Dp = Dp
         # Zero-power static field; floating parts referred to 0 K (their q is absolute).
         T_ref = static_field(system, floating="nan")
-        Tc = np.nan_to_num(T_ref[cond.cap], nan=0.0)
-        T_ref = np.empty(n)
-        T_ref[cond.cap] = Tc
-        if cond.mass.size:
-            T_ref[cond.mass] = -cond.K @ Tc + cond.Mb @ system.T_boundary
+        if cond.mass.size or n_float:
+            Tc = np.nan_to_num(T_ref[cond.cap], nan=0.0)
+            T_ref = np.empty(n)
+            T_ref[cond.cap] = Tc
+            if cond.mass.size:
+                T_ref[cond.mass] = -cond.K @ Tc + cond.Mb @ system.T_boundary
         self.T_ref = T_ref
         self.n_float = n_float
         self.n_eval = 0
@@ -546,14 +547,14 @@ class ModalSolver:
         return Bk, nblk, hp, lp, sp_, funcs, seg, dec, inc
 
     def _scan(self, q0: np.ndarray, edges: np.ndarray, level: np.ndarray, slope: np.ndarray,
-              Pp: np.ndarray, Dp: np.ndarray, store: bool):
+              Pp: np.ndarray, Dp: np.ndarray, store: bool, need_integral: bool = True):
         """Sweep the segments from ``q0``; exact, vectorised as √N blocks of √N segments.
 
         Returns
         -------
         ends : (N, p) probe rises (Pp q + Dp P, left limits) at every segment end
         q_end : (modes,) state at the last edge
-        integral : (modes,) ∫ q dt over the run
+        integral : (modes,) ∫ q dt over the run (None unless ``need_integral``)
         starts : (modes, N) segment-start states if ``store`` else block starts (modes, nblk)
         """
         N = edges.size - 1
@@ -568,7 +569,7 @@ class ModalSolver:
         q_end = q
         # pass 3: within blocks, all blocks at once
         ends = np.empty((nblk, Bk, Pp.shape[0]))
-        integral = np.zeros(nm)
+        integral = np.zeros(nm) if need_integral else None
         starts = np.empty((nm, N)) if store else Qs
         Q = Qs.copy()
         for j in range(Bk):
@@ -578,7 +579,8 @@ class ModalSolver:
                 starts[:, cols[ok]] = Q[:, ok]
             Wa, Wb = self._forcing(lp[:, j, :], sp_[:, j, :])
             d, p0, p1, p2 = funcs(seg[:, j])
-            integral += np.sum(p0 * Q + p1 * Wa + p2 * Wb, axis=1)
+            if need_integral:
+                integral += np.sum(p0 * Q + p1 * Wa + p2 * Wb, axis=1)
             Q = d * Q + p0 * Wa + p1 * Wb
             pw = lp[:, j, :] + sp_[:, j, :] * hp[:, j][:, None]
             ends[:, j, :] = (Pp @ Q).T + pw @ Dp.T
@@ -615,26 +617,28 @@ class ModalSolver:
     def _fast_tau(self, Pp: np.ndarray) -> float:
         """Fastest time constant with a noticeable share of the probe response."""
         lam = self.lam
-        with np.errstate(divide="ignore", invalid="ignore"):
-            amp = np.abs(Pp).max(axis=0) * np.abs(self.W).max(axis=1) / np.where(lam > 0, lam, np.inf)
+        amp = np.abs(Pp).max(axis=0) * np.abs(self.W).max(axis=1) / np.where(lam > 0, lam, np.inf)
         if not np.any(amp > 0):
             return float(1.0 / lam.max()) if lam.max() > 0 else 1.0
         keep = (amp >= 1e-6 * amp.max()) & (lam > 0)
         return float(1.0 / lam[keep].max()) if keep.any() else 1.0
 
     def _sample(self, q0, edges, level, slope, rows, store_ok: bool = True,
-                refine: bool = True, keep: dict | None = None):
+                refine: bool = True, keep: dict | None = None, need_integral: bool = True):
         """Exact samples at every segment end (plus interior log-spaced points and refined
         extremes of every probe).  Returns t, theta (absolute K), q_end, integral; ``keep``
-        (a dict) receives the segment (or block) start states and whether all are stored."""
+        (a dict) receives the segment (or block) start states and whether all are stored;
+        the integral is None unless ``need_integral``."""
         Pp = self.Phi[rows]
         Dp = self.Dp[rows]
         N = edges.size - 1
         store = store_ok and N * self.lam.size <= STORE_LIMIT
-        ends, q_end, integral, starts = self._scan(q0, edges, level, slope, Pp, Dp, store)
+        ends, q_end, integral, starts = self._scan(q0, edges, level, slope, Pp, Dp, store,
+                                                   need_integral)
         if keep is not None:
             keep.update(starts=starts, store=store)
-        p0 = (Pp @ q0) + Dp @ level[0]
+        direct = bool(np.any(Dp != 0))              # a massless probe: P enters directly
+        p0 = (Pp @ q0) + Dp @ level[0] if direct else Pp @ q0
         t_list = [np.array([0.0]), edges[1:]]
         v_list = [p0[None, :], ends]
         # interior log-spaced points down to the fastest relevant time constant
@@ -654,14 +658,18 @@ class ModalSolver:
             # log-spaced offsets lo .. h (end excluded) or evenly spaced interior points,
             # all segments evaluated in one call
             u = np.arange(INTERIOR_POINTS) / INTERIOR_POINTS
-            with np.errstate(divide="ignore", invalid="ignore"):
-                sg = lo[:, None] * (h / lo)[:, None] ** u[None, :]
             ne = INTERIOR_POINTS // 2
-            sl = h[:, None] * (np.arange(1, ne + 1) / (ne + 1))[None, :]
-            kg = np.repeat(np.flatnonzero(geo), INTERIOR_POINTS)
-            kl = np.repeat(np.flatnonzero(~geo), ne)
-            ks = np.concatenate([kg, kl])
-            ss = np.concatenate([sg[geo].ravel(), sl[~geo].ravel()])
+            if geo.all():                       # the usual case: log-spaced everywhere
+                ks = np.repeat(np.arange(N), INTERIOR_POINTS)
+                ss = (lo[:, None] * (h / lo)[:, None] ** u[None, :]).ravel()
+            else:
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    sg = lo[:, None] * (h / lo)[:, None] ** u[None, :]
+                sl = h[:, None] * (np.arange(1, ne + 1) / (ne + 1))[None, :]
+                kg = np.repeat(np.flatnonzero(geo), INTERIOR_POINTS)
+                kl = np.repeat(np.flatnonzero(~geo), ne)
+                ks = np.concatenate([kg, kl])
+                ss = np.concatenate([sg[geo].ravel(), sl[~geo].ravel()])
             L = int(self.options.get("linear_points", 0))
             if L > 0:
                 # evenly spaced points as well (for plots on a linear time axis)
@@ -669,12 +677,14 @@ class ModalSolver:
                 ss = np.concatenate([ss, (h[:, None] * (np.arange(1, L + 1) / (L + 1))
                                           [None, :]).ravel()])
             if ks.size:
-                q, _, _ = self._seg_states(starts[:, ks], ss, level[ks], slope[ks])
+                q, _, _ = self._seg_states(starts[:, ks], ss, level[ks], slope[ks],
+                                           q_only=True)
                 self.n_eval += ks.size
                 t_list.append(edges[ks] + ss)
-                v_list.append((Pp @ q).T + (level[ks] + ss[:, None] * slope[ks]) @ Dp.T)
+                v_list.append((Pp @ q).T + (level[ks] + ss[:, None] * slope[ks]) @ Dp.T
+                              if direct else (Pp @ q).T)
         # right limits at edges where a massless probe jumps with the power
-        if np.any(Dp != 0):
+        if direct:
             jump = np.flatnonzero(np.any((level[1:] - (level[:-1] + slope[:-1] *
                                                          np.diff(edges)[:-1, None])) != 0, axis=1))
             if jump.size:
@@ -715,10 +725,11 @@ class ModalSolver:
                 + _psi(1, lam, s) * (self.W @ slp))
 
     def _seg_states(self, q0s: np.ndarray, s: np.ndarray, lvl: np.ndarray, slp: np.ndarray,
-                    out: np.ndarray | None = None):
+                    out: np.ndarray | None = None, q_only: bool = False):
         """Modal state and its first two time derivatives inside segments, for many
         (start state, offset) pairs at once: q0s (modes, c), s (c,), lvl/slp (c, m);
-        written into ``out`` (3, modes, c) when given.
+        written into ``out`` (3, modes, c) when given; ``q_only``: the derivatives are
+        not computed (None).
 
         q(s) = e^{−λs} q₀ + ψ₀ Wa + ψ₁ Wb,  q' = −λ q + Wa + Wb s,  q'' = −λ q' + Wb.
 
@@ -727,8 +738,8 @@ class ModalSolver:
         series, a third of the work."""
         lam = self.lam[:, None]
         if out is None:
-            out = np.empty((3,) + q0s.shape)
-        q, dq, cq = out
+            out = np.empty(((1,) if q_only else (3,)) + q0s.shape)
+        q = out[0]
         if not slp.any():
             nx = lam * (-s)[None, :]                       # −λs
             e = np.exp(nx)
@@ -736,6 +747,9 @@ class ModalSolver:
             Wa = self.W @ lvl.T
             np.multiply(e, q0s, out=q)
             q += (g0 * s[None, :]) * Wa
+            if q_only:
+                return q, None, None
+            dq, cq = out[1], out[2]
             np.multiply(-lam, q, out=dq)
             dq += Wa
             np.multiply(-lam, dq, out=cq)
@@ -746,6 +760,9 @@ class ModalSolver:
         np.multiply(e, q0s, out=q)
         q += p0 * Wa
         q += p1 * Wb
+        if q_only:
+            return q, None, None
+        dq, cq = out[1], out[2]
         np.multiply(-lam, q, out=dq)
         dq += Wa
         dq += Wb * s[None, :]
@@ -820,8 +837,8 @@ class ModalSolver:
         # for every λs > 0 (1 at λs = 0), so no series is needed here.
         A = Pj * (-lam * q0s + self.W @ lv.T)
         Bw = Pj * Wb
-        ramps = bool(np.any(Bw != 0))
-        direct = sg * np.sum(Dp[cj] * sl, axis=1)
+        ramps = bool(sl.any()) and bool(np.any(Bw != 0))
+        direct = sg * np.sum(Dp[cj] * sl, axis=1) if Dp.any() else np.zeros(ck.size)
         c2 = Bw.sum(axis=0)
 
         def fp(sel, s):
@@ -868,7 +885,7 @@ class ModalSolver:
             s_star = _bracketed_newton(lambda s, idx: fp(ok[idx], s), a[ok], b[ok], fa[ok],
                                        fb[ok], xtol=xtol)
         k_ok = ck[ok]
-        q, _, _ = self._seg_states(q0s[:, ok], s_star, lv[ok], sl[ok])
+        q, _, _ = self._seg_states(q0s[:, ok], s_star, lv[ok], sl[ok], q_only=True)
         vv = (Pp @ q).T + (lv[ok] + s_star[:, None] * sl[ok]) @ Dp.T
         self.n_eval += ok.size
         return merge_samples(t, v, edges[k_ok] + s_star, vv)
@@ -904,7 +921,7 @@ class ModalSolver:
         """
         edges, level, slope, rows = as_arrays(edges, level, slope, probes)
         q0 = self.periodic_start(edges, level, slope)
-        t, theta, q_end, _ = self._sample(q0, edges, level, slope, rows)
+        t, theta, q_end, _ = self._sample(q0, edges, level, slope, rows, need_integral=False)
         Pbar = self._mean_power(edges, level, slope)
         # Exact period mean: averaging C dT/dt + G T = Gb T_b + B P over a period (the
         # state returns to its start) gives G T̄ = Gb T_b + B P̄, i.e. the modal integral
@@ -1202,5 +1219,5 @@ class ModalSolver:
         if k == 0:
             return q
         _, q_k, _, _ = self._scan(q, edges[:k + 1], level[:k], slope[:k],
-                                  self.Phi[:1], self.Dp[:1], False)
+                                  self.Phi[:1], self.Dp[:1], False, False)
         return q_k

@@ -182,3 +182,32 @@ def test_floating_groups_found_by_the_union_find():
     ok = [sys_.index(v) for v in ("c0", "c1")]
     np.testing.assert_allclose(T[ok], 20.0, rtol=0, atol=1e-12)
     assert np.isnan(np.delete(T, ok)).all()
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_union_find_groups_against_csgraph(seed):
+    """The union-find labels (runs of consecutive nodes joined at once, the other links one
+    by one) give the groups of scipy's connected_components on random sparse graphs."""
+    from scipy.sparse.csgraph import connected_components
+
+    from pulsetherm.network.assemble import _free_roots
+
+    rng = np.random.default_rng(seed)
+    n = int(rng.integers(5, 60))
+    net = ThermalNetwork()
+    net.add_boundary("sink", temperature=25.0)
+    for k in range(n):
+        net.add_node(f"n{k}", capacity=1e-3)
+    pairs = {tuple(sorted(rng.choice(n, 2, replace=False).tolist()))
+             for _ in range(int(rng.integers(0, n)))}
+    pairs |= {(k, k + 1) for k in range(n - 1) if rng.random() < 0.5}
+    for a, b in sorted(pairs):
+        net.connect(f"n{a}", f"n{b}", conductance=1.0)
+    net.connect("n0", "sink", conductance=1.0)
+    sys_ = net.system()
+    roots = _free_roots(sys_)
+    _, lab = connected_components(sys_.G, directed=False)
+    # the same partition: a label is the smallest node of its group
+    for g in np.unique(lab):
+        members = np.flatnonzero(lab == g)
+        assert np.all(roots[members] == members.min())
