@@ -64,6 +64,8 @@ from __future__ import annotations
 
 import functools
 import math
+import threading
+from collections import OrderedDict
 from dataclasses import dataclass, field
 from functools import cached_property
 from typing import Any, Callable, Mapping, Sequence
@@ -1101,17 +1103,12 @@ class _Profile:
         under it (where it does)."""
         key = (j, m)
         if key not in self._cross_tab:
-            run, nxt, cut = self.runs[j], self.runs[j + 1], self.runs[m]
-            faces = np.concatenate([[0.0], np.cumsum(cut.ts)])
-            zq = np.unique(np.concatenate(
-                [faces, 0.5 * (faces[:-1] + faces[1:])]))
+            run, nxt = self.runs[j], self.runs[j + 1]
+            zq, start, stacks = _table_stacks(self.runs, j, m, self.ks, self.ts)
             vals = np.zeros(zq.size)
             if nxt.b > run.b * (1 + 1e-9):
-                qs = range(0 if m > j + 1 else 1, zq.size)
-                stacks = [_truncate(self.ks[run.first:], self.ts[run.first:],
-                                    cut.z0 + zq[q] - run.z0) for q in qs]
-                vals[qs.start:] = _cross_terms(run.a, run.b, nxt.b, stacks,
-                                               run.last + 1 - run.first, math.inf)
+                vals[start:] = _cross_terms(run.a, run.b, nxt.b, stacks,
+                                            run.last + 1 - run.first, math.inf)
             self._cross_tab[key] = (zq, vals)
         zq, vals = self._cross_tab[key]
         zc = np.clip(z, zq[0], zq[-1])
@@ -1255,22 +1252,67 @@ def _element_plates(segs: list[_Seg]) -> list[tuple[float, float]] | None:
 
 
 def _phi_stacks(zeta: np.ndarray, stacks: Sequence[tuple[np.ndarray, np.ndarray]],
-                h: float) -> np.ndarray:
-    """:func:`pulsetherm.network.spreading.layer_phi` of several stacks (top first), shape
-    (len(stacks), ζ.size).  Stacks with the same layers that differ only in the thickness
-    of their last one (a column cut at several depths in one layer) run the recursion
-    together, each row seeing exactly the operations of its own stack."""
+                h: float | Sequence[float]) -> np.ndarray:
+    """:func:`pulsetherm.network.spreading.layer_phi` of several stacks (top first) over
+    the film ``h`` (one for all, or one per stack), shape (len(stacks), ζ.size), each row
+    seeing exactly the operations of its own stack.
+
+    Stacks that are one column cut at several depths (each the layers of the longest down
+    to its last one, that one thinner or as thick) run the recursion together, bottom up
+    through the longest stack's layers: a row starts at its own last layer and follows the
+    shared layers above it (:func:`_phi_cut_stacks`).  Other stacks run it in groups of the
+    same layers and film that differ only in the thickness of their last layer."""
     from .spreading import _phi_up
 
+    hs = [h] * len(stacks) if np.ndim(h) == 0 else list(h)
+    if len(stacks) > 1:
+        out = _phi_cut_stacks(zeta, stacks, hs)
+        if out is not None:
+            return out
     out = np.empty((len(stacks), zeta.size))
     groups: dict = {}
     for q, (ks, ts) in enumerate(stacks):
-        groups.setdefault((ks.tobytes(), ts[:-1].tobytes()), []).append(q)
-    for rows in groups.values():
+        groups.setdefault((ks.tobytes(), ts[:-1].tobytes(), hs[q]), []).append(q)
+    for (_, _, hq), rows in groups.items():
         ks, ts = stacks[rows[0]]
         t_last = np.array([stacks[q][1][-1] for q in rows])
-        out[rows] = _phi_up(np.tanh(zeta[None, :] * t_last[:, None]), zeta, ks, ts, h)
+        out[rows] = _phi_up(np.tanh(zeta[None, :] * t_last[:, None]), zeta, ks, ts, hq)
     return out
+
+
+def _phi_cut_stacks(zeta: np.ndarray, stacks: Sequence[tuple[np.ndarray, np.ndarray]],
+                    hs: Sequence[float]) -> np.ndarray | None:
+    """The recursion of :func:`_phi_stacks` for stacks that are one column cut at several
+    depths, or ``None`` when they are not.  Row q starts at its last layer j_q,
+    φ = tanh(ζt) (over a film h: [tanh(ζt) + kζ/h]/[1 + (kζ/h)·tanh(ζt)]), and takes
+    φ ← [T_i + (k_i/k_{i+1})φ]/[1 + (k_i/k_{i+1})φ·T_i] for each layer i above it: the
+    operations of :func:`pulsetherm.network.spreading._phi_up` on its own stack."""
+    sp_k, sp_t = max(stacks, key=lambda st: st[0].size)
+    n = sp_k.size
+    kb, tb = sp_k.tobytes(), sp_t.tobytes()
+    last = np.empty(len(stacks), dtype=int)
+    for q, (ks, ts) in enumerate(stacks):
+        m = ks.size
+        if ks.tobytes() != kb[:8 * m] or ts[:-1].tobytes() != tb[:8 * (m - 1)]:
+            return None
+        last[q] = m - 1
+    t_last = np.array([ts[-1] for _, ts in stacks])
+    start = np.tanh(zeta[None, :] * t_last[:, None])
+    for q, hq in enumerate(hs):
+        if not math.isinf(hq):
+            x = sp_k[last[q]] * zeta / hq
+            start[q] = (start[q] + x) / (1.0 + x * start[q])
+    p = np.zeros((len(stacks), zeta.size))
+    for i in range(n - 1, -1, -1):
+        if i < n - 1 and last.max() > i:
+            th = np.tanh(zeta * sp_t[i])
+            r = (sp_k[i] / sp_k[i + 1]) * p
+            r = (th + r) / (1.0 + r * th)
+            np.copyto(p, r, where=(last > i)[:, None])
+        here = last == i
+        if here.any():
+            np.copyto(p, start, where=here[:, None])
+    return p
 
 
 def _admittance_up(zeta: np.ndarray, ks: Sequence[float],
@@ -1332,17 +1374,19 @@ def _cross_term(a: float, b: float, b2: float, ks: Sequence[float], ts: Sequence
 
 def _cross_terms(a: float, b: float, b2: float,
                  stacks: Sequence[tuple[Sequence[float], Sequence[float]]], n_run: int,
-                 h: float, n_up: int | None = None) -> np.ndarray:
+                 h: float | Sequence[float], n_up: int | None = None) -> np.ndarray:
     """:func:`_cross_term_uncached` for several stacks ``(ks, ts)`` that share the run (their
     first ``n_run`` layers) and differ below it (the column cut at several depths), cached
     as a pure function of its numbers: sweeps that vary power, timing or the sink rebuild
-    the same columns, and this series is the costly part of a calibrated build.  Returns a
-    fresh array, one value per stack."""
+    the same columns, and this series is the costly part of a calibrated build.  ``h``: the
+    film under every stack, or one per stack.  Returns a fresh array, one value per
+    stack."""
     if n_up is None:
         n_up = _COUPLED_MODES
     key = tuple((tuple(map(float, k)), tuple(map(float, t))) for k, t in stacks)
+    hk = float(h) if np.ndim(h) == 0 else tuple(map(float, h))
     return np.array(_cross_terms_cached(float(a), float(b), float(b2), key, int(n_run),
-                                        float(h), int(n_up)))
+                                        hk, int(n_up)))
 
 
 @functools.lru_cache(maxsize=1024)
@@ -1360,10 +1404,11 @@ def _cross_term_uncached(a: float, b: float, b2: float, ks: Sequence[float],
 
 def _cross_terms_uncached(a: float, b: float, b2: float,
                           stacks: Sequence[tuple[Sequence[float], Sequence[float]]],
-                          n_run: int, h: float, n_up: int = _COUPLED_MODES) -> list[float]:
+                          n_run: int, h: float | Sequence[float],
+                          n_up: int = _COUPLED_MODES) -> list[float]:
     """Coupling of a narrow run (radius ``b``, its ``n_run`` layers at the head of ``ks``,
     ``ts``) and the wider region below it (radius ``b2``, the remaining layers over the
-    film ``h``): the exact mean source rise minus the modal split of :func:`depth_profile`,
+    film ``h``, one for all stacks or one per stack): the exact mean source rise minus the modal split of :func:`depth_profile`,
     K/W (negative when the run carries heat to its rim, where the wider layers take it
     up: a flange on a board); one value for each stack ``(ks, ts)`` of ``stacks``, which
     must share their first ``n_run`` layers (the parts of the run alone are computed
@@ -1415,19 +1460,21 @@ def _cross_terms_uncached(a: float, b: float, b2: float,
     r_run = np.sum(tr / kr) * A0
     stacks = [(np.asarray(ks, dtype=float), np.asarray(ts, dtype=float))
               for ks, ts in stacks]
+    hs = [float(h)] * len(stacks) if np.ndim(h) == 0 else [float(x) for x in h]
     live = [q for q, (ks, _) in enumerate(stacks) if ks.size > n_run]
     out = [0.0] * len(stacks)   # nothing below the run: no coupling
     if not live:
         return out
     st = [stacks[q] for q in live]
-    G = np.array([_below_g(b, b2, n_up, tuple(ks[n_run:].tolist()),
-                           tuple(ts[n_run:].tolist()), h) for ks, ts in st])
+    hl = [hs[q] for q in live]
+    G = np.array(_below_gs(b, b2, n_up, [(tuple(ks[n_run:].tolist()), tuple(ts[n_run:].tolist()),
+                                          hq) for (ks, ts), hq in zip(st, hl)]))
     c = np.linalg.solve(G[:, 1:, 1:] + np.diag(D),
                         (D * T * A - G[:, 1:, 0] * A0)[:, :, None])[:, :, 0]
     theta = (G[:, 1:, 0] * A0 + np.einsum("qnm,qm->qn", G[:, 1:, 1:], c)) * inv_n
     r_coupled = ((G[:, 0, 0] * A0 + np.einsum("qm,qm->q", G[:, 0, 1:], c)) / (0.5 * b * b)
                  + r_run + np.sum((T * theta + Zu * A) * s, axis=1))
-    phi_all = _phi_stacks(d, st, h) / (st[0][0][0] * d)
+    phi_all = _phi_stacks(d, st, hl) / (st[0][0][0] * d)
     r_split = G[:, 0, 0] * A0 / (0.5 * b * b) + r_run + np.sum(A * s * phi_all, axis=1)
     for q, x in zip(live, r_coupled - r_split):
         out[q] = float(x)
@@ -1456,14 +1503,12 @@ def _run_alone(b: float, n_up: int, kr: tuple[float, ...], tr: tuple[float, ...]
     return T, Zu, D
 
 
-@functools.lru_cache(maxsize=512)
 def _below_g(b: float, b2: float, n_up: int, kl: tuple[float, ...], tl: tuple[float, ...],
              h: float) -> np.ndarray:
     """The region below a run as the run's modes see it: G_nm = Σ_k Z'_k I_kn I_km / N'_k
     plus Z'_0 = Σt/k + 1/h on the uniform mode (:func:`_cross_terms_uncached`), for the
-    layers ``kl``, ``tl`` (top first) over the film ``h``.  A pure function of the lower
-    layers and the two radii, cached (read-only array): a sweep of the run's own layers
-    (a flange thickness) keeps the board under it.
+    layers ``kl``, ``tl`` (top first) over the film ``h``: one stack, computed alone (the
+    build asks :func:`_below_gs`, which caches and batches; this is its reference).
 
     The wide modes that the first layer below saturates (tanh(δ'_k t_1) = 1 to the last
     bit: φ' = 1 whatever lies under it) are the last ones; their part depends on k_1 and
@@ -1471,7 +1516,11 @@ def _below_g(b: float, b2: float, n_up: int, kl: tuple[float, ...], tl: tuple[fl
     from .spreading import _phi
     d, d2, j0lam, inv_n, I, inv_k = _cross_kernel(b, b2, n_up)
     kl_a, tl_a = np.array(kl), np.array(tl)
-    phi = _phi(d2, kl_a, tl_a, h)
+    # a wide mode with tanh(δ'_k t_1) = 1 to the last bit has φ' = (1 + r)/(1 + r) = 1
+    # exactly, whatever lies below: the recursion runs over the modes up to the last one
+    # the first layer leaves unsaturated only (under a flange a few tens of the K)
+    unsat = np.flatnonzero(np.tanh(d2 * tl_a[0]) != 1.0)
+    phi = _phi(d2[:int(unsat[-1]) + 1 if unsat.size else 0], kl_a, tl_a, h)
     own = np.flatnonzero(phi != 1.0)
     ks_ = int(own[-1]) + 1 if own.size else 0
     w = phi[:ks_] / (kl_a[0] * d2[:ks_]) * inv_k[:ks_]
@@ -1480,6 +1529,74 @@ def _below_g(b: float, b2: float, n_up: int, kl: tuple[float, ...], tl: tuple[fl
     G[0, 0] += z0 * (0.5 * b * b) ** 2 / (0.5 * b2 * b2)
     G.flags.writeable = False
     return G
+
+
+#: :func:`_below_gs` cache: (b, b2, n_up, kl, tl, h) -> G (read-only), least recently used
+#: dropped past _BELOW_MAX entries (a board's cuts are ~10 entries of 9 kB)
+_BELOW_CACHE: OrderedDict = OrderedDict()
+_BELOW_MAX = 512
+_BELOW_LOCK = threading.Lock()
+
+
+def _below_gs(b: float, b2: float, n_up: int,
+              lowers: Sequence[tuple[tuple[float, ...], tuple[float, ...], float]]
+              ) -> list[np.ndarray]:
+    """:func:`_below_g` of several lower stacks ``(kl, tl, h)``, each a pure function of
+    its numbers and the two radii, cached one by one (read-only arrays): a sweep of the
+    run's own layers (a flange thickness) keeps the board under it.  The stacks not in the
+    cache are summed together (:func:`_below_g_batch`)."""
+    out: list = [None] * len(lowers)
+    miss: dict = {}
+    with _BELOW_LOCK:
+        for q, (kl, tl, h) in enumerate(lowers):
+            key = (b, b2, n_up, kl, tl, h)
+            G = _BELOW_CACHE.get(key)
+            if G is None:
+                miss.setdefault(key, []).append(q)
+            else:
+                _BELOW_CACHE.move_to_end(key)
+                out[q] = G
+    if miss:
+        keys = list(miss)
+        found = _below_g_batch(b, b2, n_up, [k[3:] for k in keys])
+        with _BELOW_LOCK:
+            for key, G in zip(keys, found):
+                _BELOW_CACHE[key] = G
+                for q in miss[key]:
+                    out[q] = G
+            while len(_BELOW_CACHE) > _BELOW_MAX:
+                _BELOW_CACHE.popitem(last=False)
+    return out
+
+
+def _below_g_batch(b: float, b2: float, n_up: int,
+                   lowers: Sequence[tuple[tuple[float, ...], tuple[float, ...], float]]
+                   ) -> list[np.ndarray]:
+    """:func:`_below_g` of several stacks at once (the same sums; a mode past the last one
+    a stack's first layer leaves unsaturated has φ' = 1 exactly, so the stacks share the
+    recursion over the modes before the last of them (:func:`_phi_stacks`); each stack's
+    own modes and saturated rest are then summed as :func:`_below_g` sums them, to the
+    last bit)."""
+    d, d2, j0lam, inv_n, I, inv_k = _cross_kernel(b, b2, n_up)
+    nk = d2.size
+    stacks = [(np.array(kl), np.array(tl)) for kl, tl, _ in lowers]
+    t1 = np.array([tl[0] for _, tl, _ in lowers])
+    unsat = np.tanh(d2[None, :] * t1[:, None]) != 1.0
+    last = np.where(unsat.any(axis=1), nk - np.argmax(unsat[:, ::-1], axis=1), 0)
+    m = int(last.max())
+    phi = _phi_stacks(d2[:m], stacks, [h for _, _, h in lowers])
+    own = phi != 1.0
+    ks_ = np.where(own.any(axis=1), m - np.argmax(own[:, ::-1], axis=1), 0).tolist()
+    out = []
+    for q, (kl, tl, h) in enumerate(lowers):
+        k = ks_[q]
+        w = phi[q, :k] / (kl[0] * d2[:k]) * inv_k[:k]
+        G = _below_g_saturated(b, b2, n_up, kl[0], k) + I[:k].T @ (I[:k] * w[:, None])
+        z0 = float(np.sum(stacks[q][1] / stacks[q][0])) + (0.0 if math.isinf(h) else 1.0 / h)
+        G[0, 0] += z0 * (0.5 * b * b) ** 2 / (0.5 * b2 * b2)
+        G.flags.writeable = False
+        out.append(G)
+    return out
 
 
 @functools.lru_cache(maxsize=64)
@@ -1614,14 +1731,29 @@ def depth_profile(segs: list[_Seg], footprint: tuple[float, float], sink,
         runs.append(_Run(j, e, a, b, P, ks[j:e + 1], ts[j:e + 1], top[j]))
         j = e + 1
         if j < len(segs):
-            Pn = plates[j]
-            b2 = math.sqrt(Pn[0] * Pn[1] / math.pi)
-            if b2 > b * (1 + 1e-9):
-                h_sink = _sink_h(sink, plates[-1][0] * plates[-1][1])
-                runs[-1].cross = _cross_term(a, b, b2, ks[runs[-1].first:],
-                                             ts[runs[-1].first:], e + 1 - runs[-1].first,
-                                             h_sink)
             a_in = b
+    # coupling of each run with the wider run below: the chain's term (the column over the
+    # sink) and the tables of :meth:`_Profile._cross` (the column cut inside every run
+    # below) in one batch per run (one run-alone two-port, one stacked solve)
+    cross_tab: dict = {}
+    for jr in range(len(runs) - 1):
+        run, nxt = runs[jr], runs[jr + 1]
+        if not nxt.b > run.b * (1 + 1e-9):
+            continue
+        stacks = [(ks[run.first:], ts[run.first:])]
+        hs = [_sink_h(sink, plates[-1][0] * plates[-1][1])]
+        spans = []
+        for m in range(jr + 1, len(runs)):
+            zq, start, st = _table_stacks(runs, jr, m, ks, ts)
+            spans.append((m, zq, start, len(stacks), len(stacks) + len(st)))
+            stacks += st
+            hs += [math.inf] * len(st)
+        vals = _cross_terms(run.a, run.b, nxt.b, stacks, run.last + 1 - run.first, hs)
+        run.cross = float(vals[0])
+        for m, zq, start, lo, hi in spans:
+            v = np.zeros(zq.size)
+            v[start:] = vals[lo:hi]
+            cross_tab[(jr, m)] = (zq, v)
     # exact chain, bottom up
     r_below = None
     totals: list[float] = [0.0] * len(runs)
@@ -1659,7 +1791,8 @@ def depth_profile(segs: list[_Seg], footprint: tuple[float, float], sink,
         r_below = tot
     for run in runs:
         run.r_1d = sum(t / k for k, t in zip(run.ks, run.ts)) / (math.pi * run.b * run.b)
-    prof = _Profile(runs[0].a, runs[0].b, ks, ts, top, runs[-1].plate, totals[0], 0.0, runs)
+    prof = _Profile(runs[0].a, runs[0].b, ks, ts, top, runs[-1].plate, totals[0], 0.0, runs,
+                    cross_tab)
     sets = [(np.array([sum(ts)]), False)] + (points(prof) if points is not None else [])
     readings = prof.read(sets)
     prof.r_stack = float(readings[0][0][0])
@@ -1681,6 +1814,21 @@ def _truncate(ks: Sequence[float], ts: Sequence[float], depth: float
         out_t.append(t)
         z += t
     return out_k, out_t
+
+
+def _table_stacks(runs: list[_Run], j: int, m: int, ks: list[float], ts: list[float]
+                  ) -> tuple[np.ndarray, int, list[tuple[list[float], list[float]]]]:
+    """Where :meth:`_Profile._cross` tabulates the coupling term of run j for cuts inside
+    run m (every layer face of run m and the middle of each layer, local depths ``zq``),
+    and the stacks (run j and everything below it down to each cut) for ``zq[start:]``
+    (the top of the run right below run j has nothing under it: its term is 0)."""
+    run, cut = runs[j], runs[m]
+    faces = np.concatenate([[0.0], np.cumsum(cut.ts)])
+    zq = np.unique(np.concatenate([faces, 0.5 * (faces[:-1] + faces[1:])]))
+    start = 0 if m > j + 1 else 1
+    stacks = [_truncate(ks[run.first:], ts[run.first:], cut.z0 + zq[q] - run.z0)
+              for q in range(start, zq.size)]
+    return zq, start, stacks
 
 
 def _equivalent_angle(r_layer: float, t: float, w: float, l: float, seg: _Seg) -> float:

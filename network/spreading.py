@@ -523,10 +523,10 @@ def circular_series(a: float, b: float, k, t, h: float, *,
                            abs(c2 - c1) / abs(cen) / (2.0 ** 1.5 - 1.0))
 
 
-def _compose_down(zeta: np.ndarray, ks: np.ndarray, ts: np.ndarray, upto: Sequence[int]
-                  ) -> dict[int, tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]]:
+def _compose_down(zeta: np.ndarray, ks: np.ndarray, ts: np.ndarray
+                  ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """The upward recursion of :func:`layer_phi` through the layers above a cut in layer j,
-    composed into one linear fractional map per mode ζ, for every j of ``upto``.
+    composed into one linear fractional map per mode ζ, for every layer j.
 
     Layer i maps the φ below it to φ_i = (c_i·φ + T_i)/(c_i·T_i·φ + 1),
     c_i = k_i/k_{i+1}, T_i = tanh(ζt_i): the matrix [[c_i, T_i], [c_i·T_i, 1]] acting on
@@ -535,25 +535,25 @@ def _compose_down(zeta: np.ndarray, ks: np.ndarray, ts: np.ndarray, upto: Sequen
     det M = Π c_i(1 − T_i²) (a linear fractional map composes by matrix products; common
     practice, no source).  The products are built from the top, one layer more for each
     j, and rescaled to δ = 1 after each layer (the map is unchanged, det M by the square
-    of the scale), so they stay finite for any number of layers.  Returns
-    j -> (α, β, γ, det M) with δ = 1 (arrays like ζ); j = 0 is the identity."""
-    al, be = np.ones_like(zeta), np.zeros_like(zeta)
-    ga, det = np.zeros_like(zeta), np.ones_like(zeta)
-    out = {}
-    last = max(upto, default=0)
-    for jj in range(last + 1):
-        if jj in upto:
-            out[jj] = (al, be, ga, det)
-        if jj == last:
-            break
+    of the scale), so they stay finite for any number of layers.  Returns α, β, γ and
+    det M with δ = 1, each of shape (len(ks), ζ.size), row j for a cut in layer j (row 0
+    the identity)."""
+    n = ks.size
+    al = np.empty((n, zeta.size))
+    be = np.empty((n, zeta.size))
+    ga = np.empty((n, zeta.size))
+    det = np.empty((n, zeta.size))
+    al[0], be[0], ga[0], det[0] = 1.0, 0.0, 0.0, 1.0
+    for jj in range(n - 1):
         c = ks[jj] / ks[jj + 1]
         th = np.tanh(zeta * ts[jj])
-        ct = c * th
         # [[α, β], [γ, 1]]·[[c, T], [cT, 1]], then divided by its new δ = γT + 1
-        s = 1.0 / (ga * th + 1.0)
-        al, be, ga = (al + be * th) * c * s, (al * th + be) * s, (ga + th) * c * s
-        det = det * (c * (1.0 - th * th)) * s * s
-    return out
+        s = 1.0 / (ga[jj] * th + 1.0)
+        al[jj + 1] = (al[jj] + be[jj] * th) * c * s
+        be[jj + 1] = (al[jj] * th + be[jj]) * s
+        ga[jj + 1] = (ga[jj] + th) * c * s
+        det[jj + 1] = det[jj] * (c * (1.0 - th * th)) * s * s
+    return al, be, ga, det
 
 
 def circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = None,
@@ -625,80 +625,136 @@ def _circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = 
     R, dRdz
         Arrays of the shape of ``z``: K/W and K/(W·m).
     """
-    a, b, ks, ts = _disk(a, b, k, t)
+    a, b, ks, ts = _disk_fast(a, b, k, t)
     z = np.asarray(z, dtype=float)
-    zb = np.concatenate([[0.0], np.cumsum(ts)])
-    if z.size and not (np.all(np.isfinite(z)) and z.min() > 0
-                       and z.max() <= zb[-1] * (1 + 1e-12)):
+    zf = z.ravel()
+    setup = _depth_modes(a, b, tuple(ks.tolist()), tuple(ts.tolist()), terms)
+    zb = setup.zb
+    if zf.size and not (np.all(np.isfinite(zf)) and zf.min() > 0
+                        and zf.max() <= zb[-1] * (1 + 1e-12)):
         raise SpreadingError(f"z = {z!r}: expected depths in (0, {zb[-1]:g}] m")
-    zf = np.minimum(z.ravel(), zb[-1])
+    zf = np.minimum(zf, zb[-1])
     j_of = np.minimum(np.searchsorted(zb, zf, side="right") - 1, ks.size - 1)
-    R = np.empty(zf.size)
-    dR = np.empty(zf.size)
-    cum = np.concatenate([[0.0], np.cumsum(ts / ks)])
+    x = zf - zb[j_of]
     area = math.pi * b * b
-    one_d = (cum[j_of] + (zf - zb[j_of]) / ks[j_of]) / area
+    one_d = (setup.cum[j_of] + x / ks[j_of]) / area
     one_d_slope = 1.0 / (ks[j_of] * area)
     if a == b:
         return one_d.reshape(z.shape), one_d_slope.reshape(z.shape)
-    n = terms if terms is not None else int(max(512, math.ceil(32.0 * b / a)))
-    n = min(n, _MAX_BESSEL_TERMS)
-    d, w = _avg_weights(a, b, n)
-    fac, zq = _tail_factor(a, b, n)
-    dd = np.concatenate([d, zq])
-    ww = np.concatenate([w, fac * _TAIL_W])
+    R = np.empty(zf.size)
+    dR = np.empty(zf.size)
+    dd, ww = setup.dd, setup.ww
     so = (np.zeros(zf.size, bool) if slope_only is None
           else np.broadcast_to(np.asarray(slope_only, dtype=bool), z.shape).ravel())
-    order = np.argsort(dd, kind="stable")   # modes by wavenumber (the tail is descending)
-    dd, ww = dd[order], ww[order]
-    cuts = np.unique(j_of).tolist()
-    maps = _compose_down(dd, ks, ts, cuts)
-    for j in cuts:
+    # a mode with δ·(z − z_j) ≥ _TANH_ONE has tanh = 1 exactly and dφ_j/dz = 0: only the
+    # first `live` modes are evaluated at each depth, and none past `cap` of its layer (a
+    # layer above the cut saturates them: φ_1 is their saturated value); the depths of a
+    # layer are grouped by that count rounded up to a power of two (at least 64)
+    lim = np.full(x.shape, np.inf)
+    np.divide(_TANH_ONE, x, out=lim, where=x > 0)
+    live = np.maximum(np.searchsorted(dd, lim, side="left"), 64)
+    group = np.minimum(np.left_shift(1, np.ceil(np.log2(live)).astype(int)),
+                       setup.cap[j_of])
+    for j in np.unique(j_of).tolist():
         idx = np.flatnonzero(j_of == j)
-        # the layers above the cut as one map per mode: φ_1 = (α·φ_j + β)/(γ·φ_j + 1),
-        # dφ_1/dz = det·δ(1 − φ_j²)/(γ·φ_j + 1)²
-        al, be, ga, det = maps[j]
-        ddet = dd * det
-        p_sat = (al + be) / (ga + 1.0)         # every mode with tanh(δ(z − z_j)) = 1
-        x = zf[idx] - zb[j]
-        # a mode with δ·(z − z_j) ≥ _TANH_ONE has tanh = 1 exactly and dφ_j/dz = 0: only
-        # the first `live` modes are evaluated at each depth; depths are grouped by their
-        # number of live modes rounded up to a power of two (at least 64)
-        lim = np.full(x.shape, np.inf)
-        np.divide(_TANH_ONE, x, out=lim, where=x > 0)
-        live = np.maximum(np.searchsorted(dd, lim, side="left"), 1)
-        # a mode that a layer above the cut saturates (tanh(δt_i) = 1, det = 0) does
-        # not see the cut at all: φ_1 is its saturated value at every depth of layer j
-        nz = np.flatnonzero(det)
-        cap = max(int(nz[-1]) + 1 if nz.size else 1, 1)
-        group = np.minimum(2 ** np.ceil(np.log2(np.maximum(live, 64))).astype(int), cap)
-        for g in np.unique(group).tolist():
-            sel_g = idx[group == g]
-            # the modes past g are constant at these depths: φ_1 = p_sat, dφ_1/dz = 0
-            rest = float(p_sat[g:] @ ww[g:])
+        grp = group[idx]
+        al_j, be_j, ga_j, ddet_j = setup.al[j], setup.be[j], setup.ga[j], setup.ddet[j]
+        gs = np.unique(grp).tolist()
+        for g in gs:
+            sel_g = idx if len(gs) == 1 else idx[grp == g]
+            al, be, ga, ddet = al_j[:g], be_j[:g], ga_j[:g], ddet_j[:g]
+            rest = setup.rest(j, g)   # the modes past g, constant at these depths
             rows = max(1, _CACHE_BLOCK // g)
             for s in range(0, sel_g.size, rows):
                 sel = sel_g[s:s + rows]
-                pj = np.multiply(dd[:g], (zf[sel] - zb[j])[:, None])
+                pj = np.multiply(dd[:g], x[sel][:, None])
                 np.tanh(pj, out=pj)
-                inv = np.multiply(ga[:g], pj)
+                inv = np.multiply(ga, pj)
                 inv += 1.0
                 np.reciprocal(inv, out=inv)
                 value = ~so[sel]
                 if value.all():
-                    R[sel] = ((al[:g] * pj + be[:g]) * inv @ ww[:g] + rest) / ks[0]
+                    R[sel] = ((al * pj + be) * inv @ ww[:g] + rest) / ks[0]
                 else:
                     R[sel] = np.nan
                     if value.any():
-                        R[sel[value]] = ((al[:g] * pj[value] + be[:g]) * inv[value] @ ww[:g]
+                        R[sel[value]] = ((al * pj[value] + be) * inv[value] @ ww[:g]
                                          + rest) / ks[0]
                 dp = np.multiply(pj, pj, out=pj)
                 np.subtract(1.0, dp, out=dp)
-                dp *= ddet[:g]
+                dp *= ddet
                 inv *= inv
                 dp *= inv
                 dR[sel] = dp @ ww[:g] / ks[0]
     return (R + one_d).reshape(z.shape), (dR + one_d_slope).reshape(z.shape)
+
+
+def _disk_fast(a, b, k, t) -> tuple[float, float, np.ndarray, np.ndarray]:
+    """:func:`_disk` without its per-number checks when every number is a finite float
+    > 0 (the build's own calls); anything else goes through :func:`_disk` and its
+    messages."""
+    try:
+        ks = np.array(k, dtype=float, ndmin=1)
+        ts = np.array(t, dtype=float, ndmin=1)
+        af, bf = float(a), float(b)
+    except (TypeError, ValueError):
+        return _disk(a, b, k, t)
+    if (ks.ndim == 1 and ks.shape == ts.shape and ks.size and 0 < af <= bf < math.inf
+            and np.all(np.isfinite(ks)) and np.all(np.isfinite(ts)) and ks.min() > 0
+            and ts.min() > 0):
+        return af, bf, ks, ts
+    return _disk(a, b, k, t)
+
+
+class _DepthModes:
+    """The parts of :func:`_circular_depth_profile` that depend on the disk, its layers
+    and the term count only (not on the depths): the modes by wavenumber and their
+    weights, the layer faces, and for a cut in each layer j the map of the layers above
+    it (:func:`_compose_down`: α, β, γ, δ·det M), its saturated value p_sat = (α + β)/(γ + 1)
+    and ``cap[j]``, the modes past which det M = 0 (a layer above saturates them).
+    Read-only."""
+
+    def __init__(self, a: float, b: float, ks: np.ndarray, ts: np.ndarray,
+                 terms: int | None) -> None:
+        self.zb = np.concatenate([[0.0], np.cumsum(ts)])
+        self.cum = np.concatenate([[0.0], np.cumsum(ts / ks)])
+        if a == b:
+            return
+        n = terms if terms is not None else int(max(512, math.ceil(32.0 * b / a)))
+        n = min(n, _MAX_BESSEL_TERMS)
+        d, w = _avg_weights(a, b, n)
+        fac, zq = _tail_factor(a, b, n)
+        dd = np.concatenate([d, zq])
+        ww = np.concatenate([w, fac * _TAIL_W])
+        order = np.argsort(dd, kind="stable")   # modes by wavenumber (the tail descends)
+        self.dd, self.ww = dd[order], ww[order]
+        self.al, self.be, self.ga, det = _compose_down(self.dd, ks, ts)
+        self.ddet = self.dd * det
+        self.p_sat = (self.al + self.be) / (self.ga + 1.0)
+        nz = det != 0.0
+        m = self.dd.size
+        self.cap = np.maximum(np.where(nz.any(axis=1), m - np.argmax(nz[:, ::-1], axis=1), 1),
+                              1)
+        self._rest: dict = {}
+        for x in (self.zb, self.cum, self.dd, self.ww, self.al, self.be, self.ga, self.ddet,
+                  self.p_sat, self.cap):
+            x.flags.writeable = False
+
+    def rest(self, j: int, g: int) -> float:
+        """Σ_{m ≥ g} p_sat,m·w_m for a cut in layer j: the modes past g, constant there."""
+        key = (j, g)
+        r = self._rest.get(key)
+        if r is None:
+            r = self._rest[key] = float(self.p_sat[j, g:] @ self.ww[g:])
+        return r
+
+
+@functools.lru_cache(maxsize=16)    # an entry ~40 kB a layer
+def _depth_modes(a: float, b: float, ks: tuple[float, ...], ts: tuple[float, ...],
+                 terms: int | None) -> _DepthModes:
+    """:class:`_DepthModes` of a disk and its layers, cached (the build reads one stack
+    at several sets of depths, and a sweep of another layer keeps a run's own)."""
+    return _DepthModes(a, b, np.array(ks), np.array(ts), terms)
 
 
 # -- exact series: rectangle on a rectangular compound channel ---------------------------
