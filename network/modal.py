@@ -55,6 +55,9 @@ INTERIOR_POINTS = 10
 _SCALAR_LIMIT = 256
 #: Largest modes × segments array kept in memory (segment-start states for refinement).
 STORE_LIMIT = 4_000_000
+#: Largest modes × segments tables of forcing and segment functions laid out at once for
+#: the blocked scan (above: gathered block column by block column).
+_TABLE_LIMIT = 65_536
 
 #: Four ulp of 1.0 (the safeguarded Newton's step tolerance relative to x).
 _EPS4 = 4.0 * float(np.finfo(np.float64).eps)
@@ -115,9 +118,7 @@ def _gks(x: np.ndarray, kmax: int) -> list[np.ndarray]:
     xs = -(flat if every else flat[idx])
     pw = np.empty((12, xs.size))                 # rows (−x)^0 .. (−x)^11
     pw[0] = 1.0
-    pw[1] = xs
-    for j in range(2, 12):
-        np.multiply(pw[j - 1], xs, out=pw[j])
+    np.cumprod(np.broadcast_to(xs, (11, xs.size)), axis=0, out=pw[1:])
     acc = _SERIES[:kmax + 1] @ pw                # (kmax + 1, number of small x)
     if every:
         return list(acc.reshape((kmax + 1,) + x.shape))
@@ -486,6 +487,9 @@ class ModalSolver:
 
     def _seg_funcs_new(self, h: np.ndarray, need_p2: bool):
         lam = self.lam[:, None]
+        if h.size <= 16:                        # a few segments: no search for repeats
+            tab = _phis(lam, h[None, :], 2 if need_p2 else 1)
+            return lambda sel: tuple(t[:, sel] for t in tab)
         order = np.argsort(h, kind="stable")
         hs = h[order]
         new = np.ones(h.size, dtype=bool)
@@ -523,8 +527,11 @@ class ModalSolver:
         each block: its decay Π_k e^{−λh_k} and forced increment (the state at the block
         end from a zero start), both (modes, nblk).
 
-        Returns Bk, nblk, h (nblk, Bk), level and slope (nblk, Bk, m), the per-segment
-        function table (:meth:`_seg_funcs`), segment indices (nblk, Bk), decay, increment.
+        Returns Bk, nblk, h (nblk, Bk), level and slope (nblk, Bk, m), ``column(j)`` ->
+        (Wa, Wb, e^{−λh}, ψ₀, ψ₁, ψ₂) of the j-th segment of every block, each (modes,
+        nblk), segment indices (nblk, Bk), decay, increment.  Up to ``_TABLE_LIMIT``
+        entries the forcing and the functions of every segment are laid out once (strided
+        views per column), else gathered per column.
         """
         N = edges.size - 1
         h = edges[1:] - edges[:-1]
@@ -537,14 +544,23 @@ class ModalSolver:
         sp_ = np.concatenate([slope, np.zeros((pad, slope.shape[1]))]).reshape(nblk, Bk, -1)
         funcs = self._seg_funcs(hp.ravel())
         seg = np.arange(nblk * Bk).reshape(nblk, Bk)
+        if nm * nblk * Bk <= _TABLE_LIMIT:
+            m = level.shape[1]
+            Wa_all, Wb_all = self._forcing(lp.reshape(-1, m), sp_.reshape(-1, m))
+            tabs = (Wa_all, Wb_all) + tuple(funcs(seg.ravel()))
+
+            def column(j):
+                return tuple(t[:, j::Bk] for t in tabs)
+        else:
+            def column(j):
+                return self._forcing(lp[:, j, :], sp_[:, j, :]) + tuple(funcs(seg[:, j]))
         dec = np.ones((nm, nblk))
         inc = np.zeros((nm, nblk))
         for j in range(Bk):
-            Wa, Wb = self._forcing(lp[:, j, :], sp_[:, j, :])
-            d, p0, p1, _ = funcs(seg[:, j])
+            Wa, Wb, d, p0, p1, _ = column(j)
             dec *= d
             inc = d * inc + p0 * Wa + p1 * Wb
-        return Bk, nblk, hp, lp, sp_, funcs, seg, dec, inc
+        return Bk, nblk, hp, lp, sp_, column, seg, dec, inc
 
     def _scan(self, q0: np.ndarray, edges: np.ndarray, level: np.ndarray, slope: np.ndarray,
               Pp: np.ndarray, Dp: np.ndarray, store: bool, need_integral: bool = True):
@@ -559,7 +575,7 @@ class ModalSolver:
         """
         N = edges.size - 1
         nm = self.lam.size
-        Bk, nblk, hp, lp, sp_, funcs, seg, dec, inc = self._blocks(edges, level, slope)
+        Bk, nblk, hp, lp, sp_, column, seg, dec, inc = self._blocks(edges, level, slope)
         # pass 2: block-start states, sequential over blocks
         Qs = np.empty((nm, nblk))
         q = q0.astype(np.float64).copy()
@@ -577,8 +593,7 @@ class ModalSolver:
                 cols = seg[:, j]
                 ok = cols < N
                 starts[:, cols[ok]] = Q[:, ok]
-            Wa, Wb = self._forcing(lp[:, j, :], sp_[:, j, :])
-            d, p0, p1, p2 = funcs(seg[:, j])
+            Wa, Wb, d, p0, p1, p2 = column(j)
             if need_integral:
                 integral += np.sum(p0 * Q + p1 * Wa + p2 * Wb, axis=1)
             Q = d * Q + p0 * Wa + p1 * Wb
