@@ -1296,22 +1296,25 @@ def _phi_cut_stacks(zeta: np.ndarray, stacks: Sequence[tuple[np.ndarray, np.ndar
         if ks.tobytes() != kb[:8 * m] or ts[:-1].tobytes() != tb[:8 * (m - 1)]:
             return None
         last[q] = m - 1
-    t_last = np.array([ts[-1] for _, ts in stacks])
-    start = np.tanh(zeta[None, :] * t_last[:, None])
-    for q, hq in enumerate(hs):
-        if not math.isinf(hq):
-            x = sp_k[last[q]] * zeta / hq
-            start[q] = (start[q] + x) / (1.0 + x * start[q])
-    p = np.zeros((len(stacks), zeta.size))
-    for i in range(n - 1, -1, -1):
-        if i < n - 1 and last.max() > i:
+    # rows by their last layer, deepest first: the rows under way at layer i are a head
+    order = np.argsort(-last, kind="stable")
+    last = last[order]
+    t_last = np.array([stacks[q][1][-1] for q in order.tolist()])
+    p = np.tanh(zeta[None, :] * t_last[:, None])     # each row's own last layer
+    for r_, q in enumerate(order.tolist()):
+        if not math.isinf(hs[q]):
+            x = sp_k[last[r_]] * zeta / hs[q]
+            p[r_] = (p[r_] + x) / (1.0 + x * p[r_])
+    ends = np.searchsorted(-last, -np.arange(n), side="left")  # rows with last > i: [:ends[i]]
+    for i in range(n - 2, -1, -1):
+        k = int(ends[i])
+        if k:
             th = np.tanh(zeta * sp_t[i])
-            r = (sp_k[i] / sp_k[i + 1]) * p
-            r = (th + r) / (1.0 + r * th)
-            np.copyto(p, r, where=(last > i)[:, None])
-        here = last == i
-        if here.any():
-            np.copyto(p, start, where=here[:, None])
+            r = (sp_k[i] / sp_k[i + 1]) * p[:k]
+            p[:k] = (th + r) / (1.0 + r * th)
+    out = np.empty_like(p)
+    out[order] = p
+    p = out
     return p
 
 

@@ -409,9 +409,10 @@ def _avg_sum(a: float, b: float, ks: np.ndarray, ts: np.ndarray, h: float,
     d, w = _avg_weights(a, b, n)
     fac, zq = _tail_factor(a, b, n)
     m = 0 if known is None else known.size
-    phi = _phi(d[m:], ks, ts, h) if m == 0 else np.concatenate([known, _phi(d[m:], ks, ts, h)])
-    return (float(np.sum(w * phi) + fac * float(_TAIL_W @ _phi(zq, ks, ts, h)))
-            / float(ks[0]), phi)
+    both = _phi(np.concatenate([d[m:], zq]), ks, ts, h)  # new modes and tail, one recursion
+    new, tail = both[:n - m], both[n - m:]
+    phi = new if m == 0 else np.concatenate([known, new])
+    return (float(np.sum(w * phi) + fac * float(_TAIL_W @ tail)) / float(ks[0]), phi)
 
 
 
