@@ -715,6 +715,8 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
     # profile mode: the profile read at every depth the ladder needs, in one evaluation
     # (:func:`_profile_points`, in element order)
     reads = iter(profile.readings) if profile is not None and profile.readings else None
+    # profile mode: every layer's sub-layers from those readings in one evaluation
+    subs = _column_sublayers(profile, segs, xis) if reads is not None else None
     layers: list[LayerInfo] = []
 
     if not segs:
@@ -776,9 +778,12 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
         R_layer, C_layer = 0.0, 0.0
         z = xi * t
         if profile is not None:
-            at = (next(reads), next(reads)) if reads is not None else None
-            pg, pct, pcb, pA = _profile_sublayers(profile, seg, profile.top[si], z, via,
-                                                  profile.ts[si] / t, at)
+            if subs is not None:
+                pg, pct, pcb, pA = subs[si]
+                next(reads), next(reads)   # its two readings (faces, points), used there
+            else:
+                pg, pct, pcb, pA = _profile_sublayers(profile, seg, profile.top[si], z, via,
+                                                      profile.ts[si] / t)
             if via is not None:
                 # never above a 1-D column of the footprint through the layer (a field
                 # smaller than the part: the flow area of the via-filled series can be
@@ -1876,6 +1881,64 @@ def _profile_points(prof: _Profile, segs: list[_Seg], xis: list[np.ndarray]
         scale = prof.ts[si] / t
         out.append((zv0 + scale * z, False))
         out.append((zv0 + scale * _gauss6(z)[0].ravel(), True))
+    return out
+
+
+def _column_sublayers(prof: _Profile, segs: list[_Seg], xis: list[np.ndarray]
+                      ) -> list[tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray] | None]:
+    """:func:`_profile_sublayers` of every layer of a column (None for an area
+    resistance), from the profile's readings at the depths of :func:`_profile_points`: the
+    sub-layers of all layers stacked as rows and computed in one pass, row by row the
+    arithmetic of :func:`_profile_sublayers` (the same numbers to the last bit)."""
+    readings = iter(prof.readings)
+    top = np.array(prof.top)
+    rows = []       # per layer: si, n, face R, face dR, point dR, z, scale, k, floor denominator
+    for si, (seg, xi) in enumerate(zip(segs, xis)):
+        if isinstance(seg.element, AreaResistance):
+            next(readings)
+            continue
+        (Rf, dRf), (_, dRq) = next(readings), next(readings)
+        t = seg.thickness
+        z = xi * t
+        via = _via_field(seg)
+        k = seg.k_eff if via is None else via[0]
+        sj = int(np.argmin(np.abs(top - prof.top[si])))
+        run = prof.run_of(sj)
+        rows.append((si, z.size - 1, Rf, dRf, dRq, z, prof.ts[si] / t, k,
+                     prof.ks[sj] * math.pi * run.b * run.b, seg.rho_c, via, seg.k_eff))
+    out: list = [None] * len(segs)
+    if not rows:
+        return out
+    ns = [r[1] for r in rows]
+    rep = lambda i: np.repeat([r[i] for r in rows], ns)   # noqa: E731 (one value a sub-layer)
+    za = np.concatenate([r[5][:-1] for r in rows])
+    zb = np.concatenate([r[5][1:] for r in rows])
+    zq = 0.5 * (za[:, None] + zb[:, None]) + 0.5 * (zb[:, None] - za[:, None]) * _GL6_X
+    wq = 0.5 * (zb[:, None] - za[:, None]) * _GL6_W
+    scale, k = rep(6), rep(7)
+    dRq = scale[:, None] * np.concatenate([r[4] for r in rows]).reshape(-1, _GL6_X.size)
+    A = 1.0 / (k[:, None] * dRq)
+    floor = scale * (zb - za) / rep(8)
+    ra = np.concatenate([r[2][:-1] for r in rows])
+    rb = np.concatenate([r[2][1:] for r in rows])
+    g = 1.0 / np.maximum(rb - ra, floor)
+    xi = (zq - za[:, None]) / (zb[:, None] - za[:, None])
+    rho = rep(9)
+    c_bot = rho * np.sum(wq * A * xi, axis=1)
+    c_top = rho * np.sum(wq * A, axis=1) - c_bot
+    lo = 0
+    for r, n in zip(rows, ns):
+        si, via, k_eff = r[0], r[10], r[11]
+        sl = slice(lo, lo + n)
+        gl = g[sl]
+        if via is not None:
+            kv, av = via
+            Al, wl, dl = A[sl], wq[sl], dRq[sl]
+            q = k_eff * Al + (kv - k_eff) * np.minimum(Al, av)
+            plain = np.sum(wl * dl, axis=1)
+            gl = gl * plain / np.sum(wl * dl * kv * Al / q, axis=1)
+        out[si] = (gl, c_top[sl], c_bot[sl], 1.0 / (r[7] * (r[6] * r[3])))
+        lo += n
     return out
 
 

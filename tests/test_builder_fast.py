@@ -180,3 +180,37 @@ def test_flange_sweep_networks_equal_fresh_builds(sink):
     for t, w in zip(thick[:3], warm):
         _clear_caches()
         assert _numbers(build(_flanged(t, sink), spreading="calibrated")) == w
+
+
+def test_column_sublayers_equal_layer_by_layer():
+    """_column_sublayers (every layer of a column in one pass) gives the conductances,
+    capacities and face areas of _profile_sublayers layer by layer to the last bit, on
+    columns with an area-resistance attach and a via field in the laminate."""
+    from pulsetherm.network.stackup import AreaResistance
+    from pulsetherm.network.vias import Via, ViaArray
+    rng = np.random.default_rng(17)
+    for _ in range(6):
+        asm = _flanged(float(rng.uniform(0.4e-3, 1.5e-3)))
+        part = asm.parts[0]
+        stack = list(part.stack)
+        if rng.random() < 0.5:
+            stack[1] = AreaResistance(float(10 ** rng.uniform(-6, -5)), name="attach")
+        lam = Layer("hydrocarbon-ceramic", float(rng.uniform(0.2e-3, 1.2e-3)), name="lam",
+                    vias=ViaArray(Via(0.3e-3, 25e-6, fill="copper"), 0.6e-3, 0.6))
+        board = Board([asm.board.layers[0], lam, asm.board.layers[2]], size=asm.board.size)
+        asm = Assembly([Part("pa", part.footprint, stack)], board, asm.mount)
+        segs = B._column_segments(asm.parts[0], asm, None, 45.0)
+        xis = B._column_xis(segs, B.grading("normal"), float(10 ** rng.uniform(-7, -5)))
+        prof = B.depth_profile(segs, asm.parts[0].footprint, asm.mount.sink,
+                               lambda pr: B._profile_points(pr, segs, xis))
+        fast = B._column_sublayers(prof, segs, xis)
+        reads = iter(prof.readings)
+        for si, (seg, xi) in enumerate(zip(segs, xis)):
+            if fast[si] is None:
+                next(reads)
+                continue
+            at = (next(reads), next(reads))
+            plain = B._profile_sublayers(prof, seg, prof.top[si], xi * seg.thickness,
+                                         B._via_field(seg), prof.ts[si] / seg.thickness, at)
+            for x, y in zip(fast[si], plain):
+                np.testing.assert_array_equal(x, y)
