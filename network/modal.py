@@ -539,9 +539,15 @@ class ModalSolver:
         Bk = max(1, int(math.ceil(math.sqrt(N))))
         nblk = int(math.ceil(N / Bk))
         pad = nblk * Bk - N
-        hp = np.concatenate([h, np.zeros(pad)]).reshape(nblk, Bk)
-        lp = np.concatenate([level, np.zeros((pad, level.shape[1]))]).reshape(nblk, Bk, -1)
-        sp_ = np.concatenate([slope, np.zeros((pad, slope.shape[1]))]).reshape(nblk, Bk, -1)
+        if pad:
+            hp = np.concatenate([h, np.zeros(pad)]).reshape(nblk, Bk)
+            lp = np.concatenate([level, np.zeros((pad, level.shape[1]))]).reshape(nblk, Bk, -1)
+            sp_ = np.concatenate([slope, np.zeros((pad, slope.shape[1]))]).reshape(nblk, Bk,
+                                                                                    -1)
+        else:                                   # copies: the blocks are remembered
+            hp = h.reshape(nblk, Bk)
+            lp = level.reshape(nblk, Bk, -1).copy()
+            sp_ = slope.reshape(nblk, Bk, -1).copy()
         funcs = self._seg_funcs(hp.ravel())
         seg = np.arange(nblk * Bk).reshape(nblk, Bk)
         if nm * nblk * Bk <= _TABLE_LIMIT:
@@ -910,6 +916,8 @@ class ModalSolver:
         """r = Σ_k e^{−λ(T − t_{k+1})} ρ_k: the end-of-period state from a zero start (ρ_k
         the forced increment of segment k), folded block by block as in :meth:`_scan`."""
         _, nblk, _, _, _, _, _, dec, inc = self._blocks(edges, level, slope)
+        if nblk == 1:
+            return inc[:, 0].copy()             # = e^{−λT}·0 + increment
         r = np.zeros(self.lam.size)
         for b in range(nblk):
             r = dec[:, b] * r + inc[:, b]
