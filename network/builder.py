@@ -794,9 +794,13 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
                 r_sum = float(np.sum(1.0 / pg))
                 if r_sum > r_col:
                     pg = pg * (r_sum / r_col)
+        if profile is not None:   # as Python floats, and the face sizes, for the loop
+            pg_l, pct_l, pcb_l = pg.tolist(), pct.tolist(), pcb.tolist()
+            pw, pl = profile.paths(pA[1:], w0, l0, profile.run_of(si).plate)
+            pw, pl = pw.tolist(), pl.tolist()
         for kk in range(len(xi) - 1):
             if profile is not None:
-                g, c_top, c_bot = float(pg[kk]), float(pct[kk]), float(pcb[kk])
+                g, c_top, c_bot = pg_l[kk], pct_l[kk], pcb_l[kk]
             else:
                 g, c_top, c_bot = frustum_sublayer(z[kk], z[kk + 1], w, l, tan, seg.cap,
                                                    seg.k_eff, seg.rho_c, via)
@@ -808,7 +812,7 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
             R_layer += 1.0 / g
             C_layer += c_top + c_bot
             if profile is not None:
-                ww, ll = profile.path(float(pA[kk + 1]), w0, l0, profile.run_of(si).plate)
+                ww, ll = pw[kk], pl[kk]
             else:
                 ww, ll = path_size(z[kk + 1], w, l, tan, seg.cap)
             if kk == len(xi) - 2 and last_seg and merge_bottom:
@@ -822,7 +826,7 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
             faces.append(name)
             current = name
         if profile is not None:
-            w_new, l_new = profile.path(float(pA[-1]), w0, l0, profile.run_of(si).plate)
+            w_new, l_new = pw[-1], pl[-1]
             seg.angle = functools.partial(_equivalent_angle, R_layer, t, w, l, seg)
         else:
             w_new, l_new = path_size(t, w, l, tan, seg.cap)
@@ -1196,6 +1200,23 @@ class _Profile:
             w, l = W, min(area / W, L)
         elif l > L:
             w, l = min(area / L, W), L
+        return w, l
+
+    def paths(self, areas: np.ndarray, w0: float, l0: float,
+              plate: tuple[float, float] | None = None) -> tuple[np.ndarray, np.ndarray]:
+        """:meth:`path` of several areas (arrays w, l; the same arithmetic, element by
+        element)."""
+        W, L = plate if plate is not None else self.plate
+        areas = np.asarray(areas, dtype=float)
+        f = np.sqrt(areas / (w0 * l0))
+        s = 0.5 * (-(w0 + l0) + np.sqrt((w0 - l0) ** 2 + 4.0 * areas))
+        small = areas <= w0 * l0
+        w = np.where(small, w0 * f, w0 + s)
+        l = np.where(small, l0 * f, l0 + s)
+        wide = ~small & (w > W)
+        long_ = ~small & ~wide & (l > L)
+        w, l = (np.where(wide, W, np.where(long_, np.minimum(areas / L, W), w)),
+                np.where(wide, np.minimum(areas / W, L), np.where(long_, L, l)))
         return w, l
 
 

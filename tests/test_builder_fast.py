@@ -214,3 +214,18 @@ def test_column_sublayers_equal_layer_by_layer():
                                          B._via_field(seg), prof.ts[si] / seg.thickness, at)
             for x, y in zip(fast[si], plain):
                 np.testing.assert_array_equal(x, y)
+
+
+def test_paths_equal_path_one_by_one():
+    """_Profile.paths (the face sizes of a layer at once) equals _Profile.path area by
+    area to the last bit: inside the footprint, growing, capped by either side."""
+    asm = _flanged(1e-3)
+    segs = B._column_segments(asm.parts[0], asm, None, 45.0)
+    prof = B.depth_profile(segs, asm.parts[0].footprint, asm.mount.sink)
+    rng = np.random.default_rng(2)
+    w0, l0 = 0.6e-3, 2.4e-3
+    for plate in [(6e-3, 10e-3), (3e-3, 2.5e-3), (1e-3, 40e-3), (40e-3, 30e-3)]:
+        areas = np.concatenate([10 ** rng.uniform(-7.5, -3.5, 60), [w0 * l0]])
+        pw, pl = prof.paths(areas, w0, l0, plate)
+        for a, x, y in zip(areas.tolist(), pw.tolist(), pl.tolist()):
+            assert (x, y) == prof.path(a, w0, l0, plate)
