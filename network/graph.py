@@ -60,9 +60,11 @@ class _EdgeView:
     def _triples(self) -> list[tuple]:
         """(u, v, attributes) of every edge once, from its end added first (a self-loop
         once): networkx's order."""
-        pos = {u: i for i, u in enumerate(self._adj)}
-        return [(u, v, d) for u, nbrs in self._adj.items() for v, d in nbrs.items()
-                if pos[v] >= pos[u]]
+        out, done = [], set()
+        for u, nbrs in self._adj.items():
+            out += [(u, v, d) for v, d in nbrs.items() if v not in done]
+            done.add(u)
+        return out
 
     def __getitem__(self, pair) -> dict:
         u, v = pair
