@@ -206,6 +206,11 @@ def one_d_resistance(area: float, k, t, h: float = math.inf) -> float:
     area = _pos("area", area)
     ks, ts = _layers(k, t)
     h = _pos("h", h, inf_ok=True)
+    return _one_d(area, ks, ts, h)
+
+
+def _one_d(area: float, ks: np.ndarray, ts: np.ndarray, h: float) -> float:
+    """:func:`one_d_resistance` of checked numbers (float arrays)."""
     return float(np.sum(ts / ks) / area + (0.0 if math.isinf(h) else 1.0 / (h * area)))
 
 
@@ -473,10 +478,10 @@ def circular_series(a: float, b: float, k, t, h: float, *,
     ----------
     Yovanovich, Culham & Teertstra, IEEE Trans. CPMT-A 21(1), 1998.
     """
-    a, b, ks, ts = _disk(a, b, k, t)
+    a, b, ks, ts = _disk_fast(a, b, k, t)
     h = _pos("h", h, inf_ok=True)
     rtol = _pos("rtol", rtol)
-    r_1d = one_d_resistance(math.pi * b * b, ks, ts, h)
+    r_1d = _one_d(math.pi * b * b, ks, ts, h)
     if a == b:
         return SpreadingResult(0.0, r_1d, 0.0 if centre else None, 0, 0.0,
                                "circular_series", 0.0)

@@ -229,3 +229,18 @@ def test_paths_equal_path_one_by_one():
         pw, pl = prof.paths(areas, w0, l0, plate)
         for a, x, y in zip(areas.tolist(), pw.tolist(), pl.tolist()):
             assert (x, y) == prof.path(a, w0, l0, plate)
+
+
+@pytest.mark.parametrize("args, match", [
+    ((1e-3, 2e-3, [1.0, -2.0], [1e-3, 1e-3]), r"k\[1\]"),
+    ((1e-3, 2e-3, [1.0, 2.0], [1e-3, float("nan")]), r"t\[1\]"),
+    ((3e-3, 2e-3, 1.0, 1e-3), "a = "),
+    ((1e-3, 2e-3, [1.0, 2.0], [1e-3]), "one conductivity per layer"),
+])
+def test_series_checks_kept_on_the_fast_path(args, match):
+    """circular_series and circular_depth_profile skip the per-number checks only for
+    finite positive floats: anything else still raises the message naming the field."""
+    with pytest.raises(S.SpreadingError, match=match):
+        S.circular_series(*args, math.inf)
+    with pytest.raises(S.SpreadingError, match=match):
+        S.circular_depth_profile(*args, np.array([0.5e-3]))
