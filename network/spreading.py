@@ -661,37 +661,40 @@ def _circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = 
     live = np.maximum(np.searchsorted(dd, lim, side="left"), 64)
     group = np.minimum(np.left_shift(1, np.ceil(np.log2(live)).astype(int)),
                        setup.cap[j_of])
-    for j in np.unique(j_of).tolist():
-        idx = np.flatnonzero(j_of == j)
-        grp = group[idx]
-        al_j, be_j, ga_j, ddet_j = setup.al[j], setup.be[j], setup.ga[j], setup.ddet[j]
-        gs = np.unique(grp).tolist()
-        for g in gs:
-            sel_g = idx if len(gs) == 1 else idx[grp == g]
-            al, be, ga, ddet = al_j[:g], be_j[:g], ga_j[:g], ddet_j[:g]
-            rest = setup.rest(j, g)   # the modes past g, constant at these depths
-            rows = max(1, _CACHE_BLOCK // g)
-            for s in range(0, sel_g.size, rows):
-                sel = sel_g[s:s + rows]
-                pj = np.multiply(dd[:g], x[sel][:, None])
-                np.tanh(pj, out=pj)
-                inv = np.multiply(ga, pj)
-                inv += 1.0
-                np.reciprocal(inv, out=inv)
-                value = ~so[sel]
-                if value.all():
-                    R[sel] = ((al * pj + be) * inv @ ww[:g] + rest) / ks[0]
-                else:
-                    R[sel] = np.nan
-                    if value.any():
-                        R[sel[value]] = ((al * pj[value] + be) * inv[value] @ ww[:g]
-                                         + rest) / ks[0]
-                dp = np.multiply(pj, pj, out=pj)
-                np.subtract(1.0, dp, out=dp)
-                dp *= ddet
-                inv *= inv
-                dp *= inv
-                dR[sel] = dp @ ww[:g] / ks[0]
+    # the depths of each (layer, group) in their order, found with one stable sort
+    key = j_of * (2 * dd.size + 2) + group
+    order = np.argsort(key, kind="stable")
+    ks_ = key[order]
+    cut = np.flatnonzero(ks_[1:] != ks_[:-1]) + 1
+    value_all = ~so
+    k1 = ks[0]
+    for lo, hi in zip([0] + cut.tolist(), cut.tolist() + [ks_.size]) if ks_.size else ():
+        sel_g = order[lo:hi]
+        j, g = divmod(int(ks_[lo]), 2 * dd.size + 2)
+        al, be, ga = setup.al[j, :g], setup.be[j, :g], setup.ga[j, :g]
+        ddet, wg, dg = setup.ddet[j, :g], ww[:g], dd[:g]
+        rest = setup.rest(j, g)   # the modes past g, constant at these depths
+        rows = max(1, _CACHE_BLOCK // g)
+        for s in range(0, sel_g.size, rows):
+            sel = sel_g[s:s + rows]
+            pj = np.multiply(dg, x[sel][:, None])
+            np.tanh(pj, out=pj)
+            inv = np.multiply(ga, pj)
+            inv += 1.0
+            np.reciprocal(inv, out=inv)
+            value = value_all[sel]
+            if value.all():
+                R[sel] = ((al * pj + be) * inv @ wg + rest) / k1
+            else:
+                R[sel] = np.nan
+                if value.any():
+                    R[sel[value]] = ((al * pj[value] + be) * inv[value] @ wg + rest) / k1
+            dp = np.multiply(pj, pj, out=pj)
+            np.subtract(1.0, dp, out=dp)
+            dp *= ddet
+            inv *= inv
+            dp *= inv
+            dR[sel] = dp @ wg / k1
     return (R + one_d).reshape(z.shape), (dR + one_d_slope).reshape(z.shape)
 
 
@@ -727,13 +730,7 @@ class _DepthModes:
         if a == b:
             return
         n = terms if terms is not None else int(max(512, math.ceil(32.0 * b / a)))
-        n = min(n, _MAX_BESSEL_TERMS)
-        d, w = _avg_weights(a, b, n)
-        fac, zq = _tail_factor(a, b, n)
-        dd = np.concatenate([d, zq])
-        ww = np.concatenate([w, fac * _TAIL_W])
-        order = np.argsort(dd, kind="stable")   # modes by wavenumber (the tail descends)
-        self.dd, self.ww = dd[order], ww[order]
+        self.dd, self.ww = _sorted_modes(a, b, min(n, _MAX_BESSEL_TERMS))
         self.al, self.be, self.ga, det = _compose_down(self.dd, ks, ts)
         self.ddet = self.dd * det
         self.p_sat = (self.al + self.be) / (self.ga + 1.0)
@@ -753,6 +750,22 @@ class _DepthModes:
         if r is None:
             r = self._rest[key] = float(self.p_sat[j, g:] @ self.ww[g:])
         return r
+
+
+@functools.lru_cache(maxsize=32)
+def _sorted_modes(a: float, b: float, n: int) -> tuple[np.ndarray, np.ndarray]:
+    """The wavenumbers of the depth series (n modes of :func:`_avg_weights`, then the tail
+    nodes of :func:`_tail_factor`) by size and their weights (read-only; a pure function of
+    the radii and n)."""
+    d, w = _avg_weights(a, b, n)
+    fac, zq = _tail_factor(a, b, n)
+    dd = np.concatenate([d, zq])
+    ww = np.concatenate([w, fac * _TAIL_W])
+    order = np.argsort(dd, kind="stable")   # modes by wavenumber (the tail descends)
+    dd, ww = dd[order], ww[order]
+    dd.flags.writeable = False
+    ww.flags.writeable = False
+    return dd, ww
 
 
 @functools.lru_cache(maxsize=16)    # an entry ~40 kB a layer
