@@ -275,6 +275,9 @@ def _eigh(G, s: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     n = s.size
     if sp.issparse(G):
         G = G.tocsr()
+        if not G.has_canonical_format:          # repeated entries: summed first
+            G = G.copy()
+            G.sum_duplicates()
         rows = np.repeat(np.arange(n), np.diff(G.indptr))
         cols, vals = G.indices, G.data
         nz = vals != 0

@@ -211,3 +211,36 @@ def test_union_find_groups_against_csgraph(seed):
     for g in np.unique(lab):
         members = np.flatnonzero(lab == g)
         assert np.all(roots[members] == members.min())
+
+
+def test_eigh_of_a_sparse_matrix_with_repeated_entries():
+    """A CSR conductance matrix of a chain whose diagonal entries are stored as two halves
+    (a format scipy accepts and sums in its products): the same eigenpairs as its dense
+    form, through the tridiagonal path."""
+    import scipy.sparse as sp
+
+    n = 12
+    rng = np.random.default_rng(7)
+    G = np.zeros((n, n))
+    for k in range(n - 1):
+        g = rng.uniform(0.5, 2.0)
+        G[k, k] += g
+        G[k + 1, k + 1] += g
+        G[k, k + 1] -= g
+        G[k + 1, k] -= g
+    G[-1, -1] += 1.0
+    indptr, indices, data = [0], [], []
+    for i in range(n):
+        cols = np.flatnonzero(G[i])
+        reps = np.where(cols == i, 2, 1)        # the diagonal entry in two halves
+        indices += list(np.repeat(cols, reps))
+        data += list(np.repeat(G[i, cols] / reps, reps))
+        indptr.append(len(indices))
+    dup = sp.csr_matrix((np.array(data), np.array(indices), np.array(indptr)), shape=(n, n))
+    assert not dup.has_canonical_format
+    s = 1.0 / np.sqrt(rng.uniform(1e-3, 1.0, n))
+    lam, U = modal._eigh(dup, s)
+    A = G * s[None, :] * s[:, None]
+    np.testing.assert_allclose(lam, sla.eigvalsh(A), rtol=1e-12)
+    np.testing.assert_allclose(U.T @ U, np.eye(n), atol=1e-13)
+    np.testing.assert_allclose(A @ U, U * lam[None, :], atol=1e-12 * lam.max())
