@@ -567,11 +567,11 @@ def circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = N
     """Cached front of :func:`_circular_depth_profile` (same arguments and results; the
     arrays returned are fresh copies).  Sweeps rebuild the same columns many times."""
     zz = np.asarray(z, dtype=np.float64)
-    so = None if slope_only is None else tuple(
-        np.broadcast_to(np.asarray(slope_only, dtype=bool), zz.shape).ravel().tolist())
+    so = None if slope_only is None else np.broadcast_to(
+        np.asarray(slope_only, dtype=bool), zz.shape).tobytes()
     key = (float(a), float(b), tuple(np.atleast_1d(np.asarray(k, dtype=np.float64)).tolist()),
            tuple(np.atleast_1d(np.asarray(t, dtype=np.float64)).tolist()),
-           zz.shape, tuple(zz.ravel().tolist()), terms, so)
+           zz.shape, zz.tobytes(), terms, so)   # the depths by their bytes (cheap to hash)
     R, dR = _depth_profile_cached(key)
     return R.copy(), dR.copy()
 
@@ -579,9 +579,11 @@ def circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = N
 @functools.lru_cache(maxsize=256)   # an entry holds a column's depths (~500): ~30 kB
 def _depth_profile_cached(key):
     a, b, k, t, shape, z, terms, so = key
-    return _circular_depth_profile(a, b, list(k), list(t), np.array(z).reshape(shape),
+    return _circular_depth_profile(a, b, list(k), list(t),
+                                   np.frombuffer(z, dtype=np.float64).reshape(shape),
                                    terms=terms,
-                                   slope_only=None if so is None else np.array(so, bool))
+                                   slope_only=None if so is None
+                                   else np.frombuffer(so, dtype=bool).reshape(shape))
 
 
 def _circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = None,
