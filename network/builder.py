@@ -1437,11 +1437,11 @@ def _cross_terms_uncached(a: float, b: float, b2: float,
                           n_up: int = _COUPLED_MODES) -> list[float]:
     """Coupling of a narrow run (radius ``b``, its ``n_run`` layers at the head of ``ks``,
     ``ts``) and the wider region below it (radius ``b2``, the remaining layers over the
-    film ``h``, one for all stacks or one per stack): the exact mean source rise minus the modal split of :func:`depth_profile`,
-    K/W (negative when the run carries heat to its rim, where the wider layers take it
-    up: a flange on a board); one value for each stack ``(ks, ts)`` of ``stacks``, which
-    must share their first ``n_run`` layers (the parts of the run alone are computed
-    once).
+    film ``h``, one for all stacks or one per stack): the exact mean source rise minus the
+    modal split of :func:`depth_profile`, K/W (negative when the run carries heat to its
+    rim, where the wider layers take it up: a flange on a board); one value for each
+    stack ``(ks, ts)`` of ``stacks``, which must share their first ``n_run`` layers (the
+    parts of the run alone are computed once).
 
     Interface r < b between the run and the region below, solved in the run's modes
     J0(δ_n r), δ_n = λ_n/b (λ_0 = 0, λ_n the roots of J1), n = 0 ... N:

@@ -663,7 +663,9 @@ def _circular_depth_profile(a: float, b: float, k, t, z, *, terms: int | None = 
     live = np.maximum(np.searchsorted(dd, lim, side="left"), 64)
     group = np.minimum(np.left_shift(1, np.ceil(np.log2(live)).astype(int)),
                        setup.cap[j_of])
-    # the depths of each (layer, group) in their order, found with one stable sort
+    # the depths of each (layer, group) in their order, found with one stable sort; the
+    # layers above the cut act as one map per mode, φ_1 = (α·φ_j + β)/(γ·φ_j + 1) and
+    # dφ_1/dz = det·δ(1 − φ_j²)/(γ·φ_j + 1)² (``ddet`` = δ·det), φ_j = tanh(δ(z − z_j))
     key = j_of * (2 * dd.size + 2) + group
     order = np.argsort(key, kind="stable")
     ks_ = key[order]
