@@ -266,10 +266,10 @@ def _eigh(G, s: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     Computations*, 4th ed., 2013, §8.3.1) that cost O(n³) and change nothing for a
     tridiagonal A.  Measured on graded chains (OpenBLAS, one thread): 0.42 ms against
     0.53 ms at n = 100, 3.5 ms against 7.1 ms at n = 300; a sparse G is never made dense.
-    It is also more accurate on the slowest modes of a graded chain: the smallest
-    eigenvalue of the 300-node benchmark chain to 2.4e-12 relative against 2.2e-11 for
-    the dense solve (7.5e-12 against 6.9e-10 at 1500 nodes), measured against bisection
-    on the Sturm count in extended precision (tests/test_engine_fast_paths.py).
+    The slowest modes of a graded chain come out at least as accurately: the smallest
+    eigenvalue of the 300-node benchmark chain to 2.4e-12 relative with either solve,
+    of a 1500-node one to 7.5e-12 against 2.1e-11 for the dense solve, measured against
+    bisection on the Sturm count in extended precision (tests/test_engine_fast_paths.py).
     Other matrices: dense A, scipy's default driver (dsyevr).  The divide-and-conquer
     drivers (dsyevd, dstevd) are 10-30 % faster but resolve the slowest modes of a stiff
     network less well: a 3-period transient of a 12-node network with time constants over
