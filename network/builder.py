@@ -537,6 +537,17 @@ class _Net:
         self.labels[name] = label
         return name
 
+    def nodes(self, names: list[str], label: str = "") -> None:
+        """:meth:`node` of several massless nodes with one label."""
+        caps, labels = self.caps, self.labels
+        if any(n in caps or n in self.boundaries for n in names) or \
+                len(set(names)) < len(names):
+            for n in names:   # the message of the first clash
+                self.node(n)
+        for n in names:
+            caps[n] = 0.0
+            labels[n] = label
+
     def add_cap(self, name: str, cap: float) -> None:
         if name in self.caps:
             self.caps[name] += cap
@@ -794,27 +805,47 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
                 r_sum = float(np.sum(1.0 / pg))
                 if r_sum > r_col:
                     pg = pg * (r_sum / r_col)
-        if profile is not None:   # as Python floats, and the face sizes, for the loop
+        if profile is not None:
+            # the faces of the layer at once: the sums, capacities and edges of the loop
+            # below in its order
             pg_l, pct_l, pcb_l = pg.tolist(), pct.tolist(), pcb.tolist()
             pw, pl = profile.paths(pA[1:], w0, l0, profile.run_of(si).plate)
-            pw, pl = pw.tolist(), pl.tolist()
-        for kk in range(len(xi) - 1):
-            if profile is not None:
-                g, c_top, c_bot = pg_l[kk], pct_l[kk], pcb_l[kk]
-            else:
-                g, c_top, c_bot = frustum_sublayer(z[kk], z[kk + 1], w, l, tan, seg.cap,
-                                                   seg.k_eff, seg.rho_c, via)
-            if seg.cap_angle is not None and profile is None:
+            pw, pl, zl = pw.tolist(), pl.tolist(), z.tolist()
+            for g in pg_l:
+                R_layer += 1.0 / g
+            for c_top, c_bot in zip(pct_l, pcb_l):
+                C_layer += c_top + c_bot
+            n_sub = len(pg_l)
+            names = [f"{p}.{seg.name}.{kk}" for kk in range(1, n_sub + 1)]
+            if last_seg and merge_bottom:
+                names[-1] = sink_node
+            new = names[:-1] if last_seg and merge_bottom else names
+            nl.nodes(new, label=label)
+            for kk, name in enumerate(new):
+                node_map[name] = NodeInfo(p, seg.name, kk + 1, depth + zl[kk + 1],
+                                          pw[kk] * pl[kk])
+            caps = nl.caps
+            for name, c_bot in zip(names, pcb_l):
+                if name in caps:
+                    caps[name] += c_bot
+            for name, c_top in zip([current] + names[:-1], pct_l):
+                if name in caps:
+                    caps[name] += c_top
+            nl.edges.extend((a, b_, g, a_exp) for a, b_, g in zip([current] + names[:-1], names,
+                                                                  pg_l))
+            faces.extend(names)
+            current = names[-1]
+        for kk in range(len(xi) - 1) if profile is None else ():
+            g, c_top, c_bot = frustum_sublayer(z[kk], z[kk + 1], w, l, tan, seg.cap,
+                                               seg.k_eff, seg.rho_c, via)
+            if seg.cap_angle is not None:
                 # calibrated: conduction through the fitted frustum, heat stored in the
                 # default-angle one (a wide fitted angle must not add early capacity)
                 _, c_top, c_bot = frustum_sublayer(z[kk], z[kk + 1], wc, lc, tan_c,
                                                    seg.cap, seg.k_eff, seg.rho_c, via)
             R_layer += 1.0 / g
             C_layer += c_top + c_bot
-            if profile is not None:
-                ww, ll = pw[kk], pl[kk]
-            else:
-                ww, ll = path_size(z[kk + 1], w, l, tan, seg.cap)
+            ww, ll = path_size(z[kk + 1], w, l, tan, seg.cap)
             if kk == len(xi) - 2 and last_seg and merge_bottom:
                 name = sink_node
             else:
