@@ -244,3 +244,16 @@ def test_series_checks_kept_on_the_fast_path(args, match):
         S.circular_series(*args, math.inf)
     with pytest.raises(S.SpreadingError, match=match):
         S.circular_depth_profile(*args, np.array([0.5e-3]))
+
+
+@pytest.mark.parametrize("spreading", ["calibrated", "angle"])
+def test_face_names_clash_named_on_both_paths(spreading):
+    """A part layer named like a board layer's column name clashes; the faces created a
+    layer at once (calibrated) name the node as the one-by-one path does."""
+    from pulsetherm.network.stackup import StackupError
+    part = Part("pa", (1e-3, 1e-3), [Layer("sic-4h", 100e-6, size=2e-3, name="board-top"),
+                                     Layer("cuw-85-15", 1e-3, size=5e-3, name="f")])
+    board = Board([Layer("pcb-copper", 35e-6, name="top"),
+                   Layer("fr4-class", 0.5e-3, name="lam")], size=(40e-3, 40e-3))
+    with pytest.raises(StackupError, match=r"node 'pa\.board-top\.1' defined twice"):
+        build(Assembly([part], board, Mount(sink=FixedBase(25.0))), spreading=spreading)
