@@ -728,6 +728,15 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
     reads = iter(profile.readings) if profile is not None and profile.readings else None
     # profile mode: every layer's sub-layers from those readings in one evaluation
     subs = _column_sublayers(profile, segs, xis) if reads is not None else None
+    if subs is not None:   # and the face sizes of every layer (:meth:`_Profile.paths`)
+        lay = [si for si, x in enumerate(subs) if x is not None]
+        counts = [subs[si][3].size - 1 for si in lay]
+        plates = np.array([profile.run_of(si).plate for si in lay]).reshape(-1, 2)
+        pw_all, pl_all = profile.paths(
+            np.concatenate([subs[si][3][1:] for si in lay]) if lay else np.zeros(0),
+            w, l, (np.repeat(plates[:, 0], counts), np.repeat(plates[:, 1], counts)))
+        pw_all, pl_all = pw_all.tolist(), pl_all.tolist()
+        face_at = dict(zip(lay, np.cumsum([0] + counts).tolist()))
     layers: list[LayerInfo] = []
 
     if not segs:
@@ -809,8 +818,13 @@ def _build_column(nl: _Net, part: Part, segs: list[_Seg], grade: Grading, t_min:
             # the faces of the layer at once: the sums, capacities and edges of the loop
             # below in its order
             pg_l, pct_l, pcb_l = pg.tolist(), pct.tolist(), pcb.tolist()
-            pw, pl = profile.paths(pA[1:], w0, l0, profile.run_of(si).plate)
-            pw, pl, zl = pw.tolist(), pl.tolist(), z.tolist()
+            if subs is not None:
+                f0 = face_at[si]
+                pw, pl = pw_all[f0:f0 + pg.size], pl_all[f0:f0 + pg.size]
+            else:
+                pw, pl = profile.paths(pA[1:], w0, l0, profile.run_of(si).plate)
+                pw, pl = pw.tolist(), pl.tolist()
+            zl = z.tolist()
             for g in pg_l:
                 R_layer += 1.0 / g
             for c_top, c_bot in zip(pct_l, pcb_l):

@@ -229,6 +229,13 @@ def test_paths_equal_path_one_by_one():
         pw, pl = prof.paths(areas, w0, l0, plate)
         for a, x, y in zip(areas.tolist(), pw.tolist(), pl.tolist()):
             assert (x, y) == prof.path(a, w0, l0, plate)
+    # a plate per area (the faces of a whole column at once)
+    plates = [(6e-3, 10e-3), (3e-3, 2.5e-3), (1e-3, 40e-3), (40e-3, 30e-3)] * 10
+    areas = 10 ** rng.uniform(-7.5, -3.5, len(plates))
+    pw, pl = prof.paths(areas, w0, l0, (np.array([p[0] for p in plates]),
+                                        np.array([p[1] for p in plates])))
+    for a, pt, x, y in zip(areas.tolist(), plates, pw.tolist(), pl.tolist()):
+        assert (x, y) == prof.path(a, w0, l0, pt)
 
 
 @pytest.mark.parametrize("args, match", [
