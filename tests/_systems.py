@@ -77,3 +77,21 @@ def dataclass_twin(obj):
         _TWINS[cls] = dataclasses.make_dataclass(cls.__name__, spec, frozen=True)
         _TWINS[cls].__qualname__ = cls.__qualname__
     return _TWINS[cls](**{f.name: getattr(obj, f.name) for f in dataclasses.fields(cls)})
+
+
+def graded_chain(n: int = 60):
+    """Graded chain c0 .. c{n-1} -> sink (R_k = 0.05·r^k K/W, C_k = 7.12e-5·r^k J/K,
+    r = 1.012^(120/n)), time constants about 1 µs .. 0.1 s (as in
+    tests/bench/bench_engine.py), heat into c0."""
+    from pulsetherm.network.model import ThermalNetwork
+
+    net = ThermalNetwork()
+    net.add_boundary("sink", temperature=25.0)
+    r = 1.012 ** (120 / n)
+    for k in range(n):
+        net.add_node(f"c{k}", capacity=7.12e-5 * r ** k)
+        if k:
+            net.connect(f"c{k}", f"c{k - 1}", conductance=1.0 / (0.05 * r ** k))
+    net.connect(f"c{n - 1}", "sink", conductance=1.0 / (0.05 * r ** n))
+    net.add_input("die", nodes={"c0": 1.0})
+    return net

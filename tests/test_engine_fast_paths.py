@@ -20,6 +20,7 @@ import pulsetherm.network.modal as modal
 from pulsetherm.network.assemble import condense
 from pulsetherm.network.model import ThermalNetwork
 from pulsetherm.waveforms.canonical import Piecewise
+from pulsetherm_test_systems import graded_chain  # tests/_systems.py, by conftest
 
 WAVE = Piecewise([0.0, 1e-5, 1e-3], [0.1, 0.0])
 
@@ -257,15 +258,7 @@ def test_chain_slowest_eigenvalues_against_sturm_bisection():
     scipy's dense eigh with eigenvectors; its eigenvalues-only driver, 2.2e-11, would
     fail.)"""
     n = 300
-    net = ThermalNetwork()
-    net.add_boundary("sink", temperature=25.0)
-    r = 1.012 ** (120 / n)
-    for k in range(n):
-        net.add_node(f"c{k}", capacity=7.12e-5 * r ** k)
-        if k:
-            net.connect(f"c{k}", f"c{k - 1}", conductance=1.0 / (0.05 * r ** k))
-    net.connect(f"c{n - 1}", "sink", conductance=1.0 / (0.05 * r ** n))
-    net.add_input("die", nodes={"c0": 1.0})
+    net = graded_chain(n)
     solver = modal.ModalSolver(net.system())
     cond = condense(net.system())
     s = 1.0 / np.sqrt(cond.C)

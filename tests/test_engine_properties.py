@@ -14,6 +14,7 @@ from hypothesis import strategies as st
 
 from pulsetherm.network.model import ThermalNetwork
 from pulsetherm.waveforms.canonical import Piecewise
+from pulsetherm_test_systems import graded_chain  # tests/_systems.py, by conftest
 
 SETTINGS = dict(max_examples=4, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 
@@ -155,7 +156,7 @@ def test_extremes_of_slow_probes_on_a_long_graded_chain():
     cancel to a few parts in 10^4 (the case that took seconds to certify with per-mode
     interval bounds alone).  No closed-form value on a 2000-point grid per segment lies
     above the reported peak or below the reported minimum (common practice, no source)."""
-    net = _graded_chain(60)
+    net = graded_chain(60)
     wave = Piecewise([0.0, 10e-6, 1e-3], [20.0, 0.0])
     probes = [f"c{k}" for k in range(0, 60, 6)]
     res = net.periodic({"die": wave}, probes=probes)
@@ -168,21 +169,6 @@ def test_extremes_of_slow_probes_on_a_long_graded_chain():
     assert res.peak("c0") - res.min("c0") > 1e3 * (res.peak("c54") - res.min("c54"))
 
 
-def _graded_chain(n: int = 60) -> ThermalNetwork:
-    """Graded chain c0 .. c{n-1} -> sink, time constants about 1 µs .. 0.1 s (as in
-    tests/bench/bench_engine.py), heat into c0."""
-    net = ThermalNetwork()
-    net.add_boundary("sink", temperature=25.0)
-    r = 1.012 ** (120 / n)
-    for k in range(n):
-        net.add_node(f"c{k}", capacity=7.12e-5 * r ** k)
-        if k:
-            net.connect(f"c{k}", f"c{k - 1}", conductance=1.0 / (0.05 * r ** k))
-    net.connect(f"c{n - 1}", "sink", conductance=1.0 / (0.05 * r ** n))
-    net.add_input("die", nodes={"c0": 1.0})
-    return net
-
-
 def test_extremes_with_the_search_split_into_small_passes(monkeypatch):
     """The certified search in passes of a few candidates (the memory bound that large
     networks hit, forced here with a small pass size) finds the same extremes on the slow
@@ -192,9 +178,9 @@ def test_extremes_with_the_search_split_into_small_passes(monkeypatch):
 
     wave = {"die": Piecewise([0.0, 10e-6, 1e-3], [20.0, 0.0])}
     probes = [f"c{k}" for k in range(0, 60, 6)]
-    whole = _graded_chain().periodic(wave, probes=probes)
+    whole = graded_chain().periodic(wave, probes=probes)
     monkeypatch.setattr(mb, "CHUNK_ELEMENTS", 60 * 16)          # 16 candidates a pass
-    split = _graded_chain().periodic(wave, probes=probes)
+    split = graded_chain().periodic(wave, probes=probes)
     assert_same_extremes(split, whole, probes)
 
 
