@@ -20,7 +20,8 @@ import pulsetherm.network.modal_bounds as mb
 from pulsetherm.network.model import ThermalNetwork
 from pulsetherm.waveforms.canonical import Piecewise
 
-from tests.test_engine_properties import _graded_chain, assert_same_extremes, random_net
+from pulsetherm_test_systems import graded_chain  # tests/_systems.py, by conftest
+from tests.test_engine_properties import assert_same_extremes, random_net
 
 PULSE_A = Piecewise([0.0, 1e-4, 1e-3], [10.0, 0.0])
 PULSE_B = Piecewise([0.0, 2e-4, 1.5e-3], [4.0, 1.0], slope=[2e4, 0.0])
@@ -73,7 +74,7 @@ def _cases():
         wf = {"a": PULSE_A, "b": PULSE_B} if i % 2 == 0 else {"a": PULSE_A, "b": PULSE_C}
         out.append((lambda n=n, seed=seed: random_net(n, seed), wf, None))
     out.append((lambda: random_net(9, 133825), {"a": PULSE_A, "b": PULSE_B}, None))
-    out.append((lambda: _graded_chain(30), {"die": Piecewise([0.0, 10e-6, 1e-3], [20.0, 0.0])},
+    out.append((lambda: graded_chain(30), {"die": Piecewise([0.0, 10e-6, 1e-3], [20.0, 0.0])},
                 [f"c{k}" for k in range(0, 30, 3)]))
     return out
 
@@ -142,7 +143,7 @@ def test_fused_level_without_the_lines_on_a_repeated_solve(monkeypatch):
     probes = [f"c{k}" for k in range(0, 30, 3)]
     first = {"die": Piecewise([0.0, 10e-6, 1e-3], [20.0, 0.0])}
     second = {"die": Piecewise([0.0, 25e-6, 1e-3], [12.0, 1.0])}
-    net = _graded_chain(30)
+    net = graded_chain(30)
     net.periodic(first, probes=probes)
     solver = net._solver("modal")
     assert solver._lines_open[1]                      # the lines left segments open
@@ -151,7 +152,7 @@ def test_fused_level_without_the_lines_on_a_repeated_solve(monkeypatch):
     monkeypatch.setattr(mb, "_coarse", lambda *a, **k: lines.append(1) or coarse(*a, **k))
     again = net.periodic(second, probes=probes)
     assert not lines                                  # straight to the fused level
-    fresh = _graded_chain(30).periodic(second, probes=probes)
+    fresh = graded_chain(30).periodic(second, probes=probes)
     assert lines
     scale = max(fresh.peak(p) - 25.0 for p in probes)
     for p in probes:
