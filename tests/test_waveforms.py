@@ -373,6 +373,46 @@ def test_align_of_one_waveform_equals_the_general_path():
     assert cn._align_one(sliver) is None and align([sliver])[0].size == 3
     assert cn._align_one(as_piecewise(3.0)) is None
 
+
+def test_one_pulse_equals_the_vectorised_layout():
+    """A pulse train's period (one pulse from 0) is laid out on plain floats; the edges,
+    levels and slopes equal the vectorised layout bit for bit, ramps below the time
+    resolution and too-narrow pulses included (the same message).  Common practice, no
+    source."""
+    from pulsetherm.waveforms import pulses as pu
+    from pulsetherm.waveforms.canonical import TIME_RTOL
+
+    rng = np.random.default_rng(3)
+    compared = refused = 0
+    for _ in range(3000):
+        span = 10 ** rng.uniform(-6, 1)
+        tol = TIME_RTOL * span
+        width = span * rng.uniform(0, 1) if rng.integers(0, 5) else tol * rng.uniform(0.5, 2)
+        rise, fall = ([0.0, tol * rng.uniform(0, 1.5), span * rng.uniform(0, 0.2)]
+                      [rng.integers(0, 3)] for _ in range(2))
+        if width + 0.5 * (rise + fall) > span:
+            continue
+        peak = rng.uniform(0, 100)
+        args = dict(peak=peak, idle=rng.uniform(0, peak) * (rng.random() < 0.5), rise=rise,
+                    fall=fall, span=span)
+        try:
+            want = pu._pulses(np.zeros(1), np.array([span]), np.array([width]), **args)
+        except WaveformError as exc:
+            with pytest.raises(WaveformError) as got:
+                pu._one_pulse(span, width, **args)
+            assert str(got.value) == str(exc)
+            refused += 1
+            continue
+        got = pu._one_pulse(span, width, **args)
+        for a, b in ((got.edges, want.edges), (got.level, want.level),
+                     (got.slope, want.slope)):
+            np.testing.assert_array_equal(a, b)
+        compared += 1
+    assert compared > 1000 and refused > 50
+    tr = PulseTrain(peak=120.0, width=1e-4, period=1e-3, rise=1e-6, fall=2e-6)
+    np.testing.assert_array_equal(tr.compile().edges,
+                                  [0.0, 1e-6, 1e-6 + (1e-4 - 1.5e-6), 1e-4 + 1.5e-6, 1e-3])
+
 def test_burst_refuses_an_unbounded_pulse_count():
     """A burst of 10^8 pulses used to be built in memory (the process was killed); it is
     refused by name instead.  Common practice, no source."""

@@ -58,6 +58,14 @@ def pulse_segments(starts: np.ndarray, ends: np.ndarray, widths: np.ndarray, *, 
         Periodic, at most ``4 n`` segments.  Callers validate that every pulse fits its
         interval (``widths + (rise + fall)/2 <= ends - starts``) beforehand.
     """
+    if starts.size == 1 and starts[0] == 0.0:
+        return _one_pulse(float(ends[0]), float(widths[0]), peak, idle, rise, fall, span)
+    return _pulses(starts, ends, widths, peak=peak, idle=idle, rise=rise, fall=fall, span=span)
+
+
+def _pulses(starts: np.ndarray, ends: np.ndarray, widths: np.ndarray, *, peak: float,
+            idle: float, rise: float, fall: float, span: float) -> Piecewise:
+    """:func:`pulse_segments` for any number of pulses (vectorised)."""
     n = starts.size
     half = 0.5 * (rise + fall)
     flat = widths - half
@@ -114,6 +122,46 @@ def pulse_segments(starts: np.ndarray, ends: np.ndarray, widths: np.ndarray, *, 
             s[out] = np.nextafter(s[out], 0.0)
         slope[ramp] = s
     return merge_segments(Piecewise(edges, level, slope, True))
+
+
+def _one_pulse(end: float, width: float, peak: float, idle: float, rise: float, fall: float,
+               span: float) -> Piecewise:
+    """:func:`pulse_segments` of one pulse starting at 0 (a pulse train's period), with
+    the same operations on plain floats (numpy's per-call cost dominates at n = 1)."""
+    half = 0.5 * (rise + fall)
+    flat = width - half
+    off = end - width - half
+    tol = TIME_RTOL * span
+    if width <= tol:
+        raise WaveformError(
+            f"pulse width {width!r} s is below the time resolution {tol!r} s of a "
+            f"{span!r} s period (relative {TIME_RTOL}); expected a wider pulse or a "
+            "shorter period")
+    starts = [0.0, rise, rise + flat, rise + flat + fall]
+    if 0 < rise <= tol:
+        starts[1] -= 0.5 * rise
+    if 0 < fall <= tol:
+        starts[3] -= 0.5 * fall
+    up = (peak - idle) / rise if rise > 0 else 0.0
+    down = (idle - peak) / fall if fall > 0 else 0.0
+    segs = [(k, st, lv, sl) for k, (length, st, lv, sl) in
+            enumerate(zip((rise, flat, fall, off), starts, (idle, peak, peak, idle),
+                          (up, 0.0, down, 0.0))) if length > tol]
+    edges = [st for _, st, _, _ in segs] + [span]
+    edges[0] = 0.0
+    level = [lv for _, _, lv, _ in segs]
+    slope = [sl for _, _, _, sl in segs]
+    for i, (k, _, lv, _) in enumerate(segs):
+        if k in (0, 2):              # a ramp: its slope from the edge spacing, nudged
+            w = edges[i + 1] - edges[i]
+            s = ((peak if k == 0 else idle) - lv) / w
+            for _ in range(4):
+                e = lv + s * w
+                if not (e > peak or e < idle):
+                    break
+                s = math.nextafter(s, 0.0)
+            slope[i] = s
+    return merge_segments(Piecewise(np.array(edges), np.array(level), np.array(slope), True))
 
 
 def _check_ramps(owner: str, rise: float, fall: float, widths: np.ndarray,
