@@ -12,6 +12,8 @@ source: two ways of computing the same quantity must agree).
 """
 from __future__ import annotations
 
+import math
+
 import numpy as np
 import pytest
 import scipy.linalg as sla
@@ -284,3 +286,89 @@ def test_chain_slowest_eigenvalues_against_sturm_bisection():
             lo, hi = (lo, mid) if below(mid) > j else (mid, hi)
         ref = (lo + hi) / 2
         assert abs(float((np.longdouble(solver.lam[j]) - ref) / ref)) < 1e-11, j
+
+
+# -- the refined extremes' root finder ---------------------------------------------------
+def _modal_slope(rng, modes=12):
+    """A closed-form slope f(x) = d0 + Σ a_i e^{−λ_i x} (+ ramp terms) with a sign change
+    on a bracket, as _refine builds it: (f1 returning f, f', rounding bound; a, b)."""
+    lam = 10 ** rng.uniform(1, 6, modes)
+    A = rng.normal(size=modes) * 10 ** rng.uniform(-2, 2, modes)
+    B = np.where(rng.random(modes) < 0.3, rng.normal(size=modes), 0.0)
+    d0 = float(rng.normal())
+
+    def f1(x):
+        tot, dtot, mag = d0, float(B.sum()), abs(d0)
+        for lm, ai, bi in zip(lam.tolist(), A.tolist(), B.tolist()):
+            y = lm * x
+            tm = ai * math.exp(-y) + (bi * (x * (-math.expm1(-y) / y)) if bi else 0.0)
+            tot += tm
+            dtot -= lm * tm
+            mag += abs(tm)
+        return tot, dtot, (modes + 1) * modal._EPS * mag
+
+    xs = np.sort(10 ** rng.uniform(-7, -2, 40))
+    fs = [f1(x)[0] for x in xs]
+    for i in range(xs.size - 1):
+        if fs[i] > 0 > fs[i + 1]:
+            return f1, float(xs[i]), float(xs[i + 1])
+    return None
+
+
+def test_hermite_start_and_rounding_stop_find_the_same_roots():
+    """The refinement's roots with the cubic Hermite start and the stop at the rounding
+    floor of f equal those of the plain safeguarded Newton (secant start, step
+    tolerance only) to 1e-12 of the bracket, on random modal slopes; the Hermite root of a
+    cubic is its root (Burden and Faires, Numerical Analysis, 9th ed., 2011, §3.4)."""
+    rng = np.random.default_rng(11)
+    found = 0
+    for _ in range(1000):
+        case = _modal_slope(rng)
+        if case is None:
+            continue
+        f1, a, b = case
+        fa, da, _ = f1(a)
+        fb, db, _ = f1(b)
+        xtol = (b - a) * 1e-14
+        plain = modal._rtsafe(lambda x: f1(x)[:2], a, b, fa, fb, xtol)
+        fast = modal._rtsafe(f1, a, b, fa, fb, xtol, noise=True,
+                             x0=modal._hermite_root(a, b, fa, fb, da, db))
+        assert a < fast < b and abs(fast - plain) <= 1e-12 * (b - a), (a, b)
+        found += 1
+    assert found > 200
+    # a cubic with a root at 0.3 in [0, 1]: its Hermite interpolant is itself
+    p = np.polynomial.Polynomial.fromroots([0.3, 2.0, -1.5])   # + at 0, − at 1
+    dp = p.deriv()
+    x = modal._hermite_root(0.0, 1.0, p(0.0), p(1.0), dp(0.0), dp(1.0))
+    assert abs(x - 0.3) < 1e-12
+
+
+def test_a_rounding_floor_does_not_send_the_refinement_bisecting(monkeypatch):
+    """The X-band example's pulse-width rows: a slope whose rounding floor (~1e-13 K/s)
+    lay above the step tolerance made the Newton steps stop halving, and the safeguard
+    bisected back from the far end of the bracket: 22-27 evaluations for one root at
+    these widths.  With the stop at the rounding floor every root takes at most 8.  Common practice, no
+    source."""
+    from pathlib import Path
+
+    from pulsetherm.network.scenario import load
+    from pulsetherm.network.simulate import probe_figures
+
+    counts = []
+    real = modal._rtsafe
+
+    def counted(fun, *args, **kw):
+        n = [0]
+
+        def f(x):
+            n[0] += 1
+            return fun(x)
+        out = real(f, *args, **kw)
+        counts.append(n[0])
+        return out
+
+    monkeypatch.setattr(modal, "_rtsafe", counted)
+    scn = load(Path(__file__).resolve().parents[1] / "examples" / "xband_gan_coldplate.toml")
+    for width in ("50.5 us", "63.5 us", "75.5 us", "85 us", "120.5 us"):   # 22-27 before
+        probe_figures(scn.with_value("waveforms.radar.width", width))
+    assert counts and max(counts) <= 8, counts
