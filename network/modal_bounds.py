@@ -39,7 +39,9 @@ enough) is cut at all its samples and at the graded offsets around every probe's
 samples, and every interval is bounded for every probe and both signs at once (probe rows
 of a few matrix products over the unique cut points).  Open intervals of a small level are
 then cut in quarters rather than halves (one level instead of two), larger levels in
-halves.
+halves; the convex ones that the fused level leaves open, when few, are cut in quarters by
+a second fused level (each interval once for all its open slots, the same matrix
+products), and only what stays open goes on to the search.
 
 This is interval bounding of a sum of monotone terms (common practice, no source); the
 monotone-term form follows from the modal solution (Carslaw and Jaeger, *Conduction of Heat
@@ -57,10 +59,12 @@ MAX_DEPTH = 60
 CHUNK_ELEMENTS = 1_000_000
 
 
-def _derivs(solver, q0s, s, lv, sl):
+def _derivs(solver, q0s, s, lv, sl, out=None):
     """q, q', q'' as one (3, modes, c) array at offsets s (c,) in segments with start
-    states q0s (one array: the interval ends are gathered and joined in one step each)."""
-    out = np.empty((3,) + q0s.shape)
+    states q0s (one array: the interval ends are gathered and joined in one step each);
+    written into ``out`` when given."""
+    if out is None:
+        out = np.empty((3,) + q0s.shape)
     solver._seg_states(q0s, s, lv, sl, out=out)
     return out
 
@@ -167,6 +171,55 @@ def _taylor_bound(th_a, th_b, d_a, d_b, c2a, c2b, M3, m3, w):
         ub = np.maximum(_cubic_max(th_a, d_a, 0.5 * c2a, M3 / 6.0, h),
                         _cubic_max(th_b, -d_b, 0.5 * c2b, -m3 / 6.0, h))
     return np.where(np.isnan(ub), np.inf, ub)
+
+
+#: The signs of the two Taylor expansions' odd terms (about the left end, the right end).
+_SIDES = np.array([1.0, -1.0])
+
+
+def _taylor_stacked(Va, Vb, S, w):
+    """:func:`_taylor_bound` with both expansions as one stack: ``Va``/``Vb`` (4, ...)
+    signed θ, θ', θ'' and Pp·λq'' (θ''' = −Pp·λq'') at the intervals' ends, ``S`` (3, ...)
+    the half-spreads of θ', θ'', θ''' over each interval (each modal term monotone, module
+    docstring), ``w`` the widths (broadcast).  nan where the bound fails."""
+    T = np.stack([Va, Vb])                                   # (2, 4, ...)
+    sd = _SIDES.reshape((2,) + (1,) * (T.ndim - 2))
+    t3_mid = -0.5 * (T[0, 3] + T[1, 3])
+    return _cubic_max(T[:, 0], T[:, 1] * sd, 0.5 * T[:, 2], (sd * t3_mid + S[2]) / 6.0,
+                      0.5 * w).max(axis=0)
+
+
+def _stacked_open(Va, Vb, S, w, bar, mask, lines_first):
+    """Which intervals stay open (within ``mask``, against ``bar``): the Taylor bounds
+    (:func:`_taylor_stacked`) and the lines with the curvature (:func:`_line_bound`), the
+    second only where the first fails (``lines_first``: the lines, cheaper, first).  The
+    arguments as :func:`_taylor_stacked`, their trailing shapes broadcast to the mask's.
+    Returns the open mask and K (the upper bound of θ'') at its open entries (None when
+    none is open)."""
+    if lines_first:
+        mid = 0.5 * (Va[1] + Vb[1])
+        c_mid = 0.5 * (Va[2] + Vb[2])
+        live = mask & (_line_bound(Va[0], Vb[0], mid + S[0], mid - S[0], w,
+                                   c_mid - S[1]) > bar)
+        if not live.any():
+            return live, None
+        K = (c_mid + S[1])[live]
+        ub = _taylor_stacked(Va[:, live], Vb[:, live], S[:, live],
+                             np.broadcast_to(w, live.shape)[live])
+        ok = ~(ub <= np.broadcast_to(bar, live.shape)[live])           # nan: open
+        live[live] = ok
+        return live, K[ok]
+    live = mask & ~(_taylor_stacked(Va, Vb, S, w) <= bar)
+    if not live.any():
+        return live, None
+    bar = np.broadcast_to(bar, live.shape)[live]
+    w = np.broadcast_to(w, live.shape)[live]
+    Vl, Wl, Sl = Va[:, live], Vb[:, live], S[:, live]
+    mid = 0.5 * (Vl[1] + Wl[1])
+    c_mid = 0.5 * (Vl[2] + Wl[2])
+    ok = _line_bound(Vl[0], Wl[0], mid + Sl[0], mid - Sl[0], w, c_mid - Sl[1]) > bar
+    live[live] = ok
+    return live, (c_mid + Sl[1])[ok]
 
 
 def _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol, lines_only=False):
@@ -282,9 +335,11 @@ def _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol, t_be
     before the bounds are compared; ``open_`` (2p, N) marks the (slot, segment) pairs that
     the whole-segment bounds leave open (the others are cleared) and ``segs`` the segments
     to cut (None: all).  Returns the intervals left open as candidates (ck, cj, sg, slot,
-    sa, sb, ia, ib, E, d_a, d_b, K), or None: their end states are E[:, :, ia] and
-    E[:, :, ib] (E holds q, q', q'' at every cut point; gathered by the caller a pass at a
-    time)."""
+    sa, sb, ia, ib, E, d_a, d_b, K), then the cut points' segments and offsets and G
+    (q, q', q'', λq'' at every cut point), or None: the candidates' end states are
+    E[:, :, ia] and E[:, :, ib] (E = G[:3]; gathered by the caller a pass at a time).  The
+    bounds are the Taylor and line bounds of :func:`_stacked_open` (the lines first: they
+    clear most intervals of a level this wide)."""
     N = edges.size - 1
     p = Pp.shape[0]
     h = edges[1:] - edges[:-1]
@@ -322,12 +377,15 @@ def _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol, t_be
     keep[1:] = (seg[1:] != seg[:-1]) | (off[1:] != off[:-1])
     seg, off, new = seg[keep], off[keep], new[keep]
     lv, sl = level[seg], slope[seg]
-    E = _derivs(solver, starts[:, seg], off, lv, sl)
-    q, dq, cq = E
-    th = Pp @ q + Dp @ (lv + off[:, None] * sl).T         # (p, points)
-    dsl = Dp @ sl.T
-    d1 = Pp @ dq + dsl
-    c2 = Pp @ cq
+    q0s = starts[:, seg]
+    G = np.empty((4,) + q0s.shape)                        # q, q', q'', λq'' at the points
+    E = _derivs(solver, q0s, off, lv, sl, out=G[:3])
+    np.multiply(lam, G[2], out=G[3])
+    V = np.matmul(Pp, G)                                  # (4, p, points)
+    if Dp.any():
+        V[0] += Dp @ (lv + off[:, None] * sl).T
+        V[1] += Dp @ sl.T
+    th = V[0]
     if new.any():                                         # the graded cuts: exact values
         gi = np.flatnonzero(new)
         vals = np.concatenate([th[:, gi], -th[:, gi]])    # (2p, cuts)
@@ -337,37 +395,81 @@ def _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol, t_be
             np.maximum(best, np.where(gain, vals, -np.inf).max(axis=1), out=best)
     ia = np.flatnonzero(seg[1:] == seg[:-1])
     ib = ia + 1
-    aP = np.abs(Pp)
-    spread = 0.5 * (aP @ np.abs(dq[:, ia] - dq[:, ib]))   # (p, intervals)
-    c_spread, t3_mid, t3_spread = _curvature_terms(Pp, aP, lam, cq[:, ia], cq[:, ib])
-
-    def both(x):
-        return np.concatenate([x, -x])
-
-    th_a, th_b, d_a, d_b = both(th[:, ia]), both(th[:, ib]), both(d1[:, ia]), both(d1[:, ib])
-    c2a, c2b = both(c2[:, ia]), both(c2[:, ib])
-    mid = 0.5 * (d_a + d_b)
-    spread = np.concatenate([spread, spread])
-    U, L = mid + spread, mid - spread
-    c_mid = 0.5 * (c2a + c2b)
-    c_spread = np.concatenate([c_spread, c_spread])
-    K, Kl = c_mid + c_spread, c_mid - c_spread
-    t3_mid = both(t3_mid)
-    t3_spread = np.concatenate([t3_spread, t3_spread])
-    M3, m3 = t3_mid + t3_spread, t3_mid - t3_spread
-    w = off[ib] - off[ia]
-    bar = best[:, None] + tol
-    live = open_[:, seg[ia]] & (_line_bound(th_a, th_b, U, L, w[None, :], Kl) > bar)
-    if live.any():
-        r, c = np.nonzero(live)
-        live[r, c] = _taylor_bound(th_a[r, c], th_b[r, c], d_a[r, c], d_b[r, c], c2a[r, c],
-                                   c2b[r, c], M3[r, c], m3[r, c], w[c]) > bar[r, 0]
-    if not live.any():
+    VV = np.concatenate([V, -V], axis=1)                  # both signs: (4, 2p, points)
+    S = 0.5 * np.matmul(np.abs(Pp), np.abs(G[1:, :, ia] - G[1:, :, ib]))
+    live, K = _stacked_open(VV[:, :, ia], VV[:, :, ib], np.concatenate([S, S], axis=1),
+                            off[ib] - off[ia], best[:, None] + tol, open_[:, seg[ia]], True)
+    if K is None or not live.any():
         return None
     slot, c = np.nonzero(live)
     a, b = ia[c], ib[c]
     return (seg[a], slot % p, np.where(slot < p, 1.0, -1.0), slot, off[a], off[b], a, b, E,
-            d_a[slot, c], d_b[slot, c], K[slot, c])
+            VV[1, slot, a], VV[1, slot, b], K, seg, off, G)
+
+
+def _fused_pieces(solver, edges, level, slope, starts, Pp, Dp, best, tol, record, first,
+                  rows, k):
+    """The second level after :func:`_fused_level`, fused the same way: the open intervals
+    ``rows`` of ``first`` (its candidates; none concave) are cut into ``k`` equal pieces,
+    each interval once for all its slots; the new points' states in one call, every probe's
+    θ, θ', θ'', Pp·λq'' at the pieces' ends and the half-spreads of θ', θ'', θ''' over each
+    piece by matrix products, bounded for the slots open on the parent (Taylor, then the
+    lines: :func:`_stacked_open`).  The new points are exact values: recorded, and they
+    raise the best, before the bounds are compared.  Returns False when some interval's
+    cut points are not distinct floats inside it (the caller takes the general path), None
+    when every piece clears, else the open pieces as candidates (ck, cj, sg, slot, sa, sb,
+    ends_a, ends_b, d_a, d_b, K)."""
+    slot, ia, seg_all, off_all, G0 = (first[i] for i in (3, 6, 12, 13, 14))
+    slot, ia = slot[rows], ia[rows]
+    mark = np.zeros(off_all.size, dtype=bool)
+    mark[ia] = True
+    u = np.flatnonzero(mark)                               # the intervals, by left point
+    inv = (np.cumsum(mark) - 1)[ia]
+    seg = seg_all[u]
+    og = off_all[u, None] + (off_all[u + 1] - off_all[u])[:, None] * (np.arange(k + 1) / k)
+    og[:, k] = off_all[u + 1]
+    w = np.diff(og, axis=1)                                # (nu, k)
+    if not (w > 0).all():
+        return False
+    nu, nm, p = u.size, G0.shape[1], Pp.shape[0]
+    # states at every piece end: (4, modes, intervals, k + 1), the 4th row λ q''
+    G = np.empty((4, nm, nu, k + 1))
+    G[:, :, :, 0] = G0[:, :, u]
+    G[:, :, :, k] = G0[:, :, u + 1]
+    kr = np.repeat(seg, k - 1)
+    G[:3, :, :, 1:k] = _derivs(solver, starts[:, kr], og[:, 1:k].ravel(), level[kr],
+                               slope[kr]).reshape(3, nm, nu, k - 1)
+    np.multiply(solver.lam[:, None, None], G[2, :, :, 1:k], out=G[3, :, :, 1:k])
+    V = np.matmul(Pp, G.reshape(4, nm, nu * (k + 1))).reshape(4, p, nu, k + 1)
+    if Dp.any():
+        dl, ds = Dp @ level[seg].T, Dp @ slope[seg].T                  # (p, nu)
+        V[0] += dl[:, :, None] + ds[:, :, None] * og[None]
+        V[1] += ds[:, :, None]
+    th = V[0, :, :, 1:k].reshape(p, -1)                                # the new points
+    vals = np.concatenate([th, -th])
+    gain = vals > best[:, None] + tol
+    if gain.any():
+        record((edges[seg][:, None] + og[:, 1:k]).ravel(), th.T, gain.any(axis=0))
+        np.maximum(best, np.where(gain, vals, -np.inf).max(axis=1), out=best)
+    # half-spreads of q', q'', λq'' over each piece, mode by mode, then the probe rows
+    S = 0.5 * np.matmul(np.abs(Pp), np.abs(G[1:, :, :, 1:] - G[1:, :, :, :-1])
+                        .reshape(3, nm, nu * k)).reshape(3, p, nu, k)
+    VV = np.concatenate([V, -V], axis=1)                               # (4, 2p, nu, k + 1)
+    mask = np.zeros((2 * p, nu, 1), dtype=bool)
+    mask[slot, inv] = True                                             # open on the parent
+    live, K = _stacked_open(VV[..., :-1], VV[..., 1:], np.concatenate([S, S], axis=1), w,
+                            best[:, None, None] + tol, mask, False)
+    if K is None or not live.any():
+        return None
+    r, ui, j = np.nonzero(live)
+    return (seg[ui], r % p, np.where(r < p, 1.0, -1.0), r, og[ui, j], og[ui, j + 1],
+            G[:3, :, ui, j], G[:3, :, ui, j + 1], VV[1, r, ui, j], VV[1, r, ui, j + 1], K)
+
+
+#: Open intervals of the fused first level cut into pieces by a fused second level
+#: (:func:`_fused_pieces`) when modes x open intervals is at most SMALL_LEVEL (False: by
+#: the general search).
+FUSED_PIECES = True
 
 
 #: At most this many segments take the fused first level (:func:`_fused_level`); longer
@@ -531,7 +633,27 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
                              t_best, record_points, open_, segs)
         if first is None:
             return False
-        ck, cj, sg, slot, sa, sb, ia, ib, E, d_a, d_b, K = first
+        ck, cj, sg, slot, sa, sb, ia, ib, E, d_a, d_b, K = first[:12]
+        convex = ~(K <= 0)                          # as descend: nan is cut
+        if FUSED_PIECES and np.count_nonzero(convex) * nm <= SMALL_LEVEL:
+            # a small level: the concave intervals as descend has them (their roots), the
+            # others cut by the fused second level, its open pieces on to the search
+            rows = np.flatnonzero(convex)
+            kids = (_fused_pieces(solver, edges, level, slope, starts, Pp, Dp, best, tol,
+                                  record_points, first, rows, SPLIT_PIECES)
+                    if rows.size else None)
+            if kids is not False:
+                c = np.flatnonzero(~convex & (d_a > 0) & (d_b < 0))
+                if c.size:
+                    descend(ck[c], cj[c], sg[c], slot[c], sa[c], sb[c], E[:, :, ia[c]],
+                            E[:, :, ib[c]], d_a[c], d_b[c], K[c],
+                            np.ones(c.size, dtype=bool), MAX_DEPTH)
+                if kids is not None:
+                    depth = MAX_DEPTH - (SPLIT_PIECES.bit_length() - 1)
+                    kids = descend(*kids, np.ones(kids[0].size, dtype=bool), depth)
+                    if kids is not None:
+                        search(*kids)
+                return True
         for i in range(0, ck.size, chunk):          # passes bound the (modes, c) arrays
             part = slice(i, i + chunk)
             kids = descend(ck[part], cj[part], sg[part], slot[part], sa[part], sb[part],
