@@ -99,24 +99,27 @@ def _interval_bounds(Pj, dj, lv, sl, sa, sb, ends_a, ends_b, lam):
 def _line_bound(th_a, th_b, U, L, w, Kl=None):
     """Upper bound of θ on [0, w] from θ(0), θ(w), L ≤ θ' ≤ U and (when given) Kl ≤ θ''.
 
-    The slope bounds give two lines through the ends; the curvature bound gives the chord
-    plus a parabola: θ − (Kl/2)·x(x − w) is convex, so it lies under its chord, and
-    θ(x) ≤ θ(0) + m x + (−Kl/2)·x(w − x) with m the chord's slope (≤ max(θ(0), θ(w)) when
-    Kl ≥ 0).  The smaller bound is returned."""
-    with np.errstate(divide="ignore", invalid="ignore"):
-        x = np.minimum(np.maximum((th_b - th_a - L * w) / (U - L), 0.0), w)
-    ub = np.where(U <= 0, th_a, np.where(L >= 0, th_b, th_a + U * x))
+    The slope bounds give two lines through the ends, θ ≤ θ(0) + max(U, 0)·x and
+    θ ≤ θ(w) − min(L, 0)·(w − x) (slopes widened to 0: the same bound, one formula for
+    every sign); the curvature bound gives the chord plus a parabola: θ − (Kl/2)·x(x − w)
+    is convex, so it lies under its chord, and θ(x) ≤ θ(0) + m x + (−Kl/2)·x(w − x) with
+    m the chord's slope (≤ max(θ(0), θ(w)) when Kl ≥ 0).  The smaller bound is returned
+    (the lines alone where the parabola's overflows)."""
+    dth = th_b - th_a
     top = np.maximum(th_a, th_b)
-    ub = np.maximum(ub, top)
-    if Kl is None:
-        return ub
-    c = np.maximum(-0.5 * Kl, 0.0)                  # the parabola's weight, ≥ 0
+    Up, Ln = np.maximum(U, 0.0), np.minimum(L, 0.0)
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        m = (th_b - th_a) / w
-        xs = np.minimum(np.maximum(0.5 * w + m / (2.0 * c), 0.0), w)
-        ub2 = th_a + m * xs + c * xs * (w - xs)
-    ub2 = np.where((c > 0) & np.isfinite(ub2), np.maximum(ub2, top), top)
-    return np.minimum(ub, ub2)
+        # the lines' crossing, clipped into the interval (Up = Ln = 0: 0/0 → nan → 0)
+        x = np.fmin(np.fmax((dth - Ln * w) / (Up - Ln), 0.0), w)
+        ub = np.maximum(th_a + Up * x, top)
+        if Kl is None:
+            return ub
+        c = -0.5 * Kl                               # the parabola's weight where > 0
+        m = dth / w
+        xs = np.fmin(np.fmax(0.5 * w + m / (2.0 * c), 0.0), w)
+        ub2 = th_a + xs * (m + c * (w - xs))
+    # Kl ≥ 0 (convex): the larger end; a parabola's nan (overflow) leaves the lines
+    return np.fmin(ub, np.where(c > 0, np.maximum(ub2, top), top))
 
 
 def _curvature_terms(Pp, aP, lam, ca, cb):
@@ -138,12 +141,12 @@ def _cubic_max(A, B, C, D, h):
         sq = np.sqrt(np.fmax(C * C - 3.0 * D * B, 0.0))
         # stable roots of 3D x² + 2C x + B: with q = −(C + sign(C)·√disc), q/(3D) and B/q
         qq = -(C + np.copysign(sq, C))
-        # both roots (and −B/2C, the one root when D = 0), clipped into [0, h]
-        x = np.empty((4,) + qq.shape)
+        # both roots (when D = 0: q = −2C, and B/q = −B/2C is the one root), clipped
+        # into [0, h], and h
+        x = np.empty((3,) + qq.shape)
         np.divide(qq, 3.0 * D, out=x[0])
         np.divide(B, qq, out=x[1])
-        np.divide(B, -2.0 * C, out=x[2])
-        x[3] = h
+        x[2] = h
         np.fmin(np.fmax(x, 0.0, out=x), h, out=x)
         inner = (A + x * (B + x * (C + x * D))).max(axis=0)
         return np.maximum(A, inner)
@@ -496,7 +499,7 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
     p = Pp.shape[0]
     if N == 0 or p == 0 or v.size == 0:
         return t, v
-    scale = float(np.max(np.abs(v)))
+    scale = float(np.abs(v).max())
     tol = REL_TOL * scale if scale > 0 else 0.0
     h = edges[1:] - edges[:-1]
     nm = solver.lam.size
@@ -643,7 +646,8 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
                                   record_points, first, rows, SPLIT_PIECES)
                     if rows.size else None)
             if kids is not False:
-                c = np.flatnonzero(~convex & (d_a > 0) & (d_b < 0))
+                c = (np.flatnonzero(~convex & (d_a > 0) & (d_b < 0)) if rows.size < K.size
+                     else rows[:0])
                 if c.size:
                     descend(ck[c], cj[c], sg[c], slot[c], sa[c], sb[c], E[:, :, ia[c]],
                             E[:, :, ib[c]], d_a[c], d_b[c], K[c],
