@@ -288,6 +288,8 @@ def _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol, lines_onl
 #: maximum or minimum found by the refinement): graded intervals clear, or prove concave,
 #: in a level or two where halvings from the sample intervals would take ten.
 GRADED_CUTS = 10.0 ** -np.arange(1, 4)
+#: The graded cuts on both sides (before, after), as fractions of the segment.
+_GRADED_BOTH = np.concatenate([-GRADED_CUTS, GRADED_CUTS])
 
 
 def _sample_intervals(t, edges, ck, cj, sg, slot, t_best):
@@ -348,20 +350,20 @@ def _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol, t_be
     h = edges[1:] - edges[:-1]
     lam = solver.lam[:, None]
     # cut points (segment, offset): both ends, the samples strictly inside, the graded cuts
-    ks = np.searchsorted(edges, t, side="right") - 1
-    inner = (ks >= 0) & (ks < N)
-    inner[inner] = t[inner] > edges[ks[inner]]
-    ki = ks[inner]
+    kl = np.searchsorted(edges, t, side="left")
+    kr = np.searchsorted(edges, t, side="right")
+    inner = (kl == kr) & (kr >= 1) & (kr <= N)           # not on an edge, inside the span
+    ki = kr[inner] - 1
     si = np.minimum(t[inner] - edges[ki], h[ki])
     kb = np.minimum(np.maximum(np.searchsorted(edges, t_best, side="right") - 1, 0), N - 1)
     kb = np.concatenate([kb, np.maximum(kb - 1, 0)])       # a best at an edge: both sides
     tb = np.concatenate([t_best, t_best]) - edges[kb]
-    at = (tb >= 0.0) & (tb <= h[kb])
-    kb, tb = kb[at], tb[at]
-    g = h[kb][:, None] * GRADED_CUTS[None, :]
-    kg = np.repeat(kb, 2 * GRADED_CUTS.size)
-    sgc = np.concatenate([tb[:, None] - g, tb[:, None] + g], axis=1).ravel()
-    ing = (sgc > 0.0) & (sgc < h[kg])
+    hb = h[kb]
+    at = (tb >= 0.0) & (tb <= hb)
+    kb, tb, hb = kb[at], tb[at], hb[at]
+    sgc = (tb[:, None] + hb[:, None] * _GRADED_BOTH).ravel()
+    kg = np.repeat(kb, _GRADED_BOTH.size)
+    ing = (sgc > 0.0) & (sgc < np.repeat(hb, _GRADED_BOTH.size))
     kg, sgc = kg[ing], sgc[ing]
     if segs is None:
         segs = np.arange(N)
@@ -373,12 +375,12 @@ def _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol, t_be
     ns = segs.size
     seg = np.concatenate([segs, segs, ki, kg])
     off = np.concatenate([np.zeros(ns), h[segs], si, sgc])
-    new = np.concatenate([np.zeros(2 * ns + ki.size, dtype=bool), np.ones(kg.size, dtype=bool)])
-    order = np.lexsort((new, off, seg))                   # a sample before an equal cut
-    seg, off, new = seg[order], off[order], new[order]
+    # a stable sort: of equal points the first (a sample before a graded cut) is kept
+    order = np.lexsort((off, seg))
+    seg, off = seg[order], off[order]
     keep = np.ones(seg.size, dtype=bool)
     keep[1:] = (seg[1:] != seg[:-1]) | (off[1:] != off[:-1])
-    seg, off, new = seg[keep], off[keep], new[keep]
+    seg, off, new = seg[keep], off[keep], order[keep] >= 2 * ns + ki.size
     lv, sl = level[seg], slope[seg]
     q0s = starts[:, seg]
     G = np.empty((4,) + q0s.shape)                        # q, q', q'', λq'' at the points
@@ -389,16 +391,16 @@ def _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol, t_be
         V[0] += Dp @ (lv + off[:, None] * sl).T
         V[1] += Dp @ sl.T
     th = V[0]
+    VV = np.concatenate([V, -V], axis=1)                  # both signs: (4, 2p, points)
     if new.any():                                         # the graded cuts: exact values
         gi = np.flatnonzero(new)
-        vals = np.concatenate([th[:, gi], -th[:, gi]])    # (2p, cuts)
+        vals = VV[0][:, gi]                               # (2p, cuts)
         gain = vals > best[:, None] + tol
         if gain.any():
             record(edges[seg[gi]] + off[gi], th[:, gi].T, gain.any(axis=0))
             np.maximum(best, np.where(gain, vals, -np.inf).max(axis=1), out=best)
     ia = np.flatnonzero(seg[1:] == seg[:-1])
     ib = ia + 1
-    VV = np.concatenate([V, -V], axis=1)                  # both signs: (4, 2p, points)
     S = 0.5 * np.matmul(np.abs(Pp), np.abs(G[1:, :, ia] - G[1:, :, ib]))
     live, K = _stacked_open(VV[:, :, ia], VV[:, :, ib], np.concatenate([S, S], axis=1),
                             off[ib] - off[ia], best[:, None] + tol, open_[:, seg[ia]], True)
