@@ -421,7 +421,8 @@ def _fused_pieces(solver, edges, level, slope, starts, Pp, Dp, best, tol, record
     piece by matrix products, bounded for the slots open on the parent (Taylor, then the
     lines: :func:`_stacked_open`).  The new points are exact values: recorded, and they
     raise the best, before the bounds are compared.  Returns False when some interval's
-    cut points are not distinct floats inside it (the caller takes the general path), None
+    cut points are not distinct floats inside it, or the slots x pieces exceed
+    ``PIECES_ELEMENTS`` (every slot is bounded: the caller takes the general path), None
     when every piece clears, else the open pieces as candidates (ck, cj, sg, slot, sa, sb,
     ends_a, ends_b, d_a, d_b, K)."""
     slot, ia, seg_all, off_all, G0 = (first[i] for i in (3, 6, 12, 13, 14))
@@ -434,9 +435,9 @@ def _fused_pieces(solver, edges, level, slope, starts, Pp, Dp, best, tol, record
     og = off_all[u, None] + (off_all[u + 1] - off_all[u])[:, None] * (np.arange(k + 1) / k)
     og[:, k] = off_all[u + 1]
     w = np.diff(og, axis=1)                                # (nu, k)
-    if not (w > 0).all():
-        return False
     nu, nm, p = u.size, G0.shape[1], Pp.shape[0]
+    if 2 * p * nu * k > PIECES_ELEMENTS or not (w > 0).all():
+        return False
     # states at every piece end: (4, modes, intervals, k + 1), the 4th row λ q''
     G = np.empty((4, nm, nu, k + 1))
     G[:, :, :, 0] = G0[:, :, u]
@@ -475,6 +476,8 @@ def _fused_pieces(solver, edges, level, slope, starts, Pp, Dp, best, tol, record
 #: (:func:`_fused_pieces`) when modes x open intervals is at most SMALL_LEVEL (False: by
 #: the general search).
 FUSED_PIECES = True
+#: The fused second level's largest slots x pieces (its bounds cover every slot).
+PIECES_ELEMENTS = 50_000
 
 
 #: At most this many segments take the fused first level (:func:`_fused_level`); longer
@@ -640,7 +643,8 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
             return False
         ck, cj, sg, slot, sa, sb, ia, ib, E, d_a, d_b, K = first[:12]
         convex = ~(K <= 0)                          # as descend: nan is cut
-        if FUSED_PIECES and np.count_nonzero(convex) * nm <= SMALL_LEVEL:
+        n_convex = np.count_nonzero(convex)
+        if FUSED_PIECES and ck.size <= chunk and n_convex * nm <= SMALL_LEVEL:
             # a small level: the concave intervals as descend has them (their roots), the
             # others cut by the fused second level, its open pieces on to the search
             rows = np.flatnonzero(convex)

@@ -26,6 +26,7 @@ from tests.test_engine_properties import assert_same_extremes, random_net
 PULSE_A = Piecewise([0.0, 1e-4, 1e-3], [10.0, 0.0])
 PULSE_B = Piecewise([0.0, 2e-4, 1.5e-3], [4.0, 1.0], slope=[2e4, 0.0])
 PULSE_C = Piecewise([0.0, 3e-5, 4e-4, 5e-4], [6.0, 0.5, 0.0])      # levels only
+PULSE_D = Piecewise([0.0, 5e-5, 1e-3], [10.0, 0.0])
 
 
 def _solver(net: ThermalNetwork) -> modal.ModalSolver:
@@ -171,8 +172,7 @@ def _piece_cases():
     out = [(lambda n=n, seed=seed: random_net(n, seed), wf, None)
            for n, seed, wf in ((15, 1342382291, {"a": PULSE_A, "b": PULSE_B}),
                                (15, 955794088, {"a": PULSE_A, "b": PULSE_C}),
-                               (10, 1665772334, {"a": Piecewise([0.0, 5e-5, 1e-3], [10.0, 0.0]),
-                                                 "b": 0.0}),
+                               (10, 1665772334, {"a": PULSE_D, "b": 0.0}),
                                (13, 1969602794, {"a": PULSE_A, "b": PULSE_B}))]
     out += [(lambda: graded_chain(20), {"die": w}, None) for w in chain_waves]
     return out + [_cases()[8], _cases()[11]]
@@ -226,7 +226,8 @@ def test_fused_pieces_on_the_xband_pulse_width_rows(monkeypatch):
     seen = []
     pieces = mb._fused_pieces
     monkeypatch.setattr(mb, "_fused_pieces", lambda *a: seen.append(pieces(*a)) or seen[-1])
-    scn = load(Path(__file__).resolve().parents[1] / "examples" / "xband_gan_coldplate.toml")
+    examples = Path(__file__).resolve().parents[1] / "examples"
+    scn = load(examples / "xband_gan_coldplate.toml")
     for width in ("50.5 us", "77.3 us", "120.5 us", "149.9 us"):
         row = scn.with_value("waveforms.radar.width", width)
         monkeypatch.setattr(mb, "FUSED_PIECES", True)
@@ -239,3 +240,20 @@ def test_fused_pieces_on_the_xband_pulse_width_rows(monkeypatch):
         for p in gen.probes:
             assert abs(res.peak(p) - gen.peak(p)) <= 1e-10 * scale, (width, p)
             assert abs(res.min(p) - gen.min(p)) <= 1e-10 * scale, (width, p)
+
+
+def test_fused_pieces_declined_takes_the_general_search(monkeypatch):
+    """When the fused second level declines (slots x pieces over ``PIECES_ELEMENTS``, here
+    0), the open intervals go to the general search with nothing lost: the same certified
+    extremes as the fused second level, refinement off (common practice, no source)."""
+    make, wf, probes = _piece_cases()[4]
+    monkeypatch.setattr(modal.ModalSolver, "_refine", lambda self, t, v, *a, **k: (t, v))
+    probes = probes or make().nodes
+    fused = make().periodic(wf, probes=probes)
+    seen = []
+    pieces = mb._fused_pieces
+    monkeypatch.setattr(mb, "_fused_pieces", lambda *a: seen.append(pieces(*a)) or seen[-1])
+    monkeypatch.setattr(mb, "PIECES_ELEMENTS", 0)
+    declined = make().periodic(wf, probes=probes)
+    assert seen and all(x is False for x in seen)
+    assert_same_extremes(declined, fused, probes)
