@@ -338,13 +338,14 @@ def _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol, t_be
     (probe rows of matrix products over the unique cut points, instead of one column per
     candidate).  The graded cuts are exact values: they are recorded, and raise the best,
     before the bounds are compared; ``open_`` (2p, N) marks the (slot, segment) pairs that
-    the whole-segment bounds leave open (the others are cleared) and ``segs`` the segments
-    to cut (None: all).  Returns the intervals left open as candidates (ck, cj, sg, slot,
-    sa, sb, ia, ib, E, d_a, d_b, K), then the cut points' segments and offsets and G
-    (q, q', q'', λq'' at every cut point), or None: the candidates' end states are
-    E[:, :, ia] and E[:, :, ib] (E = G[:3]; gathered by the caller a pass at a time).  The
-    bounds are the Taylor and line bounds of :func:`_stacked_open` (the lines first: they
-    clear most intervals of a level this wide)."""
+    the whole-segment bounds leave open (the others are cleared; None: all open) and
+    ``segs`` the segments to cut (None: all).  Returns the intervals left open as
+    candidates (ck, cj, sg, slot, sa, sb, ia, ib, E, d_a, d_b, K), then the cut points'
+    segments and offsets and G (q, q', q'', λq'' at every cut point), or None: the
+    candidates' end states are E[:, :, ia] and E[:, :, ib] (E = G[:3]; gathered by the
+    caller a pass at a time).  The bounds are the Taylor and line bounds of
+    :func:`_stacked_open` (the lines first: they clear most intervals of a level this
+    wide)."""
     N = edges.size - 1
     p = Pp.shape[0]
     h = edges[1:] - edges[:-1]
@@ -403,7 +404,8 @@ def _fused_level(solver, t, edges, level, slope, starts, Pp, Dp, best, tol, t_be
     ib = ia + 1
     S = 0.5 * np.matmul(np.abs(Pp), np.abs(G[1:, :, ia] - G[1:, :, ib]))
     live, K = _stacked_open(VV[:, :, ia], VV[:, :, ib], np.concatenate([S, S], axis=1),
-                            off[ib] - off[ia], best[:, None] + tol, open_[:, seg[ia]], True)
+                            off[ib] - off[ia], best[:, None] + tol,
+                            True if open_ is None else open_[:, seg[ia]], True)
     if K is None or not live.any():
         return None
     slot, c = np.nonzero(live)
@@ -431,9 +433,9 @@ def _fused_pieces(solver, edges, level, slope, starts, Pp, Dp, best, tol, record
     mark[ia] = True
     u = np.flatnonzero(mark)                               # the intervals, by left point
     inv = (np.cumsum(mark) - 1)[ia]
-    seg = seg_all[u]
-    og = off_all[u, None] + (off_all[u + 1] - off_all[u])[:, None] * (np.arange(k + 1) / k)
-    og[:, k] = off_all[u + 1]
+    seg, oa, ob = seg_all[u], off_all[u], off_all[u + 1]
+    og = oa[:, None] + (ob - oa)[:, None] * (np.arange(k + 1) / k)
+    og[:, k] = ob
     w = np.diff(og, axis=1)                                # (nu, k)
     nu, nm, p = u.size, G0.shape[1], Pp.shape[0]
     if 2 * p * nu * k > PIECES_ELEMENTS or not (w > 0).all():
@@ -682,7 +684,7 @@ def certify(solver, t, v, edges, level, slope, starts, Pp, Dp, newton, q_end=Non
         key = Pp.tobytes()
         hint = getattr(solver, "_lines_open", None)
         if hint is not None and hint[0] == key and hint[1]:
-            open_ = np.ones((2 * p, N), dtype=bool)
+            open_ = None                        # every slot of every segment open
         else:
             open_ = _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol,
                             lines_only=True)
