@@ -1002,22 +1002,30 @@ def _run_with_parent(ctx: Any, warm: tuple[Any, Any], chunks: Iterator[list], ot
 
     procs, flight, lost = [], {}, []
 
+    def dead(conn: Any) -> None:
+        """That worker died (killed, out of memory): its chunks in flight are lost."""
+        lost.extend(flight.pop(conn))
+        conn.close()
+
     def hand(conn: Any, chunk: list | None) -> None:
         if chunk is not None:
             flight[conn].append(chunk)
-            conn.send(chunk)
+            try:
+                conn.send(chunk)
+            except OSError:
+                dead(conn)
 
     def collect(timeout: float | None) -> None:
         for conn in ready([c for c, q in flight.items() if q], timeout):
             try:
                 got = conn.recv()
-                flight[conn].popleft()
-                for row in got:
-                    finish(row)
-                hand(conn, None if lost else next(chunks, None))
-            except (EOFError, OSError):      # that worker died (killed, out of memory)
-                lost.extend(flight.pop(conn))
-                conn.close()
+            except (EOFError, OSError):
+                dead(conn)
+                continue
+            flight[conn].popleft()
+            for row in got:             # an error writing a row is not a worker's death
+                finish(row)
+            hand(conn, None if lost else next(chunks, None))
 
     scn, cache = warm
     done = False

@@ -210,6 +210,34 @@ def test_a_dead_worker_beside_this_process_fails_its_row_only(scn, tmp_path, mon
     assert len(list(csv.DictReader(out.read_text().splitlines()))) == 12
 
 
+
+def test_a_failed_write_of_a_forked_workers_row_is_not_taken_for_its_death(scn, tmp_path,
+                                                                         monkeypatch):
+    """Writing a row that a forked worker sent fails (disk full): the error reaches the
+    caller, as it does for a row run here, instead of being taken for the worker's death
+    (its rows run again, the write error lost).  Common practice, no source."""
+    import os
+
+    sw = _fork_only()
+    real_row, real_write = sw.run_row, sw._RowWriter.write
+    parent = os.getpid()
+
+    def tagged(scn_, values, key=None, cache=None):
+        row = real_row(scn_, values, key, cache)
+        row["pid"] = os.getpid()
+        return row
+
+    def full(self, row):
+        if row.get("pid") != parent:
+            raise OSError(28, "No space left on device")
+        return real_write(self, row)
+
+    monkeypatch.setattr(sw, "run_row", tagged)
+    monkeypatch.setattr(sw._RowWriter, "write", full)
+    plan = plan_sweep(scn, vary=["waveforms.p.width=50..150 us:12"])
+    with pytest.raises(OSError, match="No space left"):
+        run_sweep(plan, out=tmp_path / "rows.csv", workers=2)
+
 def test_dask_local_cluster_matches_serial(scn):
     distributed = pytest.importorskip("dask.distributed")
     plan = plan_sweep(scn, vary=["mount.sink.resistance=0.1..0.3 K/W:3"])
