@@ -67,15 +67,14 @@ import math
 import threading
 from collections import OrderedDict
 from dataclasses import dataclass, field
-from functools import cached_property
 from typing import Any, Callable, Mapping, Sequence
 
 import numpy as np
 
 from .materials import Material
 from .model import ThermalNetwork
-from .stackup import (AreaResistance, Assembly, Film, FixedBase, Layer, LumpedSink, Part,
-                      StackupError, resolve_material)
+from .stackup import (AreaResistance, Assembly, FixedBase, Layer, LumpedSink, Part, StackupError,
+                      resolve_material)
 
 __all__ = ["build", "BuiltModel", "NodeInfo", "LayerInfo", "ColumnInfo", "Grading",
            "grading", "FIDELITY", "frustum_sublayer", "sublayer_edges", "DEFAULT_ANGLE",
@@ -1230,27 +1229,11 @@ class _Profile:
         ends = np.cumsum([np.size(x) for x, _ in sets])[:-1]
         return list(zip(np.split(R, ends), np.split(dR, ends)))
 
-    def path(self, area: float, w0: float, l0: float,
-             plate: tuple[float, float] | None = None) -> tuple[float, float]:
-        """A w × l rectangle of ``area`` grown from the footprint w0 × l0 as a frustum
-        (both sides out by the same amount, capped by ``plate``, default the last run's):
-        node bookkeeping only."""
-        W, L = plate if plate is not None else self.plate
-        if area <= w0 * l0:
-            f = math.sqrt(area / (w0 * l0))
-            return w0 * f, l0 * f
-        s = 0.5 * (-(w0 + l0) + math.sqrt((w0 - l0) ** 2 + 4.0 * area))
-        w, l = w0 + s, l0 + s
-        if w > W:
-            w, l = W, min(area / W, L)
-        elif l > L:
-            w, l = min(area / L, W), L
-        return w, l
-
     def paths(self, areas: np.ndarray, w0: float, l0: float,
               plate: tuple[float, float] | None = None) -> tuple[np.ndarray, np.ndarray]:
-        """:meth:`path` of several areas (arrays w, l; the same arithmetic, element by
-        element)."""
+        """w × l rectangles of ``areas`` grown from the footprint w0 × l0 as frustums (both
+        sides out by the same amount, capped by ``plate``, default the last run's; one
+        plate, or arrays of one per area): node bookkeeping only."""
         W, L = plate if plate is not None else self.plate
         areas = np.asarray(areas, dtype=float)
         f = np.sqrt(areas / (w0 * l0))
@@ -1514,7 +1497,6 @@ def _cross_terms_uncached(a: float, b: float, b2: float,
     :mod:`pulsetherm.network.axisym` (tests/test_ladder_vs_rz.py): a flange of 0.1-3 mm
     on a board, split +11 to +21 %, coupled within 0.3 % of the refined mesh.
     """
-    from .spreading import _phi
     k0 = np.asarray(stacks[0][0], dtype=float)
     t0 = np.asarray(stacks[0][1], dtype=float)
     kr, tr = k0[:n_run], t0[:n_run]

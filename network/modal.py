@@ -1049,7 +1049,6 @@ class ModalSolver:
         Nper = int(periods)
         T = edges[-1]
         y = self.lam * T
-        E = np.exp(-y)
         one_m_E = -np.expm1(-y)
         q0 = self.q_from_state(initial)
         # one period from a zero start: its samples z(t) (absolute K), its end state r (the

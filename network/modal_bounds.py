@@ -231,7 +231,6 @@ def _coarse(solver, starts, q_end, level, slope, h, Pp, Dp, best, tol, lines_onl
     bound exceeds the best value (slot j: maximum of probe j, p + j: its minimum), or None;
     with ``lines_only`` the two slope lines alone, as a (2p, N) mask of the open ones."""
     lam = solver.lam[:, None]
-    N = h.size
     if q_end is None:
         q_end, _, _ = solver._seg_states(starts[:, -1:], h[-1:], level[-1:], slope[-1:])
         q_end = q_end[:, 0]

@@ -460,7 +460,7 @@ class ThermalNetwork:
         peak, minimum, period mean and ripple; warm-up time from ambient to
         ``warmup_fraction`` of the peak rise, per probe, when the solver provides it).
         """
-        from .result import Response, energy_of
+        from .result import Response
 
         warmup_fraction = _warmup_fraction("warmup_fraction", warmup_fraction)
         sys_ = self.system()

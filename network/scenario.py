@@ -1381,18 +1381,16 @@ class Scenario(_Section):
         scenario is validated like a loaded one."""
         try:
             new = _with_leaf(self, _path_parts(path), value, "")
+            if new is not None:
+                object.__setattr__(new, "source", self.source)
+                object.__setattr__(new, "allow_paths", self.allow_paths)
+                _check_table_paths(new)
         except ScenarioError as exc:
             raise exc.located(None, self.source) from None
         if new is None:             # not a plain key of a loaded table: the long way
             data = self.to_dict()
             set_path(data, path, value)
             return Scenario.from_dict(data, source=self.source, allow_paths=self.allow_paths)
-        object.__setattr__(new, "source", self.source)
-        object.__setattr__(new, "allow_paths", self.allow_paths)
-        try:
-            _check_table_paths(new)
-        except ScenarioError as exc:
-            raise exc.located(None, self.source) from None
         return new
 
     def get_value(self, path: str) -> Any:

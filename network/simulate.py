@@ -22,8 +22,8 @@ from typing import Any
 
 import numpy as np
 
-from .scenario import (KELVIN_OFFSET, LayerSpec, Quantity, Scenario, ScenarioError,
-                       WaveformSpec, _WAVE_FIELD, _join, parse_quantity)
+from .scenario import (LayerSpec, Quantity, Scenario, ScenarioError, WaveformSpec, _WAVE_FIELD,
+                       _join, parse_quantity)
 
 __all__ = ["build", "simulate", "ScenarioModel", "RunResult", "ProbeStats",
            "thermal_impedance", "ImpedanceResult", "CAUTION", "make_waveform"]
@@ -1052,8 +1052,8 @@ def simulate(scn: Scenario | ScenarioModel) -> RunResult:
 def probe_figures(scn: Scenario | ScenarioModel):
     """The periodic solve of a scenario and its probes' figures, without the warm-up time,
     layer budget and device-effect figures :func:`simulate` adds to them (what a sweep row
-    reads; sizing reads the device-effect limits too, so it runs :func:`simulate`).  Returns (model, periodic response, probe name ->
-    :class:`ProbeStats`)."""
+    reads; sizing reads the device-effect limits too, so it runs :func:`simulate`).
+    Returns (model, periodic response, probe name -> :class:`ProbeStats`)."""
     model = scn if isinstance(scn, ScenarioModel) else build(scn)
     s = model.scenario
     net = model.network

@@ -20,8 +20,8 @@ Workers are processes (``fork`` when the parent is single-threaded and already p
 one BLAS thread, else ``forkserver`` or ``spawn``; one BLAS thread each) or a Dask
 cluster (``scheduler=``, imported only then).  When forked workers run a waveform-only
 sweep, this process is one of them: it built the network for the first row and keeps
-working beside N-1 forked ones (:func:`_run_with_parent`).  This module imports no numpy at module level
-so that process workers can pin BLAS threads before numpy loads.
+working beside N-1 forked ones (:func:`_run_with_parent`).  This module imports no numpy
+at module level so that process workers can pin BLAS threads before numpy loads.
 """
 from __future__ import annotations
 
@@ -33,7 +33,6 @@ import json
 import math
 import os
 import random
-import re
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Callable, Iterable, Iterator, Sequence
@@ -101,7 +100,7 @@ def parse_range(text: str, kind: str, option: str,
         raise ScenarioError(option, text, f"one unit for both ends ({lo_unit!r} and {unit!r})")
     try:
         scale = UnitScale.of(unit, kind, option) if kind else UnitScale("", "", 0.0, 1.0)
-    except ScenarioError as exc:
+    except ScenarioError:
         from .scenario import QUANTITY_KINDS
 
         what = kind.replace("_", " ")
@@ -459,7 +458,6 @@ def _init_worker(base: dict[str, Any] | None = None, source: str | None = None,
             _BASE["scenario"], _BASE["cache"] = _PREWARM
 
 
-_NAME = re.compile(r"^[A-Za-z0-9_\-]+$")
 
 
 def with_values(scn: Scenario, values: dict[str, Any]) -> Scenario:

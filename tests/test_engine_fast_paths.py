@@ -347,8 +347,8 @@ def test_a_rounding_floor_does_not_send_the_refinement_bisecting(monkeypatch):
     """The X-band example's pulse-width rows: a slope whose rounding floor (~1e-13 K/s)
     lay above the step tolerance made the Newton steps stop halving, and the safeguard
     bisected back from the far end of the bracket: 22-27 evaluations for one root at
-    these widths.  With the stop at the rounding floor every root takes at most 8.  Common practice, no
-    source."""
+    these widths.  With the stop at the rounding floor every root takes at most 8.  Common
+    practice, no source."""
     from pathlib import Path
 
     from pulsetherm.network.scenario import load

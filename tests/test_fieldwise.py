@@ -7,7 +7,6 @@ import dataclasses
 import importlib
 
 import numpy as np
-import pytest
 
 from pulsetherm.waveforms.fieldwise import FieldMethods
 from pulsetherm_test_systems import dataclass_twin as _twin  # tests/_systems.py, by conftest

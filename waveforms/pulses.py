@@ -89,11 +89,7 @@ def _pulses(starts: np.ndarray, ends: np.ndarray, widths: np.ndarray, *, peak: f
     # A dropped ramp becomes a step at its midpoint, which keeps the pulse energy exact.
     tol = TIME_RTOL * span
     if np.any(widths <= tol):
-        i = int(np.flatnonzero(widths <= tol)[0])
-        raise WaveformError(
-            f"pulse width {float(widths[i])!r} s is below the time resolution {tol!r} s of a "
-            f"{span!r} s period (relative {TIME_RTOL}); expected a wider pulse or a "
-            "shorter period")
+        raise _too_narrow(float(widths[np.flatnonzero(widths <= tol)[0]]), tol, span)
     keep = lengths > tol
     if 0 < rise <= tol:
         offs[:, 1] -= 0.5 * rise
@@ -124,6 +120,13 @@ def _pulses(starts: np.ndarray, ends: np.ndarray, widths: np.ndarray, *, peak: f
     return merge_segments(Piecewise(edges, level, slope, True))
 
 
+def _too_narrow(width: float, tol: float, span: float) -> WaveformError:
+    """The error for a pulse no wider than the time resolution ``tol`` of its period."""
+    return WaveformError(
+        f"pulse width {width!r} s is below the time resolution {tol!r} s of a {span!r} s "
+        f"period (relative {TIME_RTOL}); expected a wider pulse or a shorter period")
+
+
 def _one_pulse(end: float, width: float, peak: float, idle: float, rise: float, fall: float,
                span: float) -> Piecewise:
     """:func:`pulse_segments` of one pulse starting at 0 (a pulse train's period), with
@@ -133,10 +136,7 @@ def _one_pulse(end: float, width: float, peak: float, idle: float, rise: float, 
     off = end - width - half
     tol = TIME_RTOL * span
     if width <= tol:
-        raise WaveformError(
-            f"pulse width {width!r} s is below the time resolution {tol!r} s of a "
-            f"{span!r} s period (relative {TIME_RTOL}); expected a wider pulse or a "
-            "shorter period")
+        raise _too_narrow(width, tol, span)
     starts = [0.0, rise, rise + flat, rise + flat + fall]
     if 0 < rise <= tol:
         starts[1] -= 0.5 * rise
