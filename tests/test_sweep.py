@@ -210,6 +210,25 @@ def test_a_dead_worker_beside_this_process_fails_its_row_only(scn, tmp_path, mon
     assert len(list(csv.DictReader(out.read_text().splitlines()))) == 12
 
 
+@pytest.mark.parametrize("rows, workers", [(0, 2), (1, 2), (7, 1), (399, 2), (5000, 2),
+                                           (1000, 8)])
+def test_tasks_shrink_to_single_rows_at_the_end(rows, workers):
+    """Guided self-scheduling (Polychronopoulos and Kuck, IEEE Trans. Computers C-36(12),
+    1987, with 8·workers in place of the workers): every row once, in order; each task
+    ⌈remaining/(8·workers)⌉ rows, 1 to 32; so the last 8·workers rows go one at a time."""
+    from pulsetherm.network.sweep import guided_chunks
+
+    todo = list(range(rows))
+    tasks = list(guided_chunks(todo, workers))
+    assert [r for t in tasks for r in t] == todo
+    left = rows
+    for t in tasks:
+        assert len(t) == max(1, min(32, -(-left // (8 * workers))))
+        left -= len(t)
+    sizes = [len(t) for t in tasks]
+    assert sizes == sorted(sizes, reverse=True)
+    assert sizes[-min(rows, 8 * workers):] == [1] * min(rows, 8 * workers)
+
 
 def test_a_failed_write_of_a_forked_workers_row_is_not_taken_for_its_death(scn, tmp_path,
                                                                          monkeypatch):

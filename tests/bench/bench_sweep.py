@@ -18,7 +18,10 @@ Each case runs with 1 worker (in this process) and 2 worker processes, ``--repea
 (``/proc/loadavg``) before each run are printed.  Every run uses values not seen before in
 this process (a shifted range), so no row is served from the caches of an earlier run.  A
 per-row split (scenario, network build or reuse, periodic solve, the rest) is printed for
-each case.  Run:
+each case.  At the end, per case, what 1 -> 2 workers can reach: the same 1-worker sweep
+in two independent processes at once against one alone (the machine's ceiling for this
+work), and the Amdahl bound that the first row (run before the fork) and the fork set.
+Run:
 
     OPENBLAS_NUM_THREADS=1 python -P tests/bench/bench_sweep.py [--rows N] [--repeat R]
 
@@ -32,6 +35,7 @@ import os
 import statistics
 import time
 from pathlib import Path
+from typing import Any
 
 os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
 
@@ -128,6 +132,73 @@ def machine_speedup() -> float:
     return serial / par
 
 
+def _alone_and_pair(case: str, rows: int, run: int, barrier: Any, out: Any) -> None:
+    """One 1-worker sweep of ``case`` in a fresh process (after a warm-up sweep), timed
+    from ``barrier`` (None: at once); its wall time goes to ``out``."""
+    scn = load(EXAMPLE)
+    run_sweep(plan_sweep(scn, vary=[axis(case, 20, 500 + run)]), workers=1)
+    plan = plan_sweep(scn, vary=[axis(case, rows, 600 + run)])
+    if barrier is not None:
+        barrier.wait()
+    t = time.perf_counter()
+    run_sweep(plan, workers=1)
+    out.put(time.perf_counter() - t)
+
+
+def work_ceiling(case: str, rows: int) -> float:
+    """The same 1-worker sweep in two independent (spawned) processes at once, against one
+    alone: the most two workers can get for this work on this machine now, with nothing
+    shared between them (the busy-loop check leaves out memory and cache traffic)."""
+    import multiprocessing as mp
+
+    ctx = mp.get_context("spawn")
+    q = ctx.Queue()
+    p = ctx.Process(target=_alone_and_pair, args=(case, rows, 0, None, q))
+    p.start()
+    alone = q.get()
+    p.join()
+    bar = ctx.Barrier(2)
+    ps = [ctx.Process(target=_alone_and_pair, args=(case, rows, k, bar, q)) for k in (1, 2)]
+    for p in ps:
+        p.start()
+    both = max(q.get(), q.get())
+    for p in ps:
+        p.join()
+    return 2 * alone / both
+
+
+def serial_bound(scn, case: str, rows: int) -> tuple[float, float, float]:
+    """(first-row seconds, fork seconds, bound): a waveform-only sweep on 2 workers runs its
+    first row (network build, eigendecomposition) here before it forks, so with a fork of
+    f seconds and the other rows split evenly at their 1-worker cost, 1 -> 2 workers is at
+    most (t1 + (n−1)r)/(t1 + f + (n−1)r/2) (Amdahl's law: G. M. Amdahl, "Validity of the
+    single processor approach to achieving large scale computing capabilities", AFIPS
+    1967).  Geometry rows build their own networks: t1 is one row like the others."""
+    path, unit, lo, hi, _ = CASES[case]
+    first = plan_sweep(scn, vary=[f"{path}={lo + (hi - lo) * 0.37:.9g} {unit}"])
+    t = time.perf_counter()
+    run_sweep(first, workers=1)
+    t1 = time.perf_counter() - t
+    plan = plan_sweep(scn, vary=[axis(case, rows, 700)])
+    t = time.perf_counter()
+    run_sweep(plan, workers=1)
+    whole = time.perf_counter() - t
+    r = max(whole - t1, 0.0) / max(rows - 1, 1)
+    forks = []
+    for _ in range(5):
+        t = time.perf_counter()
+        pid = os.fork()
+        if pid == 0:
+            os._exit(0)
+        forks.append(time.perf_counter() - t)
+        os.waitpid(pid, 0)
+    f = min(forks)
+    if case == "geometry":
+        t1 = r
+    n = rows
+    return t1, f, (t1 + (n - 1) * r) / (t1 + f + (n - 1) * r / 2)
+
+
 def main(rows: int = 400, repeat: int = 3) -> None:
     print(f"load average at start (/proc/loadavg): {loadavg()} ({os.cpu_count()} CPUs)")
     cal = machine_speedup()
@@ -180,6 +251,14 @@ def main(rows: int = 400, repeat: int = 3) -> None:
           "free core, from the CPU seconds per row: read it when the load is high)")
     cal2 = machine_speedup()
     print(f"machine check at end: {cal2:.2f}x for two independent busy loops")
+    print("what 1 -> 2 workers can reach, per case: the same sweep in two independent "
+          "processes at once (no work shared), and the bound the serial first row and the "
+          "fork set (Amdahl):")
+    for case in CASES:
+        ceiling = work_ceiling(case, rows)
+        t1, f, bound = serial_bound(scn, case, rows)
+        print(f"  {case:>14s}: two independent copies {ceiling:.2f}x; first row "
+              f"{t1 * 1e3:.1f} ms, fork {f * 1e3:.1f} ms -> at most {bound:.2f}x")
     print(f"load average at end (/proc/loadavg): {loadavg()}")
 
 
